@@ -1,0 +1,33 @@
+/**
+ * `index.json` of a batch: one entry per scenario file, failures included. Key figures
+ * are copied from the run summary (SI, dimensionless ratios); a figure not computed is
+ * null or absent, never 0.
+ */
+import type { RunClass } from './summary';
+
+export interface BatchIndexEntry {
+  /** the scenario file, as given on the command line or found under a path */
+  file: string;
+  /** the scenario's name (or the file name when the file could not be read) */
+  name: string;
+  kind: 'run' | 'sweep';
+  status: 'ok' | 'failed' | 'bad-input';
+  class?: RunClass | null;
+  /** the error message for a failed or bad-input entry */
+  error?: string | null;
+  enhancement?: number | null;
+  gain_over_static?: number | null;
+  ripple_rel?: number | null;
+  hops_per_s?: number | null;
+  /** the entry's result folder, relative to the batch folder */
+  folder?: string | null;
+}
+
+/** The whole index.json: an array of entries in the order the files were taken. */
+export type BatchIndex = BatchIndexEntry[];
+
+/** File names inside a batch folder. */
+export const BATCH_FILES = {
+  index: 'index.json',
+  indexHtml: 'index.html',
+} as const;

@@ -1,0 +1,55 @@
+/**
+ * `map.json` of a sweep: the grid of metrics and classes, with the curves drawn on
+ * stability maps. Arrays over points are flattened row-major over the axes (the last
+ * axis varies fastest). Values are SI; a point not finished or failed holds null.
+ */
+import type { RunClass } from './summary';
+
+export interface MapAxis {
+  key: string;
+  values: number[];
+  scale: 'linear' | 'log';
+}
+
+/** One point of a boundary curve: for a frequency, the amplitude found (null where none). */
+export interface CurvePoint {
+  frequency_Hz: number;
+  amplitude_m: number | null;
+}
+
+export interface OperatingPoint {
+  index: number;
+  axes: Record<string, number>;
+  amplitude_m: number;
+  frequency_Hz: number;
+  voltage_V: number | null;
+  stroke_m: number;
+  reason: string;
+}
+
+export interface SweepMap {
+  version: number;
+  name: string;
+  scenario_sha256: string;
+  axes: MapAxis[];
+  total_points: number;
+  finished_points: number;
+  failed_points: number;
+  /** metric name -> value per point (e.g. enhancement, ripple_rel, hops_per_s, gain_over_static) */
+  metrics: Record<string, (number | null)[]>;
+  classes: (RunClass | null)[];
+  class_reasons: (string | null)[];
+  /** present when the axes include drive.amplitude and drive.frequency */
+  amplitude_key: string | null;
+  frequency_key: string | null;
+  /** for each frequency, the smallest amplitude at which hops appear */
+  onset_curve: CurvePoint[] | null;
+  /** for each frequency, the smallest amplitude that is decoupled */
+  decoupling_boundary: CurvePoint[] | null;
+  /** the analytic rule A = v_c / (2 pi f) */
+  critical_curve: CurvePoint[] | null;
+  /** per point: whether the scenario's actuator can deliver it (null without an actuator) */
+  reachable: boolean[] | null;
+  recommended: OperatingPoint | null;
+  recommended_reason: string;
+}

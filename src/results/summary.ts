@@ -1,0 +1,152 @@
+/**
+ * The shape of the result files (CONTRACT.md): `summary.json` of one run and the
+ * per-point lines of a sweep. Keys are snake_case with the unit last; values are SI.
+ * A value the engine could not compute is null, never a made-up number.
+ */
+
+export const RESULT_VERSION = 1;
+
+export type RunClass = 'decoupled' | 'modulated' | 'hopping' | 'no-gain' | 'no-lasing' | 'numerical-failure';
+
+export const RUN_CLASSES: readonly RunClass[] = ['decoupled', 'modulated', 'hopping', 'no-gain', 'no-lasing', 'numerical-failure'];
+
+export interface MinMeanMax {
+  mean: number;
+  min: number;
+  max: number;
+}
+
+export interface ModeInfo {
+  /** mode number relative to the cold-cavity mode nearest the gain peak */
+  index: number;
+  frequency_Hz: number;
+  /** detuning from the gain peak */
+  detuning_Hz: number;
+  /** gain line shape at the mode, 1 at the peak (f_m) */
+  gain_rel: number;
+}
+
+export interface BeamInfo {
+  laser_stable: boolean;
+  laser_g1g2: number;
+  external_stable: boolean;
+  external_g2g3: number;
+  radius_at_M1_m: number | null;
+  radius_at_M2_m: number | null;
+  radius_at_M3_m: number | null;
+  /** waist in the gap (between M2 and M3) of the beam the laser sends out, if there is one */
+  gap_waist_m: number | null;
+  gap_waist_position_m: number | null;
+  /** peak intensity at the gap waist per watt of one-way circulating power, W/m^2 per W */
+  peak_intensity_per_W_m2: number | null;
+  notes: string[];
+}
+
+export interface Derived {
+  fsr_laser_Hz: number;
+  fsr_external_Hz: number;
+  roundtrip_laser_s: number;
+  roundtrip_external_s: number;
+  finesse_external: number;
+  linewidth_external_Hz: number;
+  photon_lifetime_s: number;
+  photon_decay_rate_per_s: number;
+  feedback_efficiency: number;
+  roundtrip_efficiency: number;
+  feedback_efficiency_source: 'geometry' | 'scenario';
+  roundtrip_efficiency_source: 'geometry' | 'scenario';
+  incoherent_enhancement: number;
+  laser_class: 'A' | 'B';
+  modes: ModeInfo[];
+  beams: BeamInfo;
+  free_running_estimate_W: number;
+}
+
+export interface Warning {
+  code: string;
+  message: string;
+}
+
+export interface StaticCurve {
+  /** mirror positions relative to the rest position, m, over half a wavelength */
+  position_m: number[];
+  external_up_W: number[];
+  external_down_W: number[];
+  laser_output_up_W: number[];
+  laser_output_down_W: number[];
+}
+
+export interface DrivenSummary {
+  external_mean_W: number;
+  external_std_W: number;
+  external_min_W: number;
+  external_max_W: number;
+  ripple_rel: number;
+  ripple_full_band_rel: number;
+  laser_output_mean_W: number;
+  laser_output_std_W: number;
+  laser_output_min_W: number;
+  laser_output_max_W: number;
+  laser_intracavity_mean_W: number;
+  enhancement: number;
+  gain_over_static: number | null;
+  gain_over_worst_static: number | null;
+  hops_per_s: number;
+  hops_per_period: number;
+  class: RunClass;
+  class_reason: string;
+  offsets: number;
+  offset_positions_m: number[];
+  external_mean_by_offset_W: { min: number; max: number; values: number[] };
+  mode_occupation: { index: number; fraction: number }[];
+  hop_phase_histogram: number[];
+  analysed_time_s: number;
+  settle_time_s: number;
+}
+
+export interface DriveSummary {
+  waveform: string;
+  amplitude_m: number;
+  frequency_Hz: number;
+  stroke_m: number;
+  peak_speed_m_s: number;
+  peak_acceleration_m_s2: number;
+  peak_doppler_Hz: number;
+  critical_speed_m_s: number | null;
+  critical_speed_landau_zener_m_s: number | null;
+  fraction_below_critical: number | null;
+  locking_half_width_Hz: number | null;
+}
+
+export interface RunSummary {
+  version: number;
+  tool_version: string;
+  name: string;
+  scenario: unknown;
+  scenario_sha256: string;
+  seed: number;
+  engine: string;
+  engine_reason: string;
+  status: 'ok' | 'numerical-failure';
+  message: string | null;
+  derived: Derived;
+  free_running: { intracavity_W: number; output_W: number; lasing_modes: number[]; mode_powers_W: number[] };
+  static: {
+    external_W: MinMeanMax;
+    laser_output_W: MinMeanMax;
+    intracavity_W: MinMeanMax;
+    hysteresis_rel: number;
+    positions: number;
+    converged: boolean;
+  } | null;
+  driven: DrivenSummary | null;
+  drive: DriveSummary;
+  power_balance: {
+    relative_error: number;
+    laser_relative_error: number;
+    external_relative_error: number;
+    interface_mismatch_rel: number;
+  } | null;
+  timing: { wall_s: number; steps: number; engine_steps_per_s: number; mode_steps_per_s: number };
+  warnings: Warning[];
+}
