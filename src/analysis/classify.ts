@@ -1,0 +1,90 @@
+/**
+ * One class per run from its metrics (MODEL.md section 4, CONTRACT.md `class`).
+ *
+ * Order of precedence (the first test that fires decides):
+ *   1. numerical-failure  the run's status says so (passed through with its message);
+ *   2. no-lasing          free-running one-way intracavity power < analysis.lasing_power;
+ *   3. hopping            hops per drive period > analysis.max_hops_per_period;
+ *   4. no-gain            gain over static < analysis.min_gain_over_static;
+ *   5. modulated          in-band ripple > analysis.ripple_limit;
+ *   6. decoupled          otherwise (enhanced, low ripple, no hops).
+ * A laser that does not lase has nothing else to judge; hops make the ripple and the mean
+ * meaningless for a user, so they come before gain; without gain the ripple is moot.
+ * Comparisons are strict: a value exactly at a threshold passes that test.
+ * A null hops-per-period (still mirror) skips the hop test; a null gain over static (no
+ * static reference) skips the gain test; the reason says so. A ripple that is not a
+ * finite number (mean external power not positive) counts as modulated.
+ */
+import type { RunClass } from '../results/summary';
+
+/** The metrics classifyRun reads (SI; ratios dimensionless). */
+export interface ClassMetrics {
+  /** 'numerical-failure' short-circuits everything (default 'ok') */
+  status?: 'ok' | 'numerical-failure';
+  /** the failure message, used as the reason */
+  message?: string | null;
+  /** free-running one-way intracavity power, W */
+  freeRunningIntracavity_W: number;
+  /** hops per drive period, null for a still mirror */
+  hopsPerPeriod: number | null;
+  /** mean external power / static mean, null without a static reference */
+  gainOverStatic: number | null;
+  /** in-band relative ripple (max - min) / mean */
+  rippleRel: number;
+}
+
+/** The thresholds, with the key names of the scenario's `analysis` section. */
+export interface ClassThresholds {
+  lasing_power: number;
+  max_hops_per_period: number;
+  min_gain_over_static: number;
+  ripple_limit: number;
+}
+
+export interface ClassResult {
+  class: RunClass;
+  reason: string;
+}
+
+/** Three significant digits, no trailing zeros ("0.23", "1.2e-7"). */
+function fmt(x: number): string {
+  if (!Number.isFinite(x)) return String(x);
+  if (x === 0) return '0';
+  const a = Math.abs(x);
+  if (a >= 1e-3 && a < 1e6) return String(Number(x.toPrecision(3)));
+  return x.toExponential(2).replace(/\.?0+e/, 'e').replace('e+', 'e');
+}
+
+/** The run's class and a reason in words with the numbers that decided it; see the file comment. */
+export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
+  if (m.status === 'numerical-failure') {
+    return { class: 'numerical-failure', reason: m.message !== undefined && m.message !== null && m.message !== '' ? m.message : 'numerical failure' };
+  }
+  const p = m.freeRunningIntracavity_W;
+  if (!(p >= t.lasing_power)) {
+    return { class: 'no-lasing', reason: `free-running intracavity power ${fmt(p)} W < lasing threshold ${fmt(t.lasing_power)} W` };
+  }
+  const passed: string[] = [`free-running intracavity power ${fmt(p)} W >= ${fmt(t.lasing_power)} W`];
+  if (m.hopsPerPeriod === null) {
+    passed.push('hop test skipped (still mirror)');
+  } else if (!(m.hopsPerPeriod <= t.max_hops_per_period)) {
+    return { class: 'hopping', reason: `hops per period ${fmt(m.hopsPerPeriod)} > limit ${fmt(t.max_hops_per_period)}` };
+  } else {
+    passed.push(`hops per period ${fmt(m.hopsPerPeriod)} <= limit ${fmt(t.max_hops_per_period)}`);
+  }
+  if (m.gainOverStatic === null) {
+    passed.push('gain test skipped (no static reference)');
+  } else if (!(m.gainOverStatic >= t.min_gain_over_static)) {
+    return { class: 'no-gain', reason: `gain over static ${fmt(m.gainOverStatic)} < minimum ${fmt(t.min_gain_over_static)}` };
+  } else {
+    passed.push(`gain over static ${fmt(m.gainOverStatic)} >= minimum ${fmt(t.min_gain_over_static)}`);
+  }
+  if (!Number.isFinite(m.rippleRel)) {
+    return { class: 'modulated', reason: `ripple undefined (${fmt(m.rippleRel)}; mean external power not positive)` };
+  }
+  if (m.rippleRel > t.ripple_limit) {
+    return { class: 'modulated', reason: `ripple ${fmt(m.rippleRel)} > limit ${fmt(t.ripple_limit)}` };
+  }
+  passed.push(`ripple ${fmt(m.rippleRel)} <= limit ${fmt(t.ripple_limit)}`);
+  return { class: 'decoupled', reason: passed.join('; ') };
+}

@@ -1,0 +1,196 @@
+/**
+ * The inverse question of MODEL.md section 5 on a stability map: which points an actuator
+ * can reach, and the cheapest reachable operating point that is decoupled with a margin.
+ *
+ * The map's arrays are flattened row-major over its axes, the last axis fastest
+ * (src/results/map.ts); the amplitude and frequency axes are found by key, in any order.
+ */
+import type { OperatingPoint, SweepMap } from '../results/map';
+import type { Scenario } from '../scenario/schema';
+import { actuatorSheet } from '../physics/actuator';
+import { strokePeakToPeak } from '../physics/drive';
+import { formatSI } from '../scenario/units';
+
+export const AMPLITUDE_KEY = 'drive.amplitude';
+export const FREQUENCY_KEY = 'drive.frequency';
+
+/** Row-major strides of the map's axes (last axis stride 1). */
+function strides(map: SweepMap): number[] {
+  const s = new Array<number>(map.axes.length);
+  let acc = 1;
+  for (let i = map.axes.length - 1; i >= 0; i--) {
+    s[i] = acc;
+    acc *= map.axes[i].values.length;
+  }
+  return s;
+}
+
+function pointCount(map: SweepMap): number {
+  return map.axes.reduce((n, a) => n * a.values.length, 1);
+}
+
+/** The value of every axis at a flat index. */
+function axisValues(map: SweepMap, st: number[], index: number): Record<string, number> {
+  const out: Record<string, number> = {};
+  map.axes.forEach((a, i) => {
+    out[a.key] = a.values[Math.floor(index / st[i]) % a.values.length];
+  });
+  return out;
+}
+
+/**
+ * The scenario at one map point, as far as the drive and actuator are concerned: axis
+ * values under `drive.` and `actuator.` replace the scenario's (copies, never mutation);
+ * other axes (laser, cavity) do not change what the actuator must deliver.
+ */
+function pointScenario(scenario: Scenario, values: Record<string, number>): Scenario {
+  const drive: Record<string, unknown> = { ...scenario.drive };
+  const act: Record<string, unknown> | undefined = scenario.actuator === undefined ? undefined : { ...scenario.actuator };
+  for (const [key, v] of Object.entries(values)) {
+    const [head, field, ...rest] = key.split('.');
+    if (rest.length > 0 || field === undefined) continue;
+    if (head === 'drive') drive[field] = v;
+    else if (head === 'actuator' && act !== undefined) act[field] = v;
+  }
+  return { ...scenario, drive: drive as Scenario['drive'], actuator: act as Scenario['actuator'] };
+}
+
+/**
+ * Per map point, whether the scenario's actuator can deliver the drive there (no limit of
+ * actuatorSheet exceeded: voltage, current, resonance margin, above resonance), the axes'
+ * drive and actuator values applied to the scenario. Axes the map lacks keep the
+ * scenario's values.
+ * @returns one boolean per point (flat, row-major), or null when the scenario has no actuator
+ */
+export function reachableMask(map: SweepMap, scenario: Scenario): boolean[] | null {
+  if (scenario.actuator === undefined) return null;
+  const st = strides(map);
+  const n = pointCount(map);
+  const mask = new Array<boolean>(n);
+  for (let i = 0; i < n; i++) mask[i] = actuatorSheet(pointScenario(scenario, axisValues(map, st, i))).ok;
+  return mask;
+}
+
+/** What recommendOperatingPoint returns: the two SweepMap fields of the same names. */
+export interface OperatingPointChoice {
+  recommended: OperatingPoint | null;
+  recommended_reason: string;
+}
+
+/**
+ * The cheapest operating point of a map: among points that are
+ *  - decoupled with a margin: class 'decoupled', and so is every existing grid neighbour
+ *    (index +-1) along the amplitude and the frequency axes (same values of the other axes);
+ *    a neighbour not finished or failed does not count as decoupled;
+ *  - reachable by the actuator (reachableMask; every point when there is no actuator),
+ * the one with the lowest peak drive voltage, or, without an actuator, the lowest
+ * peak-to-peak stroke; ties go to the lower frequency, then the lower index. Other axes are
+ * searched too and the best point over them is taken (the reason says so).
+ * @returns the point with a reason sentence, or null and a reason naming what was missing
+ */
+export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): OperatingPointChoice {
+  const ampKey = map.amplitude_key ?? AMPLITUDE_KEY;
+  const freqKey = map.frequency_key ?? FREQUENCY_KEY;
+  const ai = map.axes.findIndex((a) => a.key === ampKey);
+  const fi = map.axes.findIndex((a) => a.key === freqKey);
+  if (ai < 0 || fi < 0) {
+    return { recommended: null, recommended_reason: `no operating point: the map needs both ${ampKey} and ${freqKey} axes` };
+  }
+  const st = strides(map);
+  const n = pointCount(map);
+  const nA = map.axes[ai].values.length;
+  const nF = map.axes[fi].values.length;
+  const isDecoupled = (i: number) => map.classes[i] === 'decoupled';
+
+  const withMargin: number[] = [];
+  let decoupledCount = 0;
+  for (let i = 0; i < n; i++) {
+    if (!isDecoupled(i)) continue;
+    decoupledCount++;
+    const ka = Math.floor(i / st[ai]) % nA;
+    const kf = Math.floor(i / st[fi]) % nF;
+    const ok =
+      (ka === 0 || isDecoupled(i - st[ai])) &&
+      (ka === nA - 1 || isDecoupled(i + st[ai])) &&
+      (kf === 0 || isDecoupled(i - st[fi])) &&
+      (kf === nF - 1 || isDecoupled(i + st[fi]));
+    if (ok) withMargin.push(i);
+  }
+  if (decoupledCount === 0) {
+    return { recommended: null, recommended_reason: `no operating point: none of the ${n} map points is decoupled` };
+  }
+  if (withMargin.length === 0) {
+    return {
+      recommended: null,
+      recommended_reason: `no operating point: ${decoupledCount} point(s) are decoupled but none has decoupled neighbours in both amplitude and frequency (no margin)`,
+    };
+  }
+
+  const hasActuator = scenario.actuator !== undefined;
+  let best = -1;
+  let bestCost = Infinity;
+  let bestFreq = Infinity;
+  let bestVoltage: number | null = null;
+  let reachableCount = 0;
+  const refusals = new Map<string, number>();
+  for (const i of withMargin) {
+    const values = axisValues(map, st, i);
+    const s = pointScenario(scenario, values);
+    let cost: number;
+    let voltage: number | null = null;
+    if (hasActuator) {
+      const sheet = actuatorSheet(s);
+      if (!sheet.ok) {
+        for (const k of sheet.exceeded) refusals.set(k, (refusals.get(k) ?? 0) + 1);
+        continue;
+      }
+      voltage = sheet.actuator!.voltage_peak_V;
+      cost = voltage;
+    } else {
+      cost = strokePeakToPeak(s.drive);
+    }
+    reachableCount++;
+    const f = values[freqKey];
+    if (cost < bestCost || (cost === bestCost && f < bestFreq)) {
+      best = i;
+      bestCost = cost;
+      bestFreq = f;
+      bestVoltage = voltage;
+    }
+  }
+  if (best < 0) {
+    const why = [...refusals.entries()].map(([k, c]) => `${c} exceed ${k}`).join(', ');
+    return {
+      recommended: null,
+      recommended_reason: `no operating point: ${withMargin.length} point(s) are decoupled with a margin but the actuator reaches none of them (${why})`,
+    };
+  }
+
+  const values = axisValues(map, st, best);
+  const s = pointScenario(scenario, values);
+  const amplitude = values[ampKey];
+  const frequency = values[freqKey];
+  const stroke = strokePeakToPeak(s.drive);
+  const others = map.axes.filter((a, i) => i !== ai && i !== fi && a.values.length > 1);
+  const cheapest = hasActuator ? `lowest peak drive voltage (${formatSI(bestVoltage!, 'V', 3)})` : `smallest stroke (${formatSI(stroke, 'm', 3)} peak to peak; no actuator described)`;
+  let reason =
+    `${cheapest} at ${formatSI(amplitude, 'm', 3)} amplitude and ${formatSI(frequency, 'Hz', 3)}, ` +
+    `among ${reachableCount} point(s) that are decoupled with decoupled neighbours in amplitude and frequency` +
+    (hasActuator ? ' and that the actuator can reach' : '') +
+    ` (${decoupledCount} of ${n} points decoupled, ${withMargin.length} with a margin)`;
+  if (others.length > 0) {
+    reason += `; best over the other axes: ${others.map((a) => `${a.key} = ${values[a.key]}`).join(', ')}`;
+  }
+  return {
+    recommended: {
+      index: best,
+      axes: values,
+      amplitude_m: amplitude,
+      frequency_Hz: frequency,
+      voltage_V: bestVoltage,
+      stroke_m: stroke,
+      reason,
+    },
+    recommended_reason: reason,
+  };
+}
