@@ -1,0 +1,673 @@
+/**
+ * The exact round-trip (delay-line) engine of MODEL.md 3.1-3.3: a multimode rate-equation
+ * laser (mean field over laser round trips) driven by the field returning from an external
+ * cavity whose return mirror moves; the external cavity is a delay line of length
+ * tau(t) = 2 (L2 + x(t)) / c, with every order of multiple reflection kept.
+ *
+ *   dE_m/dt = 1/2 [(1 - i alpha) G_m - gamma_c] E_m + kappa b_m(t) + noise_m
+ *   dn_m/dt = [p f_m - n_m (1 + sum_k C_mk |E_k|^2 / P_sat)] / tau_N,  G_m = gamma_c n_m
+ *   a_m(t)  = t2 sqrt(eta_fb) E_m(t) - r2 b_m(t)
+ *   b_m(t)  = r3' a_m(t - tau(t)) exp(-i omega_m tau(t))
+ *
+ * Several independent copies ("lanes": static positions or drive rest offsets) advance in
+ * lockstep in one time loop; each lane has its own rest offset of the return mirror.
+ * The laser equations are stepped with classical RK4, the returned field at the stage
+ * times is read from the history of a_m by 4-point Lagrange interpolation (never newer
+ * than the newest sample), and spontaneous emission is added as a split step after each
+ * RK4 step, its energy booked exactly.
+ *
+ * Storage is structure-of-arrays over (lane, mode) = lane * M + m; the step loop
+ * allocates nothing.
+ */
+import { SPEED_OF_LIGHT_m_s } from '../constants';
+import type { CoupledParams } from './params';
+
+/** The return mirror's motion, shared by all lanes (each adds its own rest offset). */
+export interface MirrorMotion {
+  /** displacement from the rest position at time t, m */
+  position(t: number): number;
+  /** velocity at time t, m/s */
+  velocity(t: number): number;
+}
+
+/** Source of standard normal deviates (seeded, so runs repeat). */
+export interface NormalSource {
+  normal(): number;
+}
+
+/** Per-lane energy bookkeeping (MODEL.md 3.3), joules. */
+export interface LaneEnergy {
+  /** stored laser energy tau_L sum |E|^2 at the start of bookkeeping */
+  laserStart: number;
+  gain: number;
+  coldLoss: number;
+  injection: number;
+  noise: number;
+  /** stored external energy (delay-line content) at the start of bookkeeping */
+  externalStart: number;
+  externalIn: number;
+  externalLost: number;
+  /** integral of |a|^2 dt, the scale the external balance is judged against */
+  externalScale: number;
+  /** mean-field interface mismatch: integral of (exact - mean-field) power the laser receives */
+  mismatch: number;
+  /** integral of the power the laser puts into the external mode, eta T2 |E|^2 */
+  mismatchScale: number;
+}
+
+const FLUSH = 1e-150;
+
+export class ExactEngine {
+  readonly L: number;
+  readonly M: number;
+  readonly dt: number;
+  /** time, s */
+  t = 0;
+  readonly Er: Float64Array;
+  readonly Ei: Float64Array;
+  readonly N: Float64Array;
+  /** returned field b at the current time */
+  readonly br: Float64Array;
+  readonly bi: Float64Array;
+  /** field leaving M2 towards M3 at the current time (newest history sample) */
+  readonly ar: Float64Array;
+  readonly ai: Float64Array;
+  /** |a(t - tau)|^2 at the current time, for the loss booking */
+  readonly aDel2: Float64Array;
+  /** rest offset of the return mirror per lane, m */
+  readonly offset: Float64Array;
+  /** set when a non-finite value appeared */
+  failed = false;
+  failMessage = '';
+  readonly energy: LaneEnergy[];
+
+  private readonly cap: number;
+  private readonly mask: number;
+  private head = 0;
+  private readonly ringRe: Float64Array;
+  private readonly ringIm: Float64Array;
+  // RK4 scratch, one lane at a time
+  private readonly e0r: Float64Array;
+  private readonly e0i: Float64Array;
+  private readonly n0: Float64Array;
+  private readonly sr: Float64Array;
+  private readonly si: Float64Array;
+  private readonly sn: Float64Array;
+  private readonly accR: Float64Array;
+  private readonly accI: Float64Array;
+  private readonly accN: Float64Array;
+  private readonly kr: Float64Array;
+  private readonly ki: Float64Array;
+  private readonly kn: Float64Array;
+  private readonly bhr: Float64Array;
+  private readonly bhi: Float64Array;
+  private readonly b1r: Float64Array;
+  private readonly b1i: Float64Array;
+  private readonly ad1: Float64Array;
+  private readonly sat: Float64Array;
+  // stage powers of the last rhs call (gain, cold loss, injection work), W
+  private spGain = 0;
+  private spLoss = 0;
+  private spInj = 0;
+  // parameter copies as own fields: one object shape in the hot loop
+  private readonly kGamma: number;
+  private readonly kCross: Float64Array;
+  private readonly kInvPsat: number;
+  private readonly kKappa: number;
+  private readonly kAlpha: number;
+  private readonly kPumpF: Float64Array;
+  private readonly kInvTauN: number;
+  private readonly kClassA: boolean;
+  private readonly kCouple: number;
+  private readonly kR2: number;
+  private readonly kReturn: boolean;
+  /** 2 / (c dt): delay in samples per metre of external length */
+  private readonly delayPerMetre: number;
+  /** phase offsets between neighbouring modes (equal spacing), rad and rad/m */
+  private readonly dPhase0: number;
+  private readonly dPhasePerMetre: number;
+  private readonly uniformSpacing: boolean;
+  /** [c] when C_mk = c for every k != m (then saturation is O(M)), else null */
+  private readonly crossOff: Float64Array | null;
+  /** spontaneous emission is applied every noiseEvery steps */
+  readonly noiseEvery: number;
+  private noiseCount = 0;
+
+  /**
+   * @param p engine parameters
+   * @param lanes number of lanes
+   * @param dt time step, s (for the delay line: tau_E / substeps)
+   * @param motion the mirror motion shared by the lanes
+   * @param rng normal deviates for spontaneous emission
+   * @param maxExcursion_m bound on |offset + x(t)| over the run, sizes the history buffer
+   */
+  constructor(
+    readonly p: CoupledParams,
+    lanes: number,
+    dt: number,
+    readonly motion: MirrorMotion,
+    readonly rng: NormalSource,
+    maxExcursion_m: number,
+  ) {
+    this.L = lanes;
+    this.M = p.M;
+    this.dt = dt;
+    const LM = lanes * p.M;
+    this.Er = new Float64Array(LM);
+    this.Ei = new Float64Array(LM);
+    this.N = new Float64Array(LM);
+    this.br = new Float64Array(LM);
+    this.bi = new Float64Array(LM);
+    this.ar = new Float64Array(LM);
+    this.ai = new Float64Array(LM);
+    this.aDel2 = new Float64Array(LM);
+    this.offset = new Float64Array(lanes);
+    let cap = 8;
+    if (p.hasExternal) {
+      const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
+      if (!(maxDelay < 1e7)) throw new Error('external delay too long for the history buffer');
+      const minDelay = (2 * (p.externalLength_m - Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
+      if (minDelay < 1.5) throw new Error(`time step ${dt} s too long for the external delay (${minDelay.toFixed(2)} steps); use more substeps`);
+      while (cap < maxDelay + 6) cap *= 2;
+    }
+    this.cap = cap;
+    this.mask = cap - 1;
+    this.ringRe = new Float64Array(LM * cap);
+    this.ringIm = new Float64Array(LM * cap);
+    const M = p.M;
+    this.e0r = new Float64Array(M); this.e0i = new Float64Array(M); this.n0 = new Float64Array(M);
+    this.sr = new Float64Array(M); this.si = new Float64Array(M); this.sn = new Float64Array(M);
+    this.accR = new Float64Array(M); this.accI = new Float64Array(M); this.accN = new Float64Array(M);
+    this.kr = new Float64Array(M); this.ki = new Float64Array(M); this.kn = new Float64Array(M);
+    this.bhr = new Float64Array(M); this.bhi = new Float64Array(M);
+    this.b1r = new Float64Array(M); this.b1i = new Float64Array(M);
+    this.ad1 = new Float64Array(M);
+    this.sat = new Float64Array(M);
+    this.energy = [];
+    for (let l = 0; l < lanes; l++) this.energy.push(emptyEnergy());
+    this.delayPerMetre = 2 / SPEED_OF_LIGHT_m_s / dt;
+    this.kGamma = p.gammaC;
+    this.kCross = p.cross;
+    this.kInvPsat = p.invPsat;
+    this.kKappa = p.kappa;
+    this.kAlpha = p.alpha;
+    this.kPumpF = Float64Array.from(p.gainRel, (f) => p.pump * f);
+    this.kInvTauN = 1 / p.tauN;
+    this.kClassA = p.classA;
+    this.kCouple = p.couplingOut;
+    this.kR2 = p.r2;
+    this.kReturn = p.returnToLaser;
+    let uniform = M > 1;
+    for (let m = 1; m < M; m++) if (p.modes.order[m] - p.modes.order[m - 1] !== 1) uniform = false;
+    this.uniformSpacing = uniform;
+    this.dPhase0 = M > 1 ? p.extPhase0[1] - p.extPhase0[0] : 0;
+    this.dPhasePerMetre = M > 1 ? p.phasePerMetre[1] - p.phasePerMetre[0] : 0;
+    let offConst = true;
+    const c0 = M > 1 ? p.cross[1] : 0;
+    for (let m = 0; m < M; m++) for (let k = 0; k < M; k++) if (m !== k && p.cross[m * M + k] !== c0) offConst = false;
+    this.crossOff = offConst ? Float64Array.of(c0) : null;
+    this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
+  }
+
+  /** Set every lane's laser fields and inversions (length M each), external cavity empty. */
+  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
+    for (let l = 0; l < this.L; l++) {
+      for (let m = 0; m < this.M; m++) {
+        const j = l * this.M + m;
+        this.Er[j] = Er[m];
+        this.Ei[j] = Ei[m];
+        this.N[j] = N[m];
+      }
+    }
+    this.refreshOutgoing();
+  }
+
+  /** Copy the full state (laser, history, returned field) of lane `from` of `src` into lane `to`. */
+  copyLane(src: ExactEngine, from: number, to: number): void {
+    if (src.cap !== this.cap || src.M !== this.M) throw new Error('copyLane: engines differ in shape');
+    const M = this.M;
+    for (let m = 0; m < M; m++) {
+      const js = from * M + m;
+      const jd = to * M + m;
+      this.Er[jd] = src.Er[js]; this.Ei[jd] = src.Ei[js]; this.N[jd] = src.N[js];
+      this.br[jd] = src.br[js]; this.bi[jd] = src.bi[js];
+      this.ar[jd] = src.ar[js]; this.ai[jd] = src.ai[js];
+      this.aDel2[jd] = src.aDel2[js];
+      // align the ring so that src's newest sample becomes this engine's newest sample
+      for (let k = 0; k < this.cap; k++) {
+        const is = js * this.cap + ((src.head - k) & src.mask);
+        const id = jd * this.cap + ((this.head - k) & this.mask);
+        this.ringRe[id] = src.ringRe[is];
+        this.ringIm[id] = src.ringIm[is];
+      }
+    }
+  }
+
+  /** a = t2 sqrt(eta) E - r2 b for the newest sample (after a state change). */
+  private refreshOutgoing(): void {
+    const p = this.p;
+    for (let j = 0; j < this.L * this.M; j++) {
+      this.ar[j] = p.couplingOut * this.Er[j] - p.r2 * this.br[j];
+      this.ai[j] = p.couplingOut * this.Ei[j] - p.r2 * this.bi[j];
+      const base = j * this.cap + this.head;
+      this.ringRe[base] = this.ar[j];
+      this.ringIm[base] = this.ai[j];
+    }
+  }
+
+  /** Stored laser energy of a lane, tau_L sum |E|^2, J. */
+  laserEnergy(l: number): number {
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+    }
+    return s * this.p.roundTripLaser_s;
+  }
+
+  /**
+   * Stored external energy of a lane: the delay-line content sum_m integral over
+   * [t - tau, t] of |a_m|^2 (trapezoid over the history, fractional end interpolated), J.
+   */
+  externalEnergy(l: number): number {
+    if (!this.p.hasExternal) return 0;
+    const D = this.delaySamples(this.t, l);
+    const whole = Math.floor(D);
+    const frac = D - whole;
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      const base = j * this.cap;
+      let prev = 0;
+      for (let k = 0; k <= whole; k++) {
+        const i = base + ((this.head - k) & this.mask);
+        const v = this.ringRe[i] * this.ringRe[i] + this.ringIm[i] * this.ringIm[i];
+        if (k > 0) s += 0.5 * (v + prev);
+        prev = v;
+      }
+      if (frac > 0) {
+        const i = base + ((this.head - whole - 1) & this.mask);
+        const next = this.ringRe[i] * this.ringRe[i] + this.ringIm[i] * this.ringIm[i];
+        const vEnd = prev + (next - prev) * frac;
+        s += 0.5 * (prev + vEnd) * frac;
+      }
+    }
+    return s * this.dt;
+  }
+
+  /** Start the energy bookkeeping of every lane from the present state. */
+  resetEnergy(): void {
+    for (let l = 0; l < this.L; l++) {
+      const e = emptyEnergy();
+      e.laserStart = this.laserEnergy(l);
+      e.externalStart = this.externalEnergy(l);
+      this.energy[l] = e;
+    }
+  }
+
+  /** Delay tau(t) / dt of a lane, in samples. */
+  delaySamples(t: number, l: number): number {
+    return (2 * (this.p.externalLength_m + this.offset[l] + this.motion.position(t))) / SPEED_OF_LIGHT_m_s / this.dt;
+  }
+
+  /**
+   * Interpolate the history of a for one lane-mode at `back` samples before the newest
+   * (4-point Lagrange, stencil never newer than the newest sample) into out[0], out[1].
+   */
+  private readHistory(j: number, w0: number, w1: number, w2: number, w3: number, start: number, out: Float64Array, o: number): void {
+    const base = j * this.cap;
+    const h = this.head - start;
+    const i0 = base + (h & this.mask);
+    const i1 = base + ((h - 1) & this.mask);
+    const i2 = base + ((h - 2) & this.mask);
+    const i3 = base + ((h - 3) & this.mask);
+    const rr = this.ringRe;
+    const ri = this.ringIm;
+    out[o] = w0 * rr[i0] + w1 * rr[i1] + w2 * rr[i2] + w3 * rr[i3];
+    out[o + 1] = w0 * ri[i0] + w1 * ri[i1] + w2 * ri[i2] + w3 * ri[i3];
+  }
+
+  private readonly tmp2 = new Float64Array(2);
+  private readonly weights = new Float64Array(5);
+
+  /** Lagrange weights for nodes start, start+1, start+2, start+3 (in samples back) at `back`. */
+  private lagrangeWeights(back: number): void {
+    let start = Math.floor(back) - 1;
+    if (start < 0) start = 0;
+    const u = back - start;
+    const w = this.weights;
+    w[0] = (-(u - 1) * (u - 2) * (u - 3)) / 6;
+    w[1] = (u * (u - 2) * (u - 3)) / 2;
+    w[2] = (-u * (u - 1) * (u - 3)) / 2;
+    w[3] = (u * (u - 1) * (u - 2)) / 6;
+    w[4] = start;
+  }
+
+  /**
+   * Returned field b of every mode of lane l at time t + s*dt (s in (0, 1]) with the mirror
+   * at displacement x (rest offset included), from the history of a:
+   * b = r3' a(t' - tau(t')) exp(-i phi_m(t')), into (outR, outI); |a_del|^2 into ad.
+   * The modes are equally spaced in frequency, so exp(-i phi_m) follows from its
+   * neighbour's by one complex rotation (two trig calls per lane and stage, not 2 M).
+   */
+  private returned(l: number, s: number, x: number, outR: Float64Array, outI: Float64Array, ad: Float64Array | null): void {
+    const p = this.p;
+    const back = this.delayPerMetre * (p.externalLength_m + x) - s;
+    this.lagrangeWeights(back);
+    const w = this.weights;
+    const w0 = w[0], w1 = w[1], w2 = w[2], w3 = w[3];
+    const M = this.M;
+    const r3 = p.r3eff;
+    const cap = this.cap;
+    const mask = this.mask;
+    const h = this.head - w[4];
+    const o0 = h & mask, o1 = (h - 1) & mask, o2 = (h - 2) & mask, o3 = (h - 3) & mask;
+    const rr = this.ringRe;
+    const ri = this.ringIm;
+    let ph = p.extPhase0[0] + p.phasePerMetre[0] * x;
+    let c = Math.cos(ph);
+    let sn = Math.sin(ph);
+    let dc = 1, ds = 0;
+    if (M > 1) {
+      const d = this.dPhase0 + this.dPhasePerMetre * x;
+      dc = Math.cos(d);
+      ds = Math.sin(d);
+    }
+    const base0 = l * M * cap;
+    for (let m = 0; m < M; m++) {
+      const base = base0 + m * cap;
+      const ar = w0 * rr[base + o0] + w1 * rr[base + o1] + w2 * rr[base + o2] + w3 * rr[base + o3];
+      const ai = w0 * ri[base + o0] + w1 * ri[base + o1] + w2 * ri[base + o2] + w3 * ri[base + o3];
+      if (ad !== null) ad[m] = ar * ar + ai * ai;
+      if (m > 0) {
+        if (this.uniformSpacing) {
+          const c2 = c * dc - sn * ds;
+          sn = sn * dc + c * ds;
+          c = c2;
+        } else {
+          ph = p.extPhase0[m] + p.phasePerMetre[m] * x;
+          c = Math.cos(ph);
+          sn = Math.sin(ph);
+        }
+      }
+      // multiply by r3' e^{-i ph}
+      outR[m] = r3 * (ar * c + ai * sn);
+      outI[m] = r3 * (ai * c - ar * sn);
+    }
+  }
+
+  /**
+   * Laser right-hand side for one lane's modes at state (er, ei, n) with returned field
+   * (bR, bI); derivatives into (kr, ki, kn); stage powers into stagePower.
+   */
+  private rhs(er: Float64Array, ei: Float64Array, n: Float64Array, bR: Float64Array, bI: Float64Array, kr: Float64Array, ki: Float64Array, kn: Float64Array): void {
+    const M = this.M;
+    const g = this.kGamma;
+    const C = this.kCross;
+    const invPsat = this.kInvPsat;
+    const sat = this.sat;
+    if (this.crossOff !== null) {
+      // C = diag(d) + c (1 - I): S_m = c sum_k |E_k|^2 + (d_m - c) |E_m|^2, O(M)
+      const c0 = this.crossOff[0];
+      let tot = 0;
+      for (let k = 0; k < M; k++) tot += er[k] * er[k] + ei[k] * ei[k];
+      for (let m = 0; m < M; m++) sat[m] = (c0 * tot + (C[m * M + m] - c0) * (er[m] * er[m] + ei[m] * ei[m])) * invPsat;
+    } else {
+      for (let m = 0; m < M; m++) {
+        let s = 0;
+        const row = m * M;
+        for (let k = 0; k < M; k++) s += C[row + k] * (er[k] * er[k] + ei[k] * ei[k]);
+        sat[m] = s * invPsat;
+      }
+    }
+    let gainP = 0;
+    let lossP = 0;
+    let injP = 0;
+    const kap = this.kKappa;
+    const alpha = this.kAlpha;
+    const pumpF = this.kPumpF;
+    const invTauN = this.kInvTauN;
+    const classA = this.kClassA;
+    for (let m = 0; m < M; m++) {
+      let nm: number;
+      if (classA) {
+        nm = pumpF[m] / (1 + sat[m]);
+        kn[m] = 0;
+      } else {
+        nm = n[m];
+        kn[m] = (pumpF[m] - nm * (1 + sat[m])) * invTauN;
+      }
+      const G = g * nm;
+      const re = er[m];
+      const im = ei[m];
+      const half = 0.5 * (G - g);
+      const rot = 0.5 * alpha * G;
+      kr[m] = half * re + rot * im + kap * bR[m];
+      ki[m] = half * im - rot * re + kap * bI[m];
+      const e2 = re * re + im * im;
+      gainP += G * e2;
+      lossP += g * e2;
+      injP += 2 * kap * (re * bR[m] + im * bI[m]);
+    }
+    this.spGain = gainP;
+    this.spLoss = lossP;
+    this.spInj = injP;
+  }
+
+  /**
+   * Advance every lane by `steps` time steps; after each step call onStep (if given).
+   * Returns false if a non-finite value appeared (the state is then left as it was found).
+   */
+  advance(steps: number, onStep?: (engine: ExactEngine) => void): boolean {
+    for (let s = 0; s < steps; s++) {
+      this.stepOnce();
+      if (this.failed) return false;
+      if (onStep) onStep(this);
+    }
+    return true;
+  }
+
+  private stepOnce(): void {
+    const p = this.p;
+    const M = this.M;
+    const dt = this.dt;
+    const half = 0.5 * dt;
+    const tauL = p.roundTripLaser_s;
+    // Spontaneous emission is added every noiseEvery steps with the variance of that many
+    // steps (independent increments add), a white-noise source sampled on a grid far finer
+    // than every response time of the system.
+    this.noiseCount++;
+    const noiseNow = this.noiseCount >= this.noiseEvery;
+    if (noiseNow) this.noiseCount = 0;
+    const noiseSigma = noiseNow ? Math.sqrt(0.5 * p.spontaneous_W * p.gammaC * dt * this.noiseEvery) : 0;
+    const ext = p.hasExternal;
+    const xh = ext ? this.motion.position(this.t + half) : 0;
+    const x1 = ext ? this.motion.position(this.t + dt) : 0;
+    const newHead = (this.head + 1) & this.mask;
+    const etaT2 = this.kCouple * this.kCouple;
+    for (let l = 0; l < this.L; l++) {
+      const off = l * M;
+      const e = this.energy[l];
+      // returned fields at t + dt/2 and t + dt (b at t is this.br/bi)
+      if (ext) {
+        this.returned(l, 0.5, this.offset[l] + xh, this.bhr, this.bhi, null);
+        this.returned(l, 1, this.offset[l] + x1, this.b1r, this.b1i, this.ad1);
+      }
+      const e0r = this.e0r, e0i = this.e0i, n0 = this.n0;
+      const b0r = this.bhr, b0i = this.bhi; // reused below after stage 1 (see copy)
+      for (let m = 0; m < M; m++) {
+        e0r[m] = this.Er[off + m];
+        e0i[m] = this.Ei[off + m];
+        n0[m] = this.N[off + m];
+      }
+      // stage 1 at t with b(t)
+      const bcr = this.sr, bci = this.si; // temporarily hold b(t)
+      for (let m = 0; m < M; m++) {
+        bcr[m] = ext ? this.br[off + m] : 0;
+        bci[m] = ext ? this.bi[off + m] : 0;
+      }
+      this.rhs(e0r, e0i, n0, bcr, bci, this.kr, this.ki, this.kn);
+      let gainI = this.spGain;
+      let lossI = this.spLoss;
+      let injI = this.spInj;
+      const sr = this.sr, si = this.si, sn = this.sn;
+      const accR = this.accR, accI = this.accI, accN = this.accN;
+      for (let m = 0; m < M; m++) {
+        accR[m] = this.kr[m];
+        accI[m] = this.ki[m];
+        accN[m] = this.kn[m];
+        sr[m] = e0r[m] + half * this.kr[m];
+        si[m] = e0i[m] + half * this.ki[m];
+        sn[m] = n0[m] + half * this.kn[m];
+      }
+      if (!ext) { b0r.fill(0); b0i.fill(0); }
+      // stage 2 at t + dt/2
+      this.rhs(sr, si, sn, b0r, b0i, this.kr, this.ki, this.kn);
+      gainI += 2 * this.spGain;
+      lossI += 2 * this.spLoss;
+      injI += 2 * this.spInj;
+      for (let m = 0; m < M; m++) {
+        accR[m] += 2 * this.kr[m];
+        accI[m] += 2 * this.ki[m];
+        accN[m] += 2 * this.kn[m];
+        sr[m] = e0r[m] + half * this.kr[m];
+        si[m] = e0i[m] + half * this.ki[m];
+        sn[m] = n0[m] + half * this.kn[m];
+      }
+      // stage 3 at t + dt/2
+      this.rhs(sr, si, sn, b0r, b0i, this.kr, this.ki, this.kn);
+      gainI += 2 * this.spGain;
+      lossI += 2 * this.spLoss;
+      injI += 2 * this.spInj;
+      for (let m = 0; m < M; m++) {
+        accR[m] += 2 * this.kr[m];
+        accI[m] += 2 * this.ki[m];
+        accN[m] += 2 * this.kn[m];
+        sr[m] = e0r[m] + dt * this.kr[m];
+        si[m] = e0i[m] + dt * this.ki[m];
+        sn[m] = n0[m] + dt * this.kn[m];
+      }
+      if (!ext) { this.b1r.fill(0); this.b1i.fill(0); }
+      // stage 4 at t + dt
+      this.rhs(sr, si, sn, this.b1r, this.b1i, this.kr, this.ki, this.kn);
+      gainI += this.spGain;
+      lossI += this.spLoss;
+      injI += this.spInj;
+      const w6 = dt / 6;
+      e.gain += w6 * gainI * tauL;
+      e.coldLoss += w6 * lossI * tauL;
+      e.injection += w6 * injI * tauL;
+      let noiseE = 0;
+      let extIn = 0;
+      let extLost = 0;
+      let extScale = 0;
+      let mis = 0;
+      let misScale = 0;
+      for (let m = 0; m < M; m++) {
+        const j = off + m;
+        let re = e0r[m] + w6 * (accR[m] + this.kr[m]);
+        let im = e0i[m] + w6 * (accI[m] + this.ki[m]);
+        const nn = n0[m] + w6 * (accN[m] + this.kn[m]);
+        if (noiseSigma > 0) {
+          const before = re * re + im * im;
+          re += noiseSigma * this.rng.normal();
+          im += noiseSigma * this.rng.normal();
+          noiseE += re * re + im * im - before;
+        }
+        if (re * re + im * im < FLUSH) { re = 0; im = 0; }
+        if (!(Number.isFinite(re) && Number.isFinite(im) && Number.isFinite(nn))) {
+          this.failed = true;
+          this.failMessage = `non-finite laser field in mode ${p.modes.index[m]} at t = ${this.t.toExponential(3)} s`;
+          return;
+        }
+        const oldE2 = this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+        this.Er[j] = re;
+        this.Ei[j] = im;
+        this.N[j] = nn;
+        if (ext) {
+          const b1r = this.b1r[m];
+          const b1i = this.b1i[m];
+          const a1r = this.kCouple * re - this.kR2 * b1r;
+          const a1i = this.kCouple * im - this.kR2 * b1i;
+          const a0r = this.ar[j], a0i = this.ai[j], b0rr = this.br[j], b0ii = this.bi[j];
+          const a02 = a0r * a0r + a0i * a0i;
+          const a12 = a1r * a1r + a1i * a1i;
+          const bb0 = b0rr * b0rr + b0ii * b0ii;
+          const bb1 = b1r * b1r + b1i * b1i;
+          extIn += 0.5 * (a02 - bb0 + a12 - bb1);
+          extLost += 0.5 * (this.aDel2[j] - bb0 + this.ad1[m] - bb1);
+          extScale += 0.5 * (a02 + a12);
+          // power the laser receives: exact (eta T2 |b|^2 + 2 r2 t2 sqrt(eta) Re(E b*)) minus
+          // the mean-field injection work 2 t2 sqrt(eta) Re(E b*)
+          const e1Re = re, e1Im = im;
+          const rp1 = e1Re * b1r + e1Im * b1i;
+          const oldRe = e0r[m], oldIm = e0i[m];
+          const rp0 = oldRe * b0rr + oldIm * b0ii;
+          if (this.kReturn) {
+            mis += 0.5 * (etaT2 * (bb0 + bb1) + 2 * (this.kR2 - 1) * this.kCouple * (rp0 + rp1));
+          }
+          misScale += 0.5 * etaT2 * (oldE2 + re * re + im * im);
+          this.br[j] = b1r;
+          this.bi[j] = b1i;
+          this.ar[j] = a1r;
+          this.ai[j] = a1i;
+          this.aDel2[j] = this.ad1[m];
+          const ri = j * this.cap + newHead;
+          this.ringRe[ri] = a1r;
+          this.ringIm[ri] = a1i;
+        }
+      }
+      if (p.classA) {
+        // the adiabatic inversion follows the fields: store it for the observers
+        for (let m = 0; m < M; m++) this.N[off + m] = (p.pump * p.gainRel[m]) / (1 + this.satOf(l, m));
+      }
+      e.noise += noiseE * tauL;
+      e.externalIn += extIn * dt;
+      e.externalLost += extLost * dt;
+      e.externalScale += extScale * dt;
+      e.mismatch += mis * dt;
+      e.mismatchScale += misScale * dt;
+    }
+    this.head = newHead;
+    this.t += dt;
+  }
+
+  /** Saturation term sum_k C_mk |E_k|^2 / P_sat of one lane-mode from the stored fields. */
+  private satOf(l: number, m: number): number {
+    const p = this.p;
+    const M = this.M;
+    let s = 0;
+    for (let k = 0; k < M; k++) {
+      const j = l * M + k;
+      s += p.cross[m * M + k] * (this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j]);
+    }
+    return s * p.invPsat;
+  }
+}
+
+function emptyEnergy(): LaneEnergy {
+  return {
+    laserStart: 0, gain: 0, coldLoss: 0, injection: 0, noise: 0,
+    externalStart: 0, externalIn: 0, externalLost: 0, externalScale: 0,
+    mismatch: 0, mismatchScale: 0,
+  };
+}
+
+/**
+ * Relative closing errors of the two subsystem balances of a lane (MODEL.md 3.3):
+ * laser: stored change - (gain - cold loss + injection + noise), over the gain supplied;
+ * external: stored change - (in - lost), over the integral of |a|^2.
+ */
+export function balanceErrors(engine: ExactEngine, l: number): { laser: number; external: number; mismatch: number } {
+  const e = engine.energy[l];
+  const dL = engine.laserEnergy(l) - e.laserStart;
+  const laserScale = Math.max(e.gain, e.coldLoss, 1e-300);
+  const laser = Math.abs(dL - (e.gain - e.coldLoss + e.injection + e.noise)) / laserScale;
+  let external = 0;
+  if (engine.p.hasExternal && e.externalScale > 0) {
+    const dE = engine.externalEnergy(l) - e.externalStart;
+    external = Math.abs(dE - (e.externalIn - e.externalLost)) / e.externalScale;
+  }
+  const mismatch = e.mismatchScale > 0 ? Math.abs(e.mismatch) / e.mismatchScale : 0;
+  return { laser, external, mismatch };
+}

@@ -1,0 +1,59 @@
+/**
+ * Everything computed before any time stepping (MODEL.md section 2), gathered for
+ * `dithercav check`, the run summary and the engines.
+ */
+import type { Derived } from '../results/summary';
+import type { Scenario } from '../scenario/schema';
+import { SPEED_OF_LIGHT_m_s } from './constants';
+import { buildCoupledParams, CoupledParams } from './coupled/params';
+import { computeBeams } from './optics/beams';
+import { finesse, linewidth_Hz, phaseAveragedPowerRatio } from './optics/airy';
+
+export interface DerivedAll {
+  derived: Derived;
+  params: CoupledParams;
+}
+
+/** Derived quantities and the engine parameters of a scenario. */
+export function deriveAll(s: Scenario): DerivedAll {
+  const beams = computeBeams(s);
+  const params = buildCoupledParams(s, { feedback: beams.feedbackEfficiency, roundtrip: beams.roundtripEfficiency });
+  const c = SPEED_OF_LIGHT_m_s;
+  const ext = s.external;
+  const fsrExt = ext ? c / (2 * ext.length) : NaN;
+  const F = ext ? finesse(params.r2, params.r3eff) : NaN;
+  const incoherent = ext ? phaseAveragedPowerRatio(params.r2, params.t2, params.r3eff) * params.feedbackEfficiency : NaN;
+  const m = params.modes;
+  // Homogeneous single-mode estimate |E|^2 = P_sat (p f - 1) / C_mm of the strongest mode
+  // (MODEL.md 3.2); the free-running reference run gives the real multimode value.
+  let best = 0;
+  for (let k = 0; k < m.count; k++) {
+    const Cmm = params.cross[k * m.count + k];
+    best = Math.max(best, (s.laser.gain.saturation_power * Math.max(0, params.pump * params.gainRel[k] - 1)) / Cmm);
+  }
+  const derived: Derived = {
+    fsr_laser_Hz: m.fsr_Hz,
+    fsr_external_Hz: fsrExt,
+    roundtrip_laser_s: params.roundTripLaser_s,
+    roundtrip_external_s: params.roundTripExternal_s,
+    finesse_external: F,
+    linewidth_external_Hz: ext ? linewidth_Hz(fsrExt, F) : NaN,
+    photon_lifetime_s: 1 / params.gammaC,
+    photon_decay_rate_per_s: params.gammaC,
+    feedback_efficiency: params.feedbackEfficiency,
+    roundtrip_efficiency: params.roundtripEfficiency,
+    feedback_efficiency_source: beams.feedbackSource,
+    roundtrip_efficiency_source: beams.roundtripSource,
+    incoherent_enhancement: incoherent,
+    laser_class: params.classA ? 'A' : 'B',
+    modes: m.index.map((index, k) => ({
+      index,
+      frequency_Hz: m.frequency_Hz[k],
+      detuning_Hz: m.detuning_Hz[k],
+      gain_rel: m.gainRel[k],
+    })),
+    beams: beams.beams,
+    free_running_estimate_W: best,
+  };
+  return { derived, params };
+}

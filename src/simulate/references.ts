@@ -1,0 +1,332 @@
+/**
+ * The two references every driven run is judged against (MODEL.md section 4):
+ * the free-running laser (no return mirror) and the static system (actuator off),
+ * settled at positions spread over half a wavelength, up and down.
+ */
+import type { CoupledParams } from '../physics/coupled/params';
+import { ExactEngine, MirrorMotion, NormalSource, balanceErrors } from '../physics/coupled/exact';
+
+/** Steady state of the laser alone. */
+export interface FreeRunningResult {
+  Er: number[];
+  Ei: number[];
+  N: number[];
+  /** one-way intracavity power summed over modes, W */
+  intracavity_W: number;
+  /** output through M2, T2 sum |E|^2, W */
+  output_W: number;
+  modePowers_W: number[];
+  /** mode numbers (ModeSet.index) holding at least 1 % of the strongest mode's power */
+  lasingModes: number[];
+  steps: number;
+}
+
+/** Time-step choice for the laser alone: resolve the photon lifetime, tau_N and the relaxation oscillation. */
+export function laserOnlyStep(p: CoupledParams): number {
+  const ro = Math.sqrt((p.gammaC * Math.max(p.pump - 1, 0.1)) / p.tauN);
+  return Math.min(0.02 / p.gammaC, p.classA ? Infinity : 0.05 * p.tauN, 0.05 / ro);
+}
+
+/**
+ * Settle the laser with no external cavity from a state near the single-mode estimate
+ * (random phases from the generator), for `settle_s` (default 400 photon lifetimes, at
+ * least 50 tau_N), and average the last fifth.
+ */
+export function freeRunning(p: CoupledParams, rng: NormalSource & { uniform(): number }, settle_s?: number): FreeRunningResult {
+  const M = p.M;
+  const q: CoupledParams = { ...p, hasExternal: false, returnToLaser: false, kappa: 0, couplingOut: 0 };
+  if (!Number.isFinite(p.gammaC)) {
+    return { Er: new Array(M).fill(0), Ei: new Array(M).fill(0), N: new Array(M).fill(0), intracavity_W: 0, output_W: 0, modePowers_W: new Array(M).fill(0), lasingModes: [], steps: 0 };
+  }
+  const dt = laserOnlyStep(p);
+  const T = settle_s ?? Math.max(400 / p.gammaC, 50 * p.tauN);
+  const steps = Math.max(1000, Math.ceil(T / dt));
+  const still: MirrorMotion = { position: () => 0, velocity: () => 0 };
+  const eng = new ExactEngine(q, 1, dt, still, rng, 0);
+  const Er: number[] = [];
+  const Ei: number[] = [];
+  const N: number[] = [];
+  for (let m = 0; m < M; m++) {
+    const P0 = Math.max(p.spontaneous_W, (Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * M)));
+    const th = 2 * Math.PI * rng.uniform();
+    Er.push(Math.sqrt(P0) * Math.cos(th));
+    Ei.push(Math.sqrt(P0) * Math.sin(th));
+    N.push(1);
+  }
+  eng.setLaserState(Er, Ei, N);
+  const avgFrom = Math.floor(steps * 0.8);
+  const acc = new Float64Array(M);
+  let count = 0;
+  let k = 0;
+  eng.advance(steps, (e) => {
+    if (k++ >= avgFrom) {
+      for (let m = 0; m < M; m++) acc[m] += e.Er[m] * e.Er[m] + e.Ei[m] * e.Ei[m];
+      count++;
+    }
+  });
+  const modePowers = Array.from(acc, (v) => v / Math.max(count, 1));
+  const total = modePowers.reduce((a, b) => a + b, 0);
+  const strongest = Math.max(...modePowers);
+  return {
+    Er: Array.from(eng.Er),
+    Ei: Array.from(eng.Ei),
+    N: Array.from(eng.N),
+    intracavity_W: total,
+    output_W: p.T2 * total,
+    modePowers_W: modePowers,
+    lasingModes: p.modes.index.filter((_, m) => strongest > 0 && modePowers[m] >= 0.01 * strongest && modePowers[m] > 100 * p.spontaneous_W),
+    steps,
+  };
+}
+
+/** Per-lane means collected over the last part of a settle. */
+export interface LaneMeans {
+  external_W: number;
+  laserOutput_W: number;
+  intracavity_W: number;
+  /** mode slot (0..M-1) with the largest mean intracavity power */
+  dominant: number;
+}
+
+/**
+ * Net power leaving through M2 on the outside, W: |a|^2 - |b|^2 for the matched part,
+ * plus the unmatched part of the laser's output (1 - eta_fb) T2 |E|^2 (MODEL.md 3.3).
+ */
+export function laserOutputOf(e: ExactEngine, l: number): number {
+  const p = e.p;
+  const M = e.M;
+  let s = 0;
+  for (let m = 0; m < M; m++) {
+    const j = l * M + m;
+    const E2 = e.Er[j] * e.Er[j] + e.Ei[j] * e.Ei[j];
+    if (!p.hasExternal) {
+      s += p.T2 * E2;
+      continue;
+    }
+    s += (1 - p.feedbackEfficiency) * p.T2 * E2 + e.ar[j] * e.ar[j] + e.ai[j] * e.ai[j] - e.br[j] * e.br[j] - e.bi[j] * e.bi[j];
+  }
+  return s;
+}
+
+/** Circulating one-way power in the gap, sum over modes of |a_m|^2, W. */
+export function externalPowerOf(e: ExactEngine, l: number): number {
+  const M = e.M;
+  let s = 0;
+  for (let m = 0; m < M; m++) {
+    const j = l * M + m;
+    s += e.ar[j] * e.ar[j] + e.ai[j] * e.ai[j];
+  }
+  return s;
+}
+
+/** Advance all lanes `steps` steps and average the lane observables over the last `avgSteps`. */
+export function settleLanes(e: ExactEngine, steps: number, avgSteps: number): LaneMeans[] | null {
+  const L = e.L;
+  const M = e.M;
+  const ext = new Float64Array(L);
+  const out = new Float64Array(L);
+  const ic = new Float64Array(L);
+  const modeP = new Float64Array(L * M);
+  const from = steps - Math.min(avgSteps, steps);
+  let k = 0;
+  let count = 0;
+  const ok = e.advance(steps, (en) => {
+    if (k++ < from) return;
+    count++;
+    for (let l = 0; l < L; l++) {
+      ext[l] += externalPowerOf(en, l);
+      out[l] += laserOutputOf(en, l);
+      for (let m = 0; m < M; m++) {
+        const j = l * M + m;
+        const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
+        modeP[j] += v;
+        ic[l] += v;
+      }
+    }
+  });
+  if (!ok) return null;
+  const res: LaneMeans[] = [];
+  for (let l = 0; l < L; l++) {
+    let dom = 0;
+    for (let m = 1; m < M; m++) if (modeP[l * M + m] > modeP[l * M + dom]) dom = m;
+    res.push({ external_W: ext[l] / count, laserOutput_W: out[l] / count, intracavity_W: ic[l] / count, dominant: dom });
+  }
+  return res;
+}
+
+/** The static reference: settled power versus mirror position over half a wavelength. */
+export interface StaticResult {
+  positions_m: number[];
+  up: LaneMeans[];
+  down: LaneMeans[];
+  converged: boolean;
+  /** (N, mean external power) of each refinement level */
+  levels: { positions: number; mean_W: number }[];
+  /** settled states (up branch) per position, for starting driven lanes */
+  store: ExactEngine;
+  steps: number;
+  laneSteps: number;
+  worstBalance: number;
+  mismatch: number;
+  failed: string | null;
+}
+
+export interface StaticOptions {
+  /** 'auto' refines from 16 positions, doubling until the mean moves by < 1 % (64 to 512); a number is used as is */
+  positions: 'auto' | number;
+  /** settle time per position when continuing from a neighbour, s */
+  settle_s: number;
+  dt: number;
+  halfWavelength_m: number;
+  /** the mirror's rest position (drive offset), m */
+  rest_m: number;
+  initial: FreeRunningResult;
+  rng: NormalSource;
+}
+
+/**
+ * Settle the system with the actuator off at N positions over half a wavelength,
+ * MODEL.md section 4. Level 0: chains of consecutive positions, each position started
+ * from the settled state of its neighbour (up, then back down), with a warm-up of three
+ * positions before each chain so no chain starts cold. Refinement (auto): each new
+ * midpoint starts from its left neighbour's up state and its right neighbour's down
+ * state, all midpoints and both branches batched as lanes of one time loop.
+ */
+export function staticReference(p: CoupledParams, o: StaticOptions): StaticResult {
+  const still: MirrorMotion = { position: () => o.rest_m, velocity: () => 0 };
+  const contSteps = Math.max(50, Math.ceil(o.settle_s / o.dt));
+  const avgSteps = Math.max(10, Math.floor(contSteps / 4));
+  const maxExc = Math.abs(o.rest_m) + o.halfWavelength_m * 1.01;
+  const auto = o.positions === 'auto';
+  const N0 = auto ? 16 : Math.max(4, Math.floor(o.positions as number));
+  let steps = 0;
+  let laneSteps = 0;
+  let worst = 0;
+  let mismatchSum = 0;
+  let mismatchCount = 0;
+  const record = (e: ExactEngine) => {
+    for (let l = 0; l < e.L; l++) {
+      const b = balanceErrors(e, l);
+      worst = Math.max(worst, b.laser, b.external);
+      mismatchSum += b.mismatch;
+      mismatchCount++;
+    }
+  };
+
+  // ---- level 0: chains
+  const chainLen = Math.min(16, N0);
+  const K = Math.ceil(N0 / chainLen);
+  const warm = Math.min(3, N0 - 1);
+  const chain = new ExactEngine(p, K, o.dt, still, o.rng, maxExc);
+  chain.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
+  const pos = (j: number, N: number) => (((j % N) + N) % N) * (o.halfWavelength_m / N);
+  let positions = Array.from({ length: N0 }, (_, j) => pos(j, N0));
+  let up: (LaneMeans | null)[] = new Array(N0).fill(null);
+  let down: (LaneMeans | null)[] = new Array(N0).fill(null);
+  let store = new ExactEngine(p, N0, o.dt, still, o.rng, maxExc);
+  let storeDown = new ExactEngine(p, N0, o.dt, still, o.rng, maxExc);
+  const fail = (msg: string): StaticResult => ({
+    positions_m: positions, up: [], down: [], converged: false, levels: [], store, steps, laneSteps, worstBalance: worst, mismatch: 0, failed: msg,
+  });
+  // walk: warm-up positions, then the chain's own positions up, then back down
+  const walk: { offsetIndex: number; record: 'up' | 'down' | null }[] = [];
+  for (let w = warm; w >= 1; w--) walk.push({ offsetIndex: -w, record: null });
+  for (let i = 0; i < chainLen; i++) walk.push({ offsetIndex: i, record: 'up' });
+  for (let i = chainLen - 2; i >= 0; i--) walk.push({ offsetIndex: i, record: 'down' });
+  let first = true;
+  for (const stepSpec of walk) {
+    for (let k = 0; k < K; k++) chain.offset[k] = pos(k * chainLen + stepSpec.offsetIndex, N0);
+    const n = first ? contSteps * 4 : contSteps;
+    first = false;
+    chain.resetEnergy();
+    const means = settleLanes(chain, n, avgSteps);
+    steps += n;
+    laneSteps += n * K;
+    if (means === null) return fail(chain.failMessage);
+    record(chain);
+    if (stepSpec.record === null) continue;
+    for (let k = 0; k < K; k++) {
+      const j = k * chainLen + stepSpec.offsetIndex;
+      if (j >= N0) continue;
+      if (stepSpec.record === 'up') {
+        up[j] = means[k];
+        store.copyLane(chain, k, j);
+        if (stepSpec.offsetIndex === chainLen - 1 || j === N0 - 1) {
+          down[j] = means[k];
+          storeDown.copyLane(chain, k, j);
+        }
+      } else {
+        down[j] = means[k];
+        storeDown.copyLane(chain, k, j);
+      }
+    }
+  }
+  // chains that ended early (last chain shorter than chainLen) have their down values filled by the walk above
+  for (let j = 0; j < N0; j++) {
+    if (down[j] === null) down[j] = up[j];
+  }
+  const meanOf = (u: (LaneMeans | null)[], d: (LaneMeans | null)[]) =>
+    u.reduce((s, v, i) => s + 0.5 * ((v as LaneMeans).external_W + (d[i] as LaneMeans).external_W), 0) / u.length;
+  const levels = [{ positions: N0, mean_W: meanOf(up, down) }];
+  let converged = !auto;
+  // ---- refinement by midpoints
+  if (auto) {
+    let N = N0;
+    while (N < 512) {
+      const mids = new ExactEngine(p, 2 * N, o.dt, still, o.rng, maxExc);
+      for (let j = 0; j < N; j++) {
+        mids.copyLane(store, j, j); // up branch from the left neighbour
+        mids.copyLane(storeDown, (j + 1) % N, N + j); // down branch from the right neighbour
+        mids.offset[j] = (j + 0.5) * (o.halfWavelength_m / N);
+        mids.offset[N + j] = mids.offset[j];
+      }
+      mids.resetEnergy();
+      const means = settleLanes(mids, contSteps, avgSteps);
+      steps += contSteps;
+      laneSteps += contSteps * 2 * N;
+      if (means === null) return fail(mids.failMessage);
+      record(mids);
+      const N2 = 2 * N;
+      const up2: LaneMeans[] = new Array(N2);
+      const down2: LaneMeans[] = new Array(N2);
+      const store2 = new ExactEngine(p, N2, o.dt, still, o.rng, maxExc);
+      const storeDown2 = new ExactEngine(p, N2, o.dt, still, o.rng, maxExc);
+      for (let j = 0; j < N; j++) {
+        up2[2 * j] = up[j] as LaneMeans;
+        down2[2 * j] = down[j] as LaneMeans;
+        up2[2 * j + 1] = means[j];
+        down2[2 * j + 1] = means[N + j];
+        store2.copyLane(store, j, 2 * j);
+        storeDown2.copyLane(storeDown, j, 2 * j);
+        store2.copyLane(mids, j, 2 * j + 1);
+        storeDown2.copyLane(mids, N + j, 2 * j + 1);
+      }
+      N = N2;
+      up = up2;
+      down = down2;
+      store = store2;
+      storeDown = storeDown2;
+      positions = Array.from({ length: N }, (_, j) => pos(j, N));
+      const mean = meanOf(up, down);
+      const prev = levels[levels.length - 1].mean_W;
+      levels.push({ positions: N, mean_W: mean });
+      if (N >= 64 && Math.abs(mean - prev) <= 0.01 * Math.abs(mean)) {
+        converged = true;
+        break;
+      }
+    }
+  }
+  return {
+    positions_m: positions,
+    up: up as LaneMeans[],
+    down: down as LaneMeans[],
+    converged,
+    levels,
+    store,
+    steps,
+    laneSteps,
+    worstBalance: worst,
+    mismatch: mismatchCount > 0 ? mismatchSum / mismatchCount : 0,
+    failed: null,
+  };
+}
