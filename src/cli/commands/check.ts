@@ -1,0 +1,121 @@
+/**
+ * `dithercav check FILE [--json]`: validate a scenario and print what follows from it
+ * before any time stepping (MODEL.md section 2): mode spacings, lifetimes, finesse, beam
+ * sizes, coupling, the mode list and the free-running estimate. Exit 0 valid, 2 not.
+ */
+import type { Command } from 'commander';
+import type { CommandContext } from '../main';
+import { loadScenarioFile, LoadedScenario } from '../../scenario/load';
+import { formatProblems } from '../../scenario/errors';
+import type { Derived } from '../../results/summary';
+import { deriveAll } from '../../physics/derive';
+import { bold, colourAllowed, formatNumber, formatQuantity, formatTable } from '../format';
+
+/** The `--json` output: which file, its scenario hash, the derived quantities, the warnings. */
+export interface CheckJson {
+  file: string;
+  scenario_sha256: string;
+  derived: Derived;
+  warnings: { path: string; message: string; line?: number }[];
+}
+
+function source(s: 'geometry' | 'scenario'): string {
+  return s === 'geometry' ? 'from Gaussian beams' : 'set in the scenario';
+}
+
+/**
+ * The readable report of `check`: sections of aligned "quantity  value  note" rows and
+ * the mode table. Pure (no I/O) so it can be tested without a terminal.
+ */
+export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, colour: boolean): string {
+  const s = loaded.scenario;
+  const q = formatQuantity;
+  const out: string[] = [];
+  const section = (title: string, rows: string[][]) => {
+    out.push('', bold(title, colour), formatTable(rows, { indent: '  ' }));
+  };
+  out.push(`${bold(file, colour)}: scenario '${s.name}' is valid (sha256 ${loaded.sha256.slice(0, 12)})`);
+
+  section('Laser (M1 to M2)', [
+    ['wavelength', q(s.laser.wavelength, 'm')],
+    ['cavity length L1', q(s.laser.cavity_length, 'm'), `refractive index ${formatNumber(s.laser.refractive_index)}`],
+    ['free spectral range', q(d.fsr_laser_Hz, 'Hz'), 'c / (2 n L1)'],
+    ['round-trip time', q(d.roundtrip_laser_s, 's'), '2 n L1 / c'],
+    ['photon lifetime', q(d.photon_lifetime_s, 's'), `decay rate ${formatNumber(d.photon_decay_rate_per_s)} /s`],
+    ['inversion lifetime', q(s.laser.gain.inversion_lifetime, 's')],
+    ['laser class', d.laser_class, d.laser_class === 'A' ? 'inversion follows the field (adiabatic)' : 'inversion integrated (relaxation oscillations)'],
+    ['pump ratio', formatNumber(s.laser.gain.pump_ratio), '1 = threshold of the gain peak'],
+    ['free-running estimate', q(d.free_running_estimate_W, 'W'), 'one-way intracavity power'],
+  ]);
+
+  if (s.external) {
+    section('External cavity (M2 to M3)', [
+      ['length L2', q(s.external.length, 'm')],
+      ['free spectral range', q(d.fsr_external_Hz, 'Hz'), 'c / (2 L2)'],
+      ['round-trip time', q(d.roundtrip_external_s, 's'), '2 L2 / c'],
+      ['finesse', formatNumber(d.finesse_external)],
+      ['linewidth (FWHM)', q(d.linewidth_external_Hz, 'Hz')],
+      ['incoherent enhancement', formatNumber(d.incoherent_enhancement), 'phase-averaged circulating / incident'],
+      ['feedback efficiency', formatNumber(d.feedback_efficiency), source(d.feedback_efficiency_source)],
+      ['round-trip efficiency', formatNumber(d.roundtrip_efficiency), source(d.roundtrip_efficiency_source)],
+      ['return to laser', s.external.return_to_laser ? 'yes' : 'no (reference: the laser ignores its feedback)'],
+    ]);
+  } else {
+    out.push('', bold('External cavity', colour), '  none: the laser runs alone');
+  }
+
+  const b = d.beams;
+  const waist = b.gap_waist_m === null ? 'none in the gap' : q(b.gap_waist_m, 'm');
+  // a waist on M2 itself comes out of the ABCD algebra as a rounding residue (~1e-17 m)
+  const waistAt =
+    b.gap_waist_position_m === null ? '' : Math.abs(b.gap_waist_position_m) < 1e-9 ? 'at M2' : `${q(b.gap_waist_position_m, 'm')} from M2`;
+  section('Beams (TEM00)', [
+    ['radius at M1', q(b.radius_at_M1_m, 'm')],
+    ['radius at M2', q(b.radius_at_M2_m, 'm')],
+    ['radius at M3', q(b.radius_at_M3_m, 'm')],
+    ['waist in the gap', waist, waistAt],
+    ['peak intensity per watt', b.peak_intensity_per_W_m2 === null ? 'n/a' : `${formatNumber(b.peak_intensity_per_W_m2)} W/m^2 per W`, 'at the gap waist, per watt circulating'],
+    ['laser g1 g2', formatNumber(b.laser_g1g2), b.laser_stable ? 'stable' : 'UNSTABLE'],
+    ['external g2 g3', formatNumber(b.external_g2g3), b.external_stable ? 'stable' : 'UNSTABLE'],
+  ]);
+  for (const n of b.notes) out.push(`  note: ${n}`);
+
+  out.push('', bold(`Laser modes (${d.modes.length})`, colour));
+  out.push(
+    formatTable(
+      d.modes.map((m) => [String(m.index), q(m.detuning_Hz, 'Hz'), q(m.frequency_Hz, 'Hz', 10), formatNumber(m.gain_rel)]),
+      { header: ['index', 'offset from gain peak', 'frequency', 'gain (1 = peak)'], align: ['right', 'right', 'right', 'right'], colour, indent: '  ' },
+    ),
+  );
+
+  if (loaded.warnings.length > 0) {
+    out.push('', bold('Warnings', colour));
+    out.push(formatProblems(file, loaded.warnings).split('\n').map((l) => `  ${l}`).join('\n'));
+  }
+  return `${out.join('\n')}\n`;
+}
+
+/** Register `check FILE [--json]`. Bad input throws InputError (exit 2 via main). */
+export function registerCheck(program: Command, ctx: CommandContext): void {
+  program
+    .command('check')
+    .description('validate a scenario and print its derived quantities (FSRs, finesse, lifetimes, modes, beams, coupling)')
+    .argument('<file>', 'scenario file (YAML or JSON)')
+    .option('--json', 'print { file, scenario_sha256, derived, warnings } as JSON')
+    .action((file: string, opts: { json?: boolean }) => {
+      const loaded = loadScenarioFile(file);
+      const { derived } = deriveAll(loaded.scenario);
+      if (opts.json) {
+        const body: CheckJson = {
+          file,
+          scenario_sha256: loaded.sha256,
+          derived,
+          warnings: loaded.warnings.map((w) => ({ path: w.path, message: w.message, ...(w.line !== undefined ? { line: w.line } : {}) })),
+        };
+        process.stdout.write(`${JSON.stringify(body, null, 2)}\n`);
+      } else {
+        process.stdout.write(formatCheck(file, loaded, derived, colourAllowed(process.stdout)));
+      }
+      ctx.setExit(0);
+    });
+}
