@@ -3,7 +3,9 @@
  * mirror (lanes), settled, then statistics over whole drive periods.
  */
 import type { CoupledParams } from '../physics/coupled/params';
-import { ExactEngine, MirrorMotion, NormalSource, balanceErrors } from '../physics/coupled/exact';
+import { balanceErrors } from '../physics/coupled/lane-engine';
+import type { LaneEngine, MirrorMotion, NormalSource } from '../physics/coupled/lane-engine';
+import { createLaneEngine, EngineKind } from '../physics/coupled/factory';
 import { BoxcarFilter, BoxcarResult } from '../analysis/boxcar';
 import { HopDetector, HopResult } from '../analysis/hops';
 import { RunningStats, StatsResult } from '../analysis/stats';
@@ -19,7 +21,8 @@ export interface DrivenOptions {
   /** rest offset of each lane relative to the drive's own offset, m */
   laneOffsets_m: number[];
   /** settled static states and their positions (relative to the drive offset), to start the lanes from */
-  start: { store: ExactEngine; positions_m: number[] } | null;
+  start: { store: LaneEngine; positions_m: number[] } | null;
+  engine: EngineKind;
   /** fallback start: laser state only */
   initial: { Er: number[]; Ei: number[]; N: number[] };
   settleSteps: number;
@@ -60,6 +63,103 @@ export interface DrivenResult {
   failed: string | null;
 }
 
+/**
+ * The statistics of a driven run, lane by lane, fed one sample per time step: running
+ * stats, the detection-band boxcar, hops, and for lane 0 the decimated traces, the RIN
+ * spectrum and the optical spectrum of the returned field. Shared by the time-stepping
+ * engines and the adiabatic path so that every engine is judged by the same rules.
+ */
+export class DrivenAnalysis {
+  readonly ext: RunningStats[];
+  readonly out: RunningStats[];
+  readonly ic: RunningStats[];
+  readonly band: BoxcarFilter[];
+  readonly hops: HopDetector[];
+  readonly dec: MinMaxDecimator;
+  readonly rin: WelchPsd | null;
+  readonly opt: OpticalSpectrum | null;
+  /** lane-0 trace row: position, speed, gap power, in-band gap power, laser output, mode powers (set by the caller) */
+  readonly row: Float64Array;
+  /** running sums for the returned-to-laser field ratio */
+  returned2 = 0;
+  intracavity2 = 0;
+
+  constructor(p: CoupledParams, lanes: number, dt: number, samples: number, t0: number, o: Pick<DrivenOptions, 'detectionBandwidth_Hz' | 'hopDwell_s' | 'driveFrequency_Hz' | 'drivePhase_rad' | 'traceBuckets' | 'spectralSpread_Hz' | 'spectrumMode' | 'motion'>, optical: boolean) {
+    const M = p.M;
+    this.motion = o.motion;
+    this.ext = Array.from({ length: lanes }, () => new RunningStats());
+    this.out = Array.from({ length: lanes }, () => new RunningStats());
+    this.ic = Array.from({ length: lanes }, () => new RunningStats());
+    this.band = Array.from({ length: lanes }, () => new BoxcarFilter({ dt_s: dt, bandwidth_Hz: o.detectionBandwidth_Hz }));
+    this.hops = Array.from(
+      { length: lanes },
+      () => new HopDetector({ dt_s: dt, dwell_s: o.hopDwell_s, modeCount: M, driveFrequency_Hz: o.driveFrequency_Hz, drivePhase_rad: o.drivePhase_rad, t0_s: t0 }),
+    );
+    const channels = [
+      { key: 'mirror_position', label: 'mirror position', unit: 'm' },
+      { key: 'mirror_speed', label: 'mirror speed', unit: 'm/s' },
+      { key: 'external', label: 'gap power (full band)', unit: 'W' },
+      { key: 'external_band', label: 'gap power (detection band)', unit: 'W' },
+      { key: 'laser_output', label: 'laser output', unit: 'W' },
+      ...p.modes.index.map((idx) => ({ key: `mode_${idx}`, label: `mode ${idx} intracavity`, unit: 'W' })),
+    ];
+    this.dec = new MinMaxDecimator({ channels, totalSamples: samples, buckets: o.traceBuckets, dt_s: dt, t0_s: 0 });
+    this.row = new Float64Array(channels.length);
+    // RIN: decimate so the sampled band covers the drive harmonics and the detection band
+    const fMax = Math.max(o.detectionBandwidth_Hz * 4, (o.driveFrequency_Hz ?? 0) * 16);
+    const rinDec = Math.max(1, Math.floor(1 / (dt * 4 * fMax)));
+    const rinLen = Math.min(8192, pow2Below(Math.floor(samples / rinDec / 2.5)));
+    this.rin = rinLen >= 64 ? new WelchPsd({ dt_s: dt, segmentLength: rinLen, decimation: rinDec }) : null;
+    const optDec = Math.max(1, Math.floor(1 / (dt * 8 * Math.max(o.spectralSpread_Hz, 1))));
+    const optLen = Math.min(4096, pow2Below(Math.floor(samples / optDec / 2.5)));
+    this.opt = optical && p.hasExternal && optLen >= 64 ? new OpticalSpectrum({ dt_s: dt, segmentLength: optLen, decimation: optDec, mode: p.modes.index[o.spectrumMode] }) : null;
+    this.driveFrequency_Hz = o.driveFrequency_Hz;
+  }
+
+  private readonly motion: MirrorMotion;
+  private readonly driveFrequency_Hz: number | null;
+
+  /** One sample of lane l (the caller fills row[5..] with lane 0's mode powers first). */
+  push(l: number, pe: number, po: number, pi: number, dom: number, t: number, offset0: number, bRe: number, bIm: number): void {
+    this.intracavity2 += pi;
+    this.ext[l].push(pe);
+    this.out[l].push(po);
+    this.ic[l].push(pi);
+    this.band[l].push(pe);
+    this.hops[l].push(dom);
+    if (l === 0) {
+      const row = this.row;
+      row[0] = offset0 + this.motion.position(t);
+      row[1] = this.motion.velocity(t);
+      row[2] = pe;
+      row[3] = this.band[0].current();
+      row[4] = po;
+      this.dec.push(row);
+      if (this.rin) this.rin.push(pe);
+      if (this.opt) this.opt.push(bRe, bIm);
+    }
+  }
+
+  result(laneOffsets_m: number[]): Pick<DrivenResult, 'offsets' | 'traces' | 'rin' | 'optical' | 'fieldRatio'> {
+    const period = this.driveFrequency_Hz ? 1 / this.driveFrequency_Hz : null;
+    const optRes = this.opt ? this.opt.result() : null;
+    return {
+      offsets: laneOffsets_m.map((off, l) => ({
+        offset_m: off,
+        external: this.ext[l].result(),
+        laserOutput: this.out[l].result(),
+        intracavity: this.ic[l].result(),
+        band: this.band[l].result(),
+        hops: this.hops[l].result(),
+      })),
+      traces: this.dec.result(period),
+      rin: this.rin ? this.rin.rin() : null,
+      optical: optRes ? [optRes] : [],
+      fieldRatio: this.intracavity2 > 0 ? Math.sqrt(this.returned2 / this.intracavity2) : 0,
+    };
+  }
+}
+
 function pow2Below(n: number): number {
   let p = 1;
   while (p * 2 <= n) p *= 2;
@@ -70,7 +170,7 @@ function pow2Below(n: number): number {
 export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   const L = o.laneOffsets_m.length;
   const M = p.M;
-  const e = new ExactEngine(p, L, o.dt, o.motion, o.rng, o.maxExcursion_m);
+  const e = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: o.maxExcursion_m }, p, L, o.motion, o.rng);
   e.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
   for (let l = 0; l < L; l++) {
     e.offset[l] = o.laneOffsets_m[l];
@@ -95,41 +195,10 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
     report();
   }
   e.resetEnergy();
-  const t0 = e.t;
-  const ext = Array.from({ length: L }, () => new RunningStats());
-  const out = Array.from({ length: L }, () => new RunningStats());
-  const ic = Array.from({ length: L }, () => new RunningStats());
-  const band = Array.from({ length: L }, () => new BoxcarFilter({ dt_s: o.dt, bandwidth_Hz: o.detectionBandwidth_Hz }));
-  const hops = Array.from(
-    { length: L },
-    () => new HopDetector({ dt_s: o.dt, dwell_s: o.hopDwell_s, modeCount: M, driveFrequency_Hz: o.driveFrequency_Hz, drivePhase_rad: o.drivePhase_rad, t0_s: t0 }),
-  );
-  const channels = [
-    { key: 'mirror_position', label: 'mirror position', unit: 'm' },
-    { key: 'mirror_speed', label: 'mirror speed', unit: 'm/s' },
-    { key: 'external', label: 'gap power (full band)', unit: 'W' },
-    { key: 'external_band', label: 'gap power (detection band)', unit: 'W' },
-    { key: 'laser_output', label: 'laser output', unit: 'W' },
-    ...p.modes.index.map((idx) => ({ key: `mode_${idx}`, label: `mode ${idx} intracavity`, unit: 'W' })),
-  ];
-  const dec = new MinMaxDecimator({ channels, totalSamples: o.analysedSteps, buckets: o.traceBuckets, dt_s: o.dt, t0_s: 0 });
-  const row = new Float64Array(channels.length);
-  // RIN: decimate so the sampled band covers the drive harmonics and the detection band
-  const fMax = Math.max(o.detectionBandwidth_Hz * 4, (o.driveFrequency_Hz ?? 0) * 16);
-  const rinDec = Math.max(1, Math.floor(1 / (o.dt * 4 * fMax)));
-  const rinSamples = Math.floor(o.analysedSteps / rinDec);
-  const rinLen = Math.min(8192, pow2Below(Math.floor(rinSamples / 2.5)));
-  const rin = rinLen >= 64 ? new WelchPsd({ dt_s: o.dt, segmentLength: rinLen, decimation: rinDec }) : null;
-  const optDec = Math.max(1, Math.floor(1 / (o.dt * 8 * Math.max(o.spectralSpread_Hz, 1))));
-  const optSamples = Math.floor(o.analysedSteps / optDec);
-  const optLen = Math.min(4096, pow2Below(Math.floor(optSamples / 2.5)));
-  const opt = p.hasExternal && optLen >= 64 ? new OpticalSpectrum({ dt_s: o.dt, segmentLength: optLen, decimation: optDec, mode: p.modes.index[o.spectrumMode] }) : null;
-  let b2 = 0;
-  let e2 = 0;
-  const onStep = (en: ExactEngine) => {
+  const an = new DrivenAnalysis(p, L, o.dt, o.analysedSteps, e.t, o, p.hasExternal);
+  const row = an.row;
+  const onStep = (en: LaneEngine) => {
     for (let l = 0; l < L; l++) {
-      const pe = externalPowerOf(en, l);
-      const po = laserOutputOf(en, l);
       let pi = 0;
       let dom = 0;
       let domP = -1;
@@ -138,26 +207,10 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
         const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
         pi += v;
         if (v > domP) { domP = v; dom = m; }
-        b2 += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
+        an.returned2 += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
       }
-      e2 += pi;
-      ext[l].push(pe);
-      out[l].push(po);
-      ic[l].push(pi);
-      band[l].push(pe);
-      hops[l].push(dom);
-      if (l === 0) {
-        const t = en.t;
-        row[0] = en.offset[0] + o.motion.position(t);
-        row[1] = o.motion.velocity(t);
-        row[2] = pe;
-        row[3] = band[0].current();
-        row[4] = po;
-        for (let m = 0; m < M; m++) row[5 + m] = en.Er[m] * en.Er[m] + en.Ei[m] * en.Ei[m];
-        dec.push(row);
-        if (rin) rin.push(pe);
-        if (opt) opt.push(en.br[o.spectrumMode], en.bi[o.spectrumMode]);
-      }
+      if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = en.Er[m] * en.Er[m] + en.Ei[m] * en.Ei[m];
+      an.push(l, externalPowerOf(en, l), laserOutputOf(en, l), pi, dom, en.t, en.offset[0], en.br[o.spectrumMode], en.bi[o.spectrumMode]);
     }
   };
   let analysed = 0;
@@ -177,30 +230,16 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
     worstE = Math.max(worstE, b.external);
     mis += b.mismatch / L;
   }
-  const period = o.driveFrequency_Hz ? 1 / o.driveFrequency_Hz : null;
-  const rinRes = rin ? rin.rin() : null;
-  const optRes = opt ? opt.result() : null;
   return {
-    offsets: o.laneOffsets_m.map((off, l) => ({
-      offset_m: off,
-      external: ext[l].result(),
-      laserOutput: out[l].result(),
-      intracavity: ic[l].result(),
-      band: band[l].result(),
-      hops: hops[l].result(),
-    })),
-    traces: dec.result(period),
-    rin: rinRes,
-    optical: optRes ? [optRes] : [],
+    ...an.result(o.laneOffsets_m),
     balance: { laser: worstL, external: worstE, mismatch: mis },
-    fieldRatio: e2 > 0 ? Math.sqrt(b2 / e2) : 0,
     steps: total,
     laneSteps: total * L,
     failed: null,
   };
 }
 
-function failed(e: ExactEngine, steps: number): DrivenResult {
+function failed(e: LaneEngine, steps: number): DrivenResult {
   return {
     offsets: [],
     traces: { t_s: [], series: [], drive_period_s: null },

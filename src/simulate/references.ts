@@ -4,7 +4,10 @@
  * settled at positions spread over half a wavelength, up and down.
  */
 import type { CoupledParams } from '../physics/coupled/params';
-import { ExactEngine, MirrorMotion, NormalSource, balanceErrors } from '../physics/coupled/exact';
+import { ExactEngine } from '../physics/coupled/exact';
+import { balanceErrors } from '../physics/coupled/lane-engine';
+import type { LaneEngine, MirrorMotion, NormalSource } from '../physics/coupled/lane-engine';
+import { createLaneEngine, EngineKind } from '../physics/coupled/factory';
 
 /** Steady state of the laser alone. */
 export interface FreeRunningResult {
@@ -86,13 +89,17 @@ export interface LaneMeans {
   intracavity_W: number;
   /** mode slot (0..M-1) with the largest mean intracavity power */
   dominant: number;
+  /** mean intracavity power of each mode slot, W */
+  modePowers_W: number[];
+  /** mean returned power sum |b_m|^2 at M2, W */
+  returned_W: number;
 }
 
 /**
  * Net power leaving through M2 on the outside, W: |a|^2 - |b|^2 for the matched part,
  * plus the unmatched part of the laser's output (1 - eta_fb) T2 |E|^2 (MODEL.md 3.3).
  */
-export function laserOutputOf(e: ExactEngine, l: number): number {
+export function laserOutputOf(e: LaneEngine, l: number): number {
   const p = e.p;
   const M = e.M;
   let s = 0;
@@ -109,7 +116,7 @@ export function laserOutputOf(e: ExactEngine, l: number): number {
 }
 
 /** Circulating one-way power in the gap, sum over modes of |a_m|^2, W. */
-export function externalPowerOf(e: ExactEngine, l: number): number {
+export function externalPowerOf(e: LaneEngine, l: number): number {
   const M = e.M;
   let s = 0;
   for (let m = 0; m < M; m++) {
@@ -120,12 +127,13 @@ export function externalPowerOf(e: ExactEngine, l: number): number {
 }
 
 /** Advance all lanes `steps` steps and average the lane observables over the last `avgSteps`. */
-export function settleLanes(e: ExactEngine, steps: number, avgSteps: number): LaneMeans[] | null {
+export function settleLanes(e: LaneEngine, steps: number, avgSteps: number): LaneMeans[] | null {
   const L = e.L;
   const M = e.M;
   const ext = new Float64Array(L);
   const out = new Float64Array(L);
   const ic = new Float64Array(L);
+  const ret = new Float64Array(L);
   const modeP = new Float64Array(L * M);
   const from = steps - Math.min(avgSteps, steps);
   let k = 0;
@@ -141,6 +149,7 @@ export function settleLanes(e: ExactEngine, steps: number, avgSteps: number): La
         const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
         modeP[j] += v;
         ic[l] += v;
+        ret[l] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
       }
     }
   });
@@ -149,7 +158,14 @@ export function settleLanes(e: ExactEngine, steps: number, avgSteps: number): La
   for (let l = 0; l < L; l++) {
     let dom = 0;
     for (let m = 1; m < M; m++) if (modeP[l * M + m] > modeP[l * M + dom]) dom = m;
-    res.push({ external_W: ext[l] / count, laserOutput_W: out[l] / count, intracavity_W: ic[l] / count, dominant: dom });
+    res.push({
+      external_W: ext[l] / count,
+      laserOutput_W: out[l] / count,
+      intracavity_W: ic[l] / count,
+      dominant: dom,
+      modePowers_W: Array.from(modeP.subarray(l * M, (l + 1) * M), (v) => v / count),
+      returned_W: ret[l] / count,
+    });
   }
   return res;
 }
@@ -163,7 +179,7 @@ export interface StaticResult {
   /** (N, mean external power) of each refinement level */
   levels: { positions: number; mean_W: number }[];
   /** settled states (up branch) per position, for starting driven lanes */
-  store: ExactEngine;
+  store: LaneEngine;
   steps: number;
   laneSteps: number;
   worstBalance: number;
@@ -182,6 +198,8 @@ export interface StaticOptions {
   rest_m: number;
   initial: FreeRunningResult;
   rng: NormalSource;
+  /** which engine settles the positions (the fast one has the same steady states) */
+  engine: EngineKind;
 }
 
 /**
@@ -204,7 +222,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   let worst = 0;
   let mismatchSum = 0;
   let mismatchCount = 0;
-  const record = (e: ExactEngine) => {
+  const record = (e: LaneEngine) => {
     for (let l = 0; l < e.L; l++) {
       const b = balanceErrors(e, l);
       worst = Math.max(worst, b.laser, b.external);
@@ -217,14 +235,14 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   const chainLen = Math.min(16, N0);
   const K = Math.ceil(N0 / chainLen);
   const warm = Math.min(3, N0 - 1);
-  const chain = new ExactEngine(p, K, o.dt, still, o.rng, maxExc);
+  const chain = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, K, still, o.rng);
   chain.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
   const pos = (j: number, N: number) => (((j % N) + N) % N) * (o.halfWavelength_m / N);
   let positions = Array.from({ length: N0 }, (_, j) => pos(j, N0));
   let up: (LaneMeans | null)[] = new Array(N0).fill(null);
   let down: (LaneMeans | null)[] = new Array(N0).fill(null);
-  let store = new ExactEngine(p, N0, o.dt, still, o.rng, maxExc);
-  let storeDown = new ExactEngine(p, N0, o.dt, still, o.rng, maxExc);
+  let store = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N0, still, o.rng);
+  let storeDown = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N0, still, o.rng);
   const fail = (msg: string): StaticResult => ({
     positions_m: positions, up: [], down: [], converged: false, levels: [], store, steps, laneSteps, worstBalance: worst, mismatch: 0, failed: msg,
   });
@@ -273,7 +291,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   if (auto) {
     let N = N0;
     while (N < 512) {
-      const mids = new ExactEngine(p, 2 * N, o.dt, still, o.rng, maxExc);
+      const mids = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, 2 * N, still, o.rng);
       for (let j = 0; j < N; j++) {
         mids.copyLane(store, j, j); // up branch from the left neighbour
         mids.copyLane(storeDown, (j + 1) % N, N + j); // down branch from the right neighbour
@@ -289,8 +307,8 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       const N2 = 2 * N;
       const up2: LaneMeans[] = new Array(N2);
       const down2: LaneMeans[] = new Array(N2);
-      const store2 = new ExactEngine(p, N2, o.dt, still, o.rng, maxExc);
-      const storeDown2 = new ExactEngine(p, N2, o.dt, still, o.rng, maxExc);
+      const store2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N2, still, o.rng);
+      const storeDown2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N2, still, o.rng);
       for (let j = 0; j < N; j++) {
         up2[2 * j] = up[j] as LaneMeans;
         down2[2 * j] = down[j] as LaneMeans;

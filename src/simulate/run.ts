@@ -19,6 +19,8 @@ import { designRule } from '../analysis/decoupling';
 import { driveHarmonics } from '../analysis/harmonics';
 import { freeRunning, FreeRunningResult, laserOnlyStep, staticReference, StaticResult } from './references';
 import { drivenRun, DrivenResult } from './driven';
+import { drivenAdiabatic } from './adiabatic';
+import { planEngines, EnginePlan } from './engine-choice';
 
 export type EngineChoice = 'auto' | 'exact' | 'fast' | 'adiabatic';
 
@@ -34,7 +36,7 @@ export interface RunOptions {
 /** Free-running and static references; reusable across sweep points with the same referenceKey. */
 export interface References {
   key: string;
-  data: { free: FreeRunningResult; stat: StaticResult | null; wall_s: number };
+  data: { free: FreeRunningResult; stat: StaticResult | null; wall_s: number; staticEngine: string };
 }
 
 /**
@@ -42,8 +44,9 @@ export interface References {
  * rest position, the static settings, the step and the seed; not the drive's amplitude,
  * frequency or waveform, nor the analysis.
  */
-export function referenceKey(s: Scenario, seed = s.simulation.seed): string {
+export function referenceKey(s: Scenario, seed = s.simulation.seed, staticEngine = 'auto'): string {
   const relevant = {
+    staticEngine,
     laser: s.laser,
     external: s.external ?? null,
     offset: s.drive.offset,
@@ -66,10 +69,17 @@ export function exactStep(s: Scenario, p: CoupledParams): number {
   return p.hasExternal ? p.roundTripExternal_s / s.simulation.substeps : laserOnlyStep(p);
 }
 
+/** Which engine settles the static reference: the exact one when the exact engine is requested, else the planner's choice. */
+function staticEngineRequest(s: Scenario, opts: RunOptions): 'exact' | 'auto' {
+  return (opts.engine ?? s.simulation.engine) === 'exact' ? 'exact' : 'auto';
+}
+
 export function computeReferences(s: Scenario, opts: RunOptions = {}): References {
   const t0 = Date.now();
   const seed = opts.seed ?? s.simulation.seed;
-  const { params } = deriveAll(s);
+  const { derived, params } = deriveAll(s);
+  const req = staticEngineRequest(s, opts);
+  const plan = planEngines(s, params, derived.finesse_external, staticSettleTime(params), req === 'exact' ? 'exact' : 'auto');
   const rng = createRng(seed);
   const free = freeRunning(params, rng.fork(1));
   let stat: StaticResult | null = null;
@@ -78,14 +88,15 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
     stat = staticReference(params, {
       positions: s.simulation.static_positions,
       settle_s: staticSettleTime(params),
-      dt: exactStep(s, params),
+      dt: plan.static.dt,
+      engine: plan.static.kind,
       halfWavelength_m: s.laser.wavelength / 2,
       rest_m: s.drive.offset,
       initial: free,
       rng: rng.fork(2),
     });
   }
-  return { key: referenceKey(s, seed), data: { free, stat, wall_s: (Date.now() - t0) / 1000 } };
+  return { key: referenceKey(s, seed, req), data: { free, stat, wall_s: (Date.now() - t0) / 1000, staticEngine: plan.static.kind } };
 }
 
 function mmm(values: number[]): { mean: number; min: number; max: number } {
@@ -110,18 +121,10 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const warnings: Warning[] = [];
   const progress = opts.onProgress ?? (() => undefined);
 
-  const refKey = referenceKey(s, seed);
+  const refKey = referenceKey(s, seed, staticEngineRequest(s, opts));
   const refs = opts.references && opts.references.key === refKey ? opts.references : computeReferences(s, { ...opts, seed, onProgress: (f) => progress(0.4 * f, 'references') });
   const { free, stat } = refs.data;
   progress(0.4, 'driven run');
-
-  const engine = 'exact';
-  let engineReason: string;
-  if (requested === 'exact' || requested === 'auto') engineReason = requested === 'exact' ? 'requested' : 'the exact delay-line engine is the only one in this build';
-  else {
-    engineReason = `engine '${requested}' is not available in this build; the exact delay-line engine ran instead`;
-    warnings.push({ code: 'engine-substituted', message: engineReason });
-  }
 
   const drive = s.drive;
   const moving = drive.waveform !== 'off' && (drive.amplitude > 0 || (drive.waveform === 'two-tone' && drive.second_amplitude > 0));
@@ -129,7 +132,11 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const vPeak = peakSpeed(drive);
   const lambda = s.laser.wavelength;
   const tContStatic = staticSettleTime(params);
-  const dt = exactStep(s, params);
+  const plan: EnginePlan = planEngines(s, params, derived.finesse_external, tContStatic, requested);
+  const engine = plan.driven.kind;
+  const engineReason = `${plan.driven.reason}; static reference: ${refs.data.staticEngine} engine`;
+  if (plan.driven.warning) warnings.push({ code: 'engine-validity', message: plan.driven.warning });
+  const dt = plan.driven.kind === 'adiabatic' ? exactStep(s, params) : plan.driven.dt;
 
   let driven: DrivenResult | null = null;
   let status: 'ok' | 'numerical-failure' = 'ok';
@@ -152,10 +159,10 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     const settleSteps = Math.ceil(settle_s / dt);
     const analysedSteps = Math.ceil(analysed_s / dt);
     const lanes = s.simulation.drive_offsets;
-    const laneSteps = (settleSteps + analysedSteps) * lanes;
+    const laneSteps = engine === 'adiabatic' ? 0 : (settleSteps + analysedSteps) * lanes;
     if (laneSteps > s.simulation.max_steps) {
       status = 'numerical-failure';
-      message = `the driven run would take ${laneSteps.toExponential(2)} lane-steps, above simulation.max_steps = ${s.simulation.max_steps.toExponential(2)}; shorten simulation.periods or raise the drive frequency`;
+      message = `the driven run would take ${laneSteps.toExponential(2)} lane-steps, above simulation.max_steps = ${s.simulation.max_steps.toExponential(2)}; shorten simulation.periods, or let the engine choice (simulation.engine: auto) pick a faster engine`;
     } else {
       const half = lambda / 2;
       const laneOffsets = Array.from({ length: lanes }, (_, l) => (l * half) / lanes);
@@ -163,7 +170,27 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       const spread = Math.max((F / Math.PI) * (2 * vPeak) / lambda, f ? 8 * f : 0, 1e5);
       // strongest mode of the static reference (up branch at position 0), for the optical spectrum
       const specMode = stat ? stat.up[0].dominant : 0;
-      driven = drivenRun(params, {
+      const common = {
+        detectionBandwidth_Hz: bandwidth,
+        hopDwell_s: s.analysis.hop_dwell,
+        driveFrequency_Hz: f,
+        drivePhase_rad: drive.phase,
+        traceBuckets: Math.floor(s.simulation.trace_points / 2),
+        spectralSpread_Hz: spread,
+        spectrumMode: specMode,
+      };
+      driven = engine === 'adiabatic' && stat
+        ? drivenAdiabatic(params, stat, {
+            ...common,
+            motion: createDrive(drive, seed),
+            rest_m: drive.offset,
+            laneOffsets_m: laneOffsets,
+            analysed_s,
+            halfWavelength_m: half,
+            peakSpeed_m_s: plan.basis.peakSpeed_m_s,
+          })
+        : drivenRun(params, {
+        engine: engine === 'adiabatic' ? 'exact' : engine,
         dt,
         motion: createDrive(drive, seed),
         laneOffsets_m: laneOffsets,

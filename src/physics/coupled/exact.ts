@@ -21,43 +21,16 @@
  */
 import { SPEED_OF_LIGHT_m_s } from '../constants';
 import type { CoupledParams } from './params';
+import { emptyEnergy } from './lane-engine';
+import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 
-/** The return mirror's motion, shared by all lanes (each adds its own rest offset). */
-export interface MirrorMotion {
-  /** displacement from the rest position at time t, m */
-  position(t: number): number;
-  /** velocity at time t, m/s */
-  velocity(t: number): number;
-}
-
-/** Source of standard normal deviates (seeded, so runs repeat). */
-export interface NormalSource {
-  normal(): number;
-}
-
-/** Per-lane energy bookkeeping (MODEL.md 3.3), joules. */
-export interface LaneEnergy {
-  /** stored laser energy tau_L sum |E|^2 at the start of bookkeeping */
-  laserStart: number;
-  gain: number;
-  coldLoss: number;
-  injection: number;
-  noise: number;
-  /** stored external energy (delay-line content) at the start of bookkeeping */
-  externalStart: number;
-  externalIn: number;
-  externalLost: number;
-  /** integral of |a|^2 dt, the scale the external balance is judged against */
-  externalScale: number;
-  /** mean-field interface mismatch: integral of (exact - mean-field) power the laser receives */
-  mismatch: number;
-  /** integral of the power the laser puts into the external mode, eta T2 |E|^2 */
-  mismatchScale: number;
-}
+export type { LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+export { balanceErrors } from './lane-engine';
 
 const FLUSH = 1e-150;
 
-export class ExactEngine {
+export class ExactEngine implements LaneEngine {
+  readonly kind = 'exact' as const;
   readonly L: number;
   readonly M: number;
   readonly dt: number;
@@ -223,8 +196,27 @@ export class ExactEngine {
   }
 
   /** Copy the full state (laser, history, returned field) of lane `from` of `src` into lane `to`. */
-  copyLane(src: ExactEngine, from: number, to: number): void {
-    if (src.cap !== this.cap || src.M !== this.M) throw new Error('copyLane: engines differ in shape');
+  copyLane(other: LaneEngine, from: number, to: number): void {
+    if (other.M !== this.M) throw new Error('copyLane: engines differ in mode count');
+    if (!(other instanceof ExactEngine) || other.cap !== this.cap) {
+      // From another kind of engine: take the fields and a history holding the present
+      // forward field (the delay line then refills within a few round trips).
+      const M = this.M;
+      for (let m = 0; m < M; m++) {
+        const js = from * M + m;
+        const jd = to * M + m;
+        this.Er[jd] = other.Er[js]; this.Ei[jd] = other.Ei[js]; this.N[jd] = other.N[js];
+        this.br[jd] = other.br[js]; this.bi[jd] = other.bi[js];
+        this.ar[jd] = other.ar[js]; this.ai[jd] = other.ai[js];
+        this.aDel2[jd] = other.ar[js] * other.ar[js] + other.ai[js] * other.ai[js];
+        for (let k = 0; k < this.cap; k++) {
+          this.ringRe[jd * this.cap + k] = other.ar[js];
+          this.ringIm[jd * this.cap + k] = other.ai[js];
+        }
+      }
+      return;
+    }
+    const src = other;
     const M = this.M;
     for (let m = 0; m < M; m++) {
       const js = from * M + m;
@@ -458,7 +450,7 @@ export class ExactEngine {
    * Advance every lane by `steps` time steps; after each step call onStep (if given).
    * Returns false if a non-finite value appeared (the state is then left as it was found).
    */
-  advance(steps: number, onStep?: (engine: ExactEngine) => void): boolean {
+  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
     for (let s = 0; s < steps; s++) {
       this.stepOnce();
       if (this.failed) return false;
@@ -645,29 +637,3 @@ export class ExactEngine {
   }
 }
 
-function emptyEnergy(): LaneEnergy {
-  return {
-    laserStart: 0, gain: 0, coldLoss: 0, injection: 0, noise: 0,
-    externalStart: 0, externalIn: 0, externalLost: 0, externalScale: 0,
-    mismatch: 0, mismatchScale: 0,
-  };
-}
-
-/**
- * Relative closing errors of the two subsystem balances of a lane (MODEL.md 3.3):
- * laser: stored change - (gain - cold loss + injection + noise), over the gain supplied;
- * external: stored change - (in - lost), over the integral of |a|^2.
- */
-export function balanceErrors(engine: ExactEngine, l: number): { laser: number; external: number; mismatch: number } {
-  const e = engine.energy[l];
-  const dL = engine.laserEnergy(l) - e.laserStart;
-  const laserScale = Math.max(e.gain, e.coldLoss, 1e-300);
-  const laser = Math.abs(dL - (e.gain - e.coldLoss + e.injection + e.noise)) / laserScale;
-  let external = 0;
-  if (engine.p.hasExternal && e.externalScale > 0) {
-    const dE = engine.externalEnergy(l) - e.externalStart;
-    external = Math.abs(dE - (e.externalIn - e.externalLost)) / e.externalScale;
-  }
-  const mismatch = e.mismatchScale > 0 ? Math.abs(e.mismatch) / e.mismatchScale : 0;
-  return { laser, external, mismatch };
-}

@@ -1,0 +1,390 @@
+/**
+ * The accelerated external-cavity engine of MODEL.md 3.4. The external field is a mean
+ * field over external round trips,
+ *
+ *   tau_E da_m/dt = (r2' r3' e^{-i phi_m(t)} - 1) a_m + t2 sqrt(eta_fb) E_m,  r2' = -r2,
+ *   b_m = r3' e^{-i phi_m} a_m,
+ *
+ * coupled to the same laser equations as the exact engine. For a frozen inversion and a
+ * frozen round-trip phase the pair (E_m, a_m) obeys a linear 2 x 2 system
+ *
+ *   d/dt [E; a] = A [E; a],  A = [[ (1 - i alpha) G / 2 - gamma_c / 2,  kappa r3' e^{-i phi} ],
+ *                                [ t2 sqrt(eta) / tau_E,               -(1 + r2 r3' e^{-i phi}) / tau_E ]],
+ *
+ * whose exact propagator exp(A h) (closed form for 2 x 2 matrices) is A-stable however
+ * stiff the external decay is off resonance. The inversion is advanced by Strang
+ * splitting: a half step with |E|^2 frozen (solved exactly), the linear step at the
+ * midpoint phase, another half step. The step is limited by the gain dynamics and by the
+ * passage through resonance, not by the round-trip time.
+ *
+ * Energy bookkeeping uses Simpson's rule over the start, middle and end of each step
+ * (the propagator is applied as two half steps), so each subsystem's own balance closes
+ * to the quadrature error.
+ */
+import type { CoupledParams } from './params';
+import { emptyEnergy } from './lane-engine';
+import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+
+const FLUSH = 1e-150;
+
+export class FastEngine implements LaneEngine {
+  readonly kind = 'fast' as const;
+  readonly L: number;
+  readonly M: number;
+  readonly dt: number;
+  t = 0;
+  readonly Er: Float64Array;
+  readonly Ei: Float64Array;
+  readonly N: Float64Array;
+  readonly ar: Float64Array;
+  readonly ai: Float64Array;
+  readonly br: Float64Array;
+  readonly bi: Float64Array;
+  readonly offset: Float64Array;
+  readonly energy: LaneEnergy[];
+  failed = false;
+  failMessage = '';
+  readonly noiseEvery: number;
+  private noiseCount = 0;
+  private readonly sat: Float64Array;
+  private readonly zr: Float64Array;
+  private readonly zi: Float64Array;
+  /** propagator of the last half step: m11, m12, m21, m22 as (re, im) */
+  private readonly mx = new Float64Array(8);
+  private readonly uniformSpacing: boolean;
+  private readonly dPhase0: number;
+  private readonly dPhasePerMetre: number;
+
+  constructor(
+    readonly p: CoupledParams,
+    lanes: number,
+    dt: number,
+    readonly motion: MirrorMotion,
+    readonly rng: NormalSource,
+  ) {
+    this.L = lanes;
+    this.M = p.M;
+    this.dt = dt;
+    const LM = lanes * p.M;
+    this.Er = new Float64Array(LM);
+    this.Ei = new Float64Array(LM);
+    this.N = new Float64Array(LM);
+    this.ar = new Float64Array(LM);
+    this.ai = new Float64Array(LM);
+    this.br = new Float64Array(LM);
+    this.bi = new Float64Array(LM);
+    this.offset = new Float64Array(lanes);
+    this.sat = new Float64Array(p.M);
+    this.zr = new Float64Array(p.M);
+    this.zi = new Float64Array(p.M);
+    this.energy = Array.from({ length: lanes }, () => emptyEnergy());
+    const M = p.M;
+    let uniform = M > 1;
+    for (let m = 1; m < M; m++) if (p.modes.order[m] - p.modes.order[m - 1] !== 1) uniform = false;
+    this.uniformSpacing = uniform;
+    this.dPhase0 = M > 1 ? p.extPhase0[1] - p.extPhase0[0] : 0;
+    this.dPhasePerMetre = M > 1 ? p.phasePerMetre[1] - p.phasePerMetre[0] : 0;
+    this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
+  }
+
+  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
+    for (let l = 0; l < this.L; l++) {
+      for (let m = 0; m < this.M; m++) {
+        const j = l * this.M + m;
+        this.Er[j] = Er[m];
+        this.Ei[j] = Ei[m];
+        this.N[j] = N[m];
+        this.ar[j] = 0;
+        this.ai[j] = 0;
+        this.br[j] = 0;
+        this.bi[j] = 0;
+      }
+    }
+  }
+
+  copyLane(other: LaneEngine, from: number, to: number): void {
+    // any engine kind: the mean field needs only the present fields
+    if (other.M !== this.M) throw new Error('copyLane: engines differ in mode count');
+    for (let m = 0; m < this.M; m++) {
+      const js = from * this.M + m;
+      const jd = to * this.M + m;
+      this.Er[jd] = other.Er[js]; this.Ei[jd] = other.Ei[js]; this.N[jd] = other.N[js];
+      this.ar[jd] = other.ar[js]; this.ai[jd] = other.ai[js];
+      this.br[jd] = other.br[js]; this.bi[jd] = other.bi[js];
+    }
+  }
+
+  laserEnergy(l: number): number {
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+    }
+    return s * this.p.roundTripLaser_s;
+  }
+
+  /** Stored external energy tau_E sum |a|^2 (one-way power times the round-trip time), J. */
+  externalEnergy(l: number): number {
+    if (!this.p.hasExternal) return 0;
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.ar[j] * this.ar[j] + this.ai[j] * this.ai[j];
+    }
+    return s * this.p.roundTripExternal_s;
+  }
+
+  resetEnergy(): void {
+    for (let l = 0; l < this.L; l++) {
+      const e = emptyEnergy();
+      e.laserStart = this.laserEnergy(l);
+      e.externalStart = this.externalEnergy(l);
+      this.energy[l] = e;
+    }
+  }
+
+  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
+    for (let s = 0; s < steps; s++) {
+      this.stepOnce();
+      if (this.failed) return false;
+      if (onStep) onStep(this);
+    }
+    return true;
+  }
+
+  /** r3' e^{-i phi_m} for every mode at mirror displacement x into (zr, zi). */
+  private roundTripFactor(x: number): void {
+    const p = this.p;
+    const M = this.M;
+    const r3 = p.hasExternal ? p.r3eff : 0;
+    let ph = p.extPhase0[0] + p.phasePerMetre[0] * x;
+    let c = Math.cos(ph);
+    let sn = Math.sin(ph);
+    let dc = 1, ds = 0;
+    if (M > 1 && this.uniformSpacing) {
+      const d = this.dPhase0 + this.dPhasePerMetre * x;
+      dc = Math.cos(d);
+      ds = Math.sin(d);
+    }
+    for (let m = 0; m < M; m++) {
+      if (m > 0) {
+        if (this.uniformSpacing) {
+          const c2 = c * dc - sn * ds;
+          sn = sn * dc + c * ds;
+          c = c2;
+        } else {
+          ph = p.extPhase0[m] + p.phasePerMetre[m] * x;
+          c = Math.cos(ph);
+          sn = Math.sin(ph);
+        }
+      }
+      this.zr[m] = r3 * c;
+      this.zi[m] = -r3 * sn;
+    }
+  }
+
+  /** Saturation S_m = sum_k C_mk |E_k|^2 / P_sat of lane l into this.sat. */
+  private saturation(l: number): void {
+    const p = this.p;
+    const M = this.M;
+    const off = l * M;
+    for (let m = 0; m < M; m++) {
+      let s = 0;
+      for (let k = 0; k < M; k++) {
+        const j = off + k;
+        s += p.cross[m * M + k] * (this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j]);
+      }
+      this.sat[m] = s * p.invPsat;
+    }
+  }
+
+  /** Advance the inversions of lane l by tau with |E|^2 frozen (exact exponential relaxation). */
+  private inversionStep(l: number, tau: number): void {
+    const p = this.p;
+    this.saturation(l);
+    const off = l * this.M;
+    for (let m = 0; m < this.M; m++) {
+      const rate = 1 + this.sat[m];
+      const nInf = (p.pump * p.gainRel[m]) / rate;
+      if (p.classA) this.N[off + m] = nInf;
+      else this.N[off + m] = nInf + (this.N[off + m] - nInf) * Math.exp((-rate * tau) / p.tauN);
+    }
+  }
+
+  /**
+   * exp(A tau) of the 2 x 2 complex matrix A into this.mx, by
+   * exp(A tau) = [(e1 + e2) / 2] I + [(e1 - e2) / (2 s)] (A - c I), c = tr A / 2,
+   * s = sqrt(((A11 - A22) / 2)^2 + A12 A21), e1,2 = e^{(c +- s) tau} (no overflow for stiff A:
+   * each exponent has a real part bounded above by the largest eigenvalue's); a Taylor form
+   * for |s tau| < 1e-4 (degenerate eigenvalues).
+   */
+  private expm2(a11r: number, a11i: number, a12r: number, a12i: number, a21r: number, a21i: number, a22r: number, a22i: number, tau: number): void {
+    const cr = 0.5 * (a11r + a22r);
+    const ci = 0.5 * (a11i + a22i);
+    const dr = 0.5 * (a11r - a22r);
+    const di = 0.5 * (a11i - a22i);
+    // s^2 = d^2 + a12 a21
+    const s2r = dr * dr - di * di + (a12r * a21r - a12i * a21i);
+    const s2i = 2 * dr * di + (a12r * a21i + a12i * a21r);
+    // principal complex square root
+    const mod = Math.hypot(s2r, s2i);
+    const sr = Math.sqrt(Math.max(0, 0.5 * (mod + s2r)));
+    let si = Math.sqrt(Math.max(0, 0.5 * (mod - s2r)));
+    if (s2i < 0) si = -si;
+    let qr: number, qi: number, pr: number, pi: number; // Q = cosh part, P = sinh(s tau)/s part
+    const str = sr * tau, sti = si * tau;
+    if (str * str + sti * sti < 1e-8) {
+      const ecr = Math.exp(cr * tau);
+      const er = ecr * Math.cos(ci * tau);
+      const ei = ecr * Math.sin(ci * tau);
+      const x2r = str * str - sti * sti;
+      const x2i = 2 * str * sti;
+      // Q = e^{c tau} (1 + (s tau)^2 / 2), P = e^{c tau} tau (1 + (s tau)^2 / 6)
+      qr = er * (1 + 0.5 * x2r) - ei * (0.5 * x2i);
+      qi = ei * (1 + 0.5 * x2r) + er * (0.5 * x2i);
+      pr = tau * (er * (1 + x2r / 6) - ei * (x2i / 6));
+      pi = tau * (ei * (1 + x2r / 6) + er * (x2i / 6));
+    } else {
+      const m1 = Math.exp((cr + sr) * tau);
+      const e1r = m1 * Math.cos((ci + si) * tau);
+      const e1i = m1 * Math.sin((ci + si) * tau);
+      const m2 = Math.exp((cr - sr) * tau);
+      const e2r = m2 * Math.cos((ci - si) * tau);
+      const e2i = m2 * Math.sin((ci - si) * tau);
+      qr = 0.5 * (e1r + e2r);
+      qi = 0.5 * (e1i + e2i);
+      // (e1 - e2) / (2 s)
+      const nr = 0.5 * (e1r - e2r);
+      const ni = 0.5 * (e1i - e2i);
+      const den = sr * sr + si * si;
+      pr = (nr * sr + ni * si) / den;
+      pi = (ni * sr - nr * si) / den;
+    }
+    const mx = this.mx;
+    // M = Q I + P (A - c I): diagonal entries Q + P (A11 - c) = Q + P d, Q - P d
+    mx[0] = qr + (pr * dr - pi * di);
+    mx[1] = qi + (pr * di + pi * dr);
+    mx[2] = pr * a12r - pi * a12i;
+    mx[3] = pr * a12i + pi * a12r;
+    mx[4] = pr * a21r - pi * a21i;
+    mx[5] = pr * a21i + pi * a21r;
+    mx[6] = qr - (pr * dr - pi * di);
+    mx[7] = qi - (pr * di + pi * dr);
+  }
+
+  private stepOnce(): void {
+    const p = this.p;
+    const M = this.M;
+    const h = this.dt;
+    const half = 0.5 * h;
+    const tauL = p.roundTripLaser_s;
+    const tauE = p.hasExternal ? p.roundTripExternal_s : 1;
+    const ext = p.hasExternal;
+    this.noiseCount++;
+    const noiseNow = this.noiseCount >= this.noiseEvery;
+    if (noiseNow) this.noiseCount = 0;
+    const noiseSigma = noiseNow ? Math.sqrt(0.5 * p.spontaneous_W * p.gammaC * h * this.noiseEvery) : 0;
+    const xMid = ext ? this.motion.position(this.t + half) : 0;
+    const xEnd = ext ? this.motion.position(this.t + h) : 0;
+    const g = p.gammaC;
+    const kap = p.kappa;
+    const cpl = p.couplingOut;
+    const r2 = p.r2;
+    const etaT2 = cpl * cpl;
+    const mx = this.mx;
+    for (let l = 0; l < this.L; l++) {
+      const off = l * M;
+      const e = this.energy[l];
+      this.inversionStep(l, half);
+      if (ext) this.roundTripFactor(this.offset[l] + xMid);
+      let gain = 0, loss = 0, inj = 0, xin = 0, xlost = 0, xscale = 0, mis = 0, misScale = 0, noiseE = 0;
+      for (let m = 0; m < M; m++) {
+        const j = off + m;
+        const G = g * this.N[j];
+        const zr = ext ? this.zr[m] : 0;
+        const zi = ext ? this.zi[m] : 0;
+        const a11r = 0.5 * (G - g);
+        const a11i = -0.5 * p.alpha * G;
+        const a12r = kap * zr;
+        const a12i = kap * zi;
+        const a21r = ext ? cpl / tauE : 0;
+        const a22r = ext ? -(1 + r2 * zr) / tauE : -1;
+        const a22i = ext ? -(r2 * zi) / tauE : 0;
+        this.expm2(a11r, a11i, a12r, a12i, a21r, 0, a22r, a22i, half);
+        // start, middle, end states
+        const E0r = this.Er[j], E0i = this.Ei[j], A0r = this.ar[j], A0i = this.ai[j];
+        const E1r = mx[0] * E0r - mx[1] * E0i + mx[2] * A0r - mx[3] * A0i;
+        const E1i = mx[0] * E0i + mx[1] * E0r + mx[2] * A0i + mx[3] * A0r;
+        const A1r = mx[4] * E0r - mx[5] * E0i + mx[6] * A0r - mx[7] * A0i;
+        const A1i = mx[4] * E0i + mx[5] * E0r + mx[6] * A0i + mx[7] * A0r;
+        let E2r = mx[0] * E1r - mx[1] * E1i + mx[2] * A1r - mx[3] * A1i;
+        let E2i = mx[0] * E1i + mx[1] * E1r + mx[2] * A1i + mx[3] * A1r;
+        let A2r = mx[4] * E1r - mx[5] * E1i + mx[6] * A1r - mx[7] * A1i;
+        let A2i = mx[4] * E1i + mx[5] * E1r + mx[6] * A1i + mx[7] * A1r;
+        // Simpson weights h/6 (1, 4, 1) on the integrands of the bookkeeping
+        const e20 = E0r * E0r + E0i * E0i, e21 = E1r * E1r + E1i * E1i, e22 = E2r * E2r + E2i * E2i;
+        const eS = e20 + 4 * e21 + e22;
+        gain += G * eS;
+        loss += g * eS;
+        if (ext) {
+          // b = z a at the three nodes (z frozen over the step)
+          const b0r = zr * A0r - zi * A0i, b0i = zr * A0i + zi * A0r;
+          const b1r = zr * A1r - zi * A1i, b1i = zr * A1i + zi * A1r;
+          const b2r = zr * A2r - zi * A2i, b2i = zr * A2i + zi * A2r;
+          const rp0 = E0r * b0r + E0i * b0i, rp1 = E1r * b1r + E1i * b1i, rp2 = E2r * b2r + E2i * b2i;
+          inj += 2 * kap * (rp0 + 4 * rp1 + rp2);
+          const a20 = A0r * A0r + A0i * A0i, a21 = A1r * A1r + A1i * A1i, a22 = A2r * A2r + A2i * A2i;
+          const aS = a20 + 4 * a21 + a22;
+          const drive0 = A0r * E0r + A0i * E0i, drive1 = A1r * E1r + A1i * E1i, drive2 = A2r * E2r + A2i * E2i;
+          // d(tau_E |a|^2)/dt = 2 t2 sqrt(eta) Re(a* E) - 2 (1 + r2 Re z) |a|^2
+          xin += 2 * cpl * (drive0 + 4 * drive1 + drive2);
+          xlost += 2 * (1 + r2 * zr) * aS;
+          xscale += aS;
+          if (p.returnToLaser) {
+            const bb = b0r * b0r + b0i * b0i + 4 * (b1r * b1r + b1i * b1i) + b2r * b2r + b2i * b2i;
+            mis += etaT2 * bb + 2 * (r2 - 1) * cpl * (rp0 + 4 * rp1 + rp2);
+          }
+          misScale += etaT2 * eS;
+        }
+        if (noiseSigma > 0) {
+          const before = E2r * E2r + E2i * E2i;
+          E2r += noiseSigma * this.rng.normal();
+          E2i += noiseSigma * this.rng.normal();
+          noiseE += E2r * E2r + E2i * E2i - before;
+        }
+        if (E2r * E2r + E2i * E2i < FLUSH) { E2r = 0; E2i = 0; }
+        if (A2r * A2r + A2i * A2i < FLUSH) { A2r = 0; A2i = 0; }
+        if (!(Number.isFinite(E2r) && Number.isFinite(E2i) && Number.isFinite(A2r) && Number.isFinite(A2i))) {
+          this.failed = true;
+          this.failMessage = `non-finite field in mode ${p.modes.index[m]} at t = ${this.t.toExponential(3)} s (fast engine)`;
+          return;
+        }
+        this.Er[j] = E2r;
+        this.Ei[j] = E2i;
+        this.ar[j] = A2r;
+        this.ai[j] = A2i;
+      }
+      const w6 = h / 6;
+      e.gain += w6 * gain * tauL;
+      e.coldLoss += w6 * loss * tauL;
+      e.injection += w6 * inj * tauL;
+      e.noise += noiseE * tauL;
+      e.externalIn += w6 * xin;
+      e.externalLost += w6 * xlost;
+      e.externalScale += w6 * xscale;
+      e.mismatch += w6 * mis;
+      e.mismatchScale += w6 * misScale;
+      this.inversionStep(l, half);
+      if (ext) {
+        // the returned field at the new time
+        this.roundTripFactor(this.offset[l] + xEnd);
+        for (let m = 0; m < M; m++) {
+          const j = off + m;
+          this.br[j] = this.zr[m] * this.ar[j] - this.zi[m] * this.ai[j];
+          this.bi[j] = this.zr[m] * this.ai[j] + this.zi[m] * this.ar[j];
+        }
+      }
+    }
+    this.t += h;
+  }
+}

@@ -1,0 +1,5 @@
+export * from './params';
+export * from './lane-engine';
+export * from './exact';
+export * from './fast';
+export * from './factory';

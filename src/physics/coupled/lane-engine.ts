@@ -1,0 +1,99 @@
+/**
+ * What the reference and driven runs need of a time-stepping engine, whichever one it is
+ * (exact delay line or accelerated mean field): lanes of (laser modes, external field)
+ * advancing in lockstep, each lane with its own rest offset of the return mirror.
+ */
+import type { CoupledParams } from './params';
+
+/** The return mirror's motion, shared by all lanes (each adds its own rest offset). */
+export interface MirrorMotion {
+  /** displacement from the rest position at time t, m */
+  position(t: number): number;
+  /** velocity at time t, m/s */
+  velocity(t: number): number;
+}
+
+/** Source of standard normal deviates (seeded, so runs repeat). */
+export interface NormalSource {
+  normal(): number;
+}
+
+/** Per-lane energy bookkeeping (MODEL.md 3.3), joules. */
+export interface LaneEnergy {
+  /** stored laser energy tau_L sum |E|^2 at the start of bookkeeping */
+  laserStart: number;
+  gain: number;
+  coldLoss: number;
+  injection: number;
+  noise: number;
+  /** stored external energy at the start of bookkeeping */
+  externalStart: number;
+  externalIn: number;
+  externalLost: number;
+  /** integral of |a|^2 dt, the scale the external balance is judged against */
+  externalScale: number;
+  /** mean-field interface mismatch: integral of (exact - mean-field) power the laser receives */
+  mismatch: number;
+  /** integral of the power the laser puts into the external mode, eta T2 |E|^2 */
+  mismatchScale: number;
+}
+
+export function emptyEnergy(): LaneEnergy {
+  return {
+    laserStart: 0, gain: 0, coldLoss: 0, injection: 0, noise: 0,
+    externalStart: 0, externalIn: 0, externalLost: 0, externalScale: 0,
+    mismatch: 0, mismatchScale: 0,
+  };
+}
+
+export interface LaneEngine {
+  readonly kind: 'exact' | 'fast';
+  readonly p: CoupledParams;
+  readonly L: number;
+  readonly M: number;
+  /** time step, s */
+  readonly dt: number;
+  t: number;
+  /** laser fields and inversions, index lane * M + m */
+  readonly Er: Float64Array;
+  readonly Ei: Float64Array;
+  readonly N: Float64Array;
+  /** field leaving M2 towards M3 (the gap's forward field) */
+  readonly ar: Float64Array;
+  readonly ai: Float64Array;
+  /** field returning to M2 from M3 */
+  readonly br: Float64Array;
+  readonly bi: Float64Array;
+  /** rest offset of the return mirror per lane, m */
+  readonly offset: Float64Array;
+  readonly energy: LaneEnergy[];
+  failed: boolean;
+  failMessage: string;
+  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void;
+  /** copy the whole state of lane `from` of `src` (an engine of the same kind and shape) into lane `to` */
+  copyLane(src: LaneEngine, from: number, to: number): void;
+  resetEnergy(): void;
+  laserEnergy(l: number): number;
+  externalEnergy(l: number): number;
+  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean;
+}
+
+/**
+ * Relative closing errors of the two subsystem balances of a lane (MODEL.md 3.3):
+ * laser: stored change - (gain - cold loss + injection + noise), over the gain supplied;
+ * external: stored change - (in - lost), over the integral of |a|^2; and the interface
+ * mismatch over the power the laser puts into the external mode.
+ */
+export function balanceErrors(engine: LaneEngine, l: number): { laser: number; external: number; mismatch: number } {
+  const e = engine.energy[l];
+  const dL = engine.laserEnergy(l) - e.laserStart;
+  const laserScale = Math.max(e.gain, e.coldLoss, 1e-300);
+  const laser = Math.abs(dL - (e.gain - e.coldLoss + e.injection + e.noise)) / laserScale;
+  let external = 0;
+  if (engine.p.hasExternal && e.externalScale > 0) {
+    const dE = engine.externalEnergy(l) - e.externalStart;
+    external = Math.abs(dE - (e.externalIn - e.externalLost)) / e.externalScale;
+  }
+  const mismatch = e.mismatchScale > 0 ? Math.abs(e.mismatch) / e.mismatchScale : 0;
+  return { laser, external, mismatch };
+}

@@ -1,0 +1,104 @@
+/**
+ * Which engine runs what, and why (MODEL.md 3.4): the exact delay line always applies;
+ * the mean-field engine where the round-trip phase changes little per round trip and its
+ * longer step pays; the adiabatic path where the mirror crosses each resonance slowly
+ * compared with the slowest response (the regrowth of a mode from noise).
+ */
+import type { Scenario } from '../scenario/schema';
+import type { CoupledParams } from '../physics/coupled/params';
+import type { EngineKind } from '../physics/coupled/factory';
+import { peakSpeed } from '../physics/drive';
+
+export type DrivenEngine = EngineKind | 'adiabatic';
+
+export interface EnginePlan {
+  static: { kind: EngineKind; dt: number };
+  driven: { kind: DrivenEngine; dt: number; reason: string; warning: string | null };
+  /** quantities the choice was made from */
+  basis: {
+    exactStep_s: number;
+    fastStep_s: number;
+    peakSpeed_m_s: number;
+    phasePerRoundTrip_rad: number;
+    resonanceWidth_rad: number;
+    adiabaticMeasure: number;
+  };
+}
+
+/** Largest step of the mean-field engine set by the laser alone: photon lifetime, relaxation oscillation, tau_N. */
+export function fastLaserStep(p: CoupledParams): number {
+  const ro = Math.sqrt((p.gammaC * Math.max(p.pump - 1, 0.05)) / p.tauN);
+  return Math.min(0.05 / p.gammaC, 0.1 / ro, p.classA ? Infinity : 0.5 * p.tauN);
+}
+
+/** Peak mirror speed including drift and an estimate of the vibration's peak speed, m/s. */
+export function totalPeakSpeed(s: Scenario): number {
+  const d = s.drive;
+  const vib = d.vibration ? Math.SQRT2 * 2 * Math.PI * d.vibration.bandwidth * d.vibration.rms * 2 : 0;
+  return peakSpeed(d) + Math.abs(d.drift) + vib;
+}
+
+/**
+ * Plan the engines of a run. finesse is that of the external cavity, regrowth_s the
+ * slowest response time (the static settle time), requested the user's choice.
+ */
+export function planEngines(s: Scenario, p: CoupledParams, finesse: number, regrowth_s: number, requested: 'auto' | 'exact' | 'fast' | 'adiabatic'): EnginePlan {
+  const lambda = s.laser.wavelength;
+  const exactStep = p.hasExternal ? p.roundTripExternal_s / s.simulation.substeps : fastLaserStep(p);
+  const v = totalPeakSpeed(s);
+  const F = Number.isFinite(finesse) && finesse > 0 ? finesse : 1;
+  const hPhase = v > 0 ? Math.min(lambda / (16 * F * v), (0.3 * lambda) / (4 * Math.PI * v)) : Infinity;
+  const hLaser = fastLaserStep(p);
+  const fastStep = Math.min(hLaser, hPhase);
+  const tauE = p.hasExternal ? p.roundTripExternal_s : 0;
+  const phaseRT = (4 * Math.PI * v * tauE) / lambda;
+  const width = (2 * Math.PI) / F;
+  const fastValid = phaseRT <= 0.25 * width;
+  // v x (regrowth time) against the resonance width in position lambda / (2 F)
+  const adiabaticMeasure = (v * regrowth_s) / (lambda / (2 * F));
+  const adiabaticValid = adiabaticMeasure <= 0.05;
+  const moving = v > 0;
+  const basis = { exactStep_s: exactStep, fastStep_s: fastStep, peakSpeed_m_s: v, phasePerRoundTrip_rad: phaseRT, resonanceWidth_rad: width, adiabaticMeasure };
+  const staticKind: EngineKind = requested === 'exact' || hLaser < 2 * exactStep ? 'exact' : 'fast';
+  const stat = { kind: staticKind, dt: staticKind === 'exact' ? exactStep : hLaser };
+  const fmt = (x: number) => x.toPrecision(3);
+  if (requested === 'exact') return { static: stat, driven: { kind: 'exact', dt: exactStep, reason: 'requested', warning: null }, basis };
+  if (requested === 'fast') {
+    return {
+      static: stat,
+      driven: {
+        kind: 'fast',
+        dt: Math.max(fastStep, exactStep),
+        reason: 'requested',
+        warning: fastValid ? null : `the mean-field engine was requested but the round-trip phase changes by ${fmt(phaseRT)} rad per round trip, not small against the resonance width ${fmt(width)} rad`,
+      },
+      basis,
+    };
+  }
+  if (requested === 'adiabatic') {
+    return {
+      static: stat,
+      driven: {
+        kind: 'adiabatic',
+        dt: 0,
+        reason: 'requested',
+        warning: adiabaticValid ? null : `the adiabatic path was requested but v x regrowth time = ${fmt(adiabaticMeasure)} resonance widths, not << 1`,
+      },
+      basis,
+    };
+  }
+  if (moving && p.hasExternal && adiabaticValid) {
+    return { static: stat, driven: { kind: 'adiabatic', dt: 0, reason: `mirror slow: v x regrowth time = ${fmt(adiabaticMeasure)} resonance widths <= 0.05`, warning: null }, basis };
+  }
+  if (fastValid && fastStep >= 2 * exactStep) {
+    return {
+      static: stat,
+      driven: { kind: 'fast', dt: fastStep, reason: `round-trip phase change ${fmt(phaseRT)} rad <= 1/4 of the resonance width ${fmt(width)} rad, step ${fmt(fastStep / exactStep)} x the exact one`, warning: null },
+      basis,
+    };
+  }
+  const why = !fastValid
+    ? `round-trip phase change ${fmt(phaseRT)} rad exceeds 1/4 of the resonance width ${fmt(width)} rad`
+    : `the mean-field step would be only ${fmt(fastStep / exactStep)} x the exact one`;
+  return { static: stat, driven: { kind: 'exact', dt: exactStep, reason: why, warning: null }, basis };
+}
