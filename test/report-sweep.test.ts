@@ -1,0 +1,147 @@
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { bestPoints, buildSweepReportHtml, grid, mapAxes, plotlyBundle, writeSweepReport } from '../src/report';
+import { RUN_CLASSES } from '../src/results/summary';
+import { InputError } from '../src/scenario/errors';
+import { layoutClass, layoutMetric, makeSweepMap, METRICS, writeSweepFolder } from './fixtures/report/make-fixtures';
+
+// Layout fixtures: the map's values come from closed-form formulas in the generator, so
+// each heatmap cell can be checked against the formula at the cell's own axis values.
+
+const root = mkdtempSync(join(tmpdir(), 'dithercav-report-sweep-'));
+afterAll(() => rmSync(root, { recursive: true, force: true }));
+
+type Plot = { id: string; data: Record<string, any>[]; layout: Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
+function plotsOf(page: string): Plot[] {
+  const m = /<script type="application\/json" id="report-data">([^<]*)<\/script>/.exec(page);
+  return m ? (JSON.parse(m[1]) as { plots: Plot[] }).plots : [];
+}
+
+describe('sweep report, amplitude x frequency', () => {
+  for (const frequencyFirst of [false, true]) {
+    it(`puts frequency across and amplitude up, each cell the value at its own axes (${frequencyFirst ? 'frequency' : 'amplitude'} axis first in the file)`, () => {
+      const m = makeSweepMap({ frequencyFirst, nA: 7, nF: 5 });
+      const plots = plotsOf(buildSweepReportHtml(m));
+      expect(plots.filter((p) => p.id.startsWith('map-metric-'))).toHaveLength(METRICS.length);
+      for (const p of plots.filter((x) => x.id.startsWith('map-metric-'))) {
+        const hm = p.data[0];
+        expect(hm.type).toBe('heatmap');
+        const amps = m.axes.find((a) => a.key === 'drive.amplitude')!.values;
+        const freqs = m.axes.find((a) => a.key === 'drive.frequency')!.values;
+        // log axes: cell edges at the geometric means of neighbouring values, one more edge than values
+        expect(hm.x).toHaveLength(freqs.length + 1);
+        expect(hm.y).toHaveLength(amps.length + 1);
+        for (let i = 0; i + 1 < freqs.length; i++) expect(hm.x[i + 1]).toBeCloseTo(Math.sqrt(freqs[i] * freqs[i + 1]), 6);
+        for (let i = 0; i + 1 < amps.length; i++) expect(hm.y[i + 1] / Math.sqrt(amps[i] * amps[i + 1])).toBeCloseTo(1, 12);
+        // which metric is it? match it against the formula at one cell, then check every cell
+        const metric = METRICS.find((name) => Math.abs(layoutMetric(name, amps[1], freqs[2]) - hm.z[1][2]) < 1e-12 && Math.abs(layoutMetric(name, amps[5], freqs[0]) - hm.z[5][0]) < 1e-12)!;
+        expect(metric).toBeDefined();
+        for (let iy = 0; iy < amps.length; iy++) for (let ix = 0; ix < freqs.length; ix++) expect(hm.z[iy][ix]).toBeCloseTo(layoutMetric(metric, amps[iy], freqs[ix]), 12);
+      }
+      const cls = plots.find((p) => p.id === 'map-class')!.data[0];
+      const amps = m.axes.find((a) => a.key === 'drive.amplitude')!.values;
+      const freqs = m.axes.find((a) => a.key === 'drive.frequency')!.values;
+      for (let iy = 0; iy < amps.length; iy++) for (let ix = 0; ix < freqs.length; ix++) expect(RUN_CLASSES[cls.z[iy][ix]]).toBe(layoutClass(amps[iy], freqs[ix]));
+    });
+  }
+
+  const m = makeSweepMap({ withFailures: true });
+  const page = buildSweepReportHtml(m);
+  const plots = plotsOf(page);
+  const classMap = plots.find((p) => p.id === 'map-class')!;
+
+  it('uses log axes where the sweep axis is log', () => {
+    expect(classMap.layout.xaxis.type).toBe('log');
+    expect(classMap.layout.yaxis.type).toBe('log');
+  });
+
+  it('leaves a failed point empty (null), not zero', () => {
+    const xy = mapAxes(m)!;
+    const z = grid(m, m.metrics.enhancement, xy);
+    const nulls = z.flat().filter((v) => v === null).length;
+    expect(nulls).toBe(m.failed_points);
+    expect(classMap.data[0].z.flat().filter((v: unknown) => v === null).length).toBe(m.failed_points);
+  });
+
+  it('draws the speed rule A = v_c/(2 pi f), the onset, the boundary, the reachable outline and the recommended point on every map', () => {
+    for (const p of plots) {
+      const names = p.data.map((d) => d.name);
+      expect(names).toEqual(expect.arrayContaining(['speed rule A = v_c/(2πf)', 'hopping onset (measured)', 'decoupling boundary (measured)', 'reachable by the actuator', 'recommended operating point']));
+      const rule = p.data.find((d) => d.name === 'speed rule A = v_c/(2πf)')!;
+      expect(rule.x).toEqual(m.critical_curve!.map((c) => c.frequency_Hz));
+      expect(rule.y).toEqual(m.critical_curve!.map((c) => c.amplitude_m));
+      const boundary = p.data.find((d) => d.name === 'decoupling boundary (measured)')!;
+      expect(boundary.y).toEqual(m.decoupling_boundary!.map((c) => c.amplitude_m)); // nulls kept as gaps
+      const star = p.data.find((d) => d.name === 'recommended operating point')!;
+      expect([star.x[0], star.y[0]]).toEqual([m.recommended!.frequency_Hz, m.recommended!.amplitude_m]);
+      const reach = p.data.find((d) => d.name === 'reachable by the actuator')!;
+      expect(reach.type).toBe('contour');
+      expect(reach.z.flat().filter((v: number) => v === 1).length).toBe(m.reachable!.filter(Boolean).length);
+    }
+  });
+
+  it('puts the four main metrics first, full size, and further metrics of the map after them', () => {
+    const main = page.indexOf('<h3>mode hops per second</h3>');
+    const further = page.indexOf('Further metrics saved in the map');
+    expect(main).toBeGreaterThan(0);
+    expect(further).toBeGreaterThan(main);
+    expect(page.indexOf('<h3>peak speed (m/s)</h3>')).toBeGreaterThan(further);
+  });
+
+  it('says so when the actuator reaches every point, and draws no outline then', () => {
+    const all = makeSweepMap({ nA: 4, nF: 3 });
+    all.reachable = all.reachable!.map(() => true);
+    const p = buildSweepReportHtml(all);
+    expect(p).toContain('the actuator can reach every point of the map');
+    expect(plotsOf(p).every((x) => x.data.every((d) => d.type !== 'contour'))).toBe(true);
+  });
+
+  it('gives a legend of the classes in words', () => {
+    for (const c of RUN_CLASSES) expect(page).toContain(`<b>${c}</b> — `);
+  });
+
+  it('ranks the best points: decoupled only, highest gain over static first (checked against a plain sort)', () => {
+    const best = bestPoints(m, 10);
+    const g = m.metrics.gain_over_static;
+    const all = m.classes.map((c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
+    const expected = [...all].sort((a, b) => (g[b]! - g[a]!) || a - b).slice(0, 10);
+    expect(best).toEqual(expected);
+    expect(best.length).toBeGreaterThan(0);
+  });
+});
+
+describe('sweep report, one axis', () => {
+  it('draws line plots over the axis, no heatmap', () => {
+    const m = makeSweepMap({ dims: 1 });
+    const plots = plotsOf(buildSweepReportHtml(m));
+    expect(plots.some((p) => p.data.some((d) => d.type === 'heatmap'))).toBe(false);
+    const lines = plots.filter((p) => p.id.startsWith('line-metric-'));
+    expect(lines).toHaveLength(METRICS.length);
+    for (const p of lines) {
+      expect(p.data[0].x).toEqual(m.axes[0].values);
+      expect(p.layout.xaxis.type).toBe('log');
+    }
+    const cls = plots.find((p) => p.id === 'line-class')!;
+    expect(cls.data[0].y).toEqual(m.classes);
+  });
+});
+
+describe('sweep report files', () => {
+  it('writes report.html beside map.json; a scenario name with markup shows as text', () => {
+    const d = join(root, 'sweep');
+    writeSweepFolder(d, makeSweepMap({ name: '<script>alert(1)</script>', nA: 4, nF: 3 }));
+    const page = readFileSync(writeSweepReport(d), 'utf8').replace(plotlyBundle(), '');
+    expect(page).not.toContain('<script>alert(1)</script>');
+    expect(page).toContain('<h1>&lt;script&gt;alert(1)&lt;/script&gt;</h1>');
+  });
+
+  it('a map without axes or classes is bad input naming the file and the keys', () => {
+    const d = join(root, 'bad');
+    mkdirSync(d, { recursive: true });
+    writeFileSync(join(d, 'map.json'), JSON.stringify({ name: 'x', metrics: {} }));
+    expect(() => writeSweepReport(d)).toThrow(InputError);
+    expect(() => writeSweepReport(d)).toThrow(/map\.json: axes: expected a list of at least one axis\n.*classes: expected a list/);
+  });
+});
