@@ -1,0 +1,38 @@
+/**
+ * `dithercav merge DIR... [--out DIR] [--quiet]`: join the shard folders of one sweep
+ * into one folder (points.ndjson, sweep.json, map.json, report.html). Default output:
+ * the first folder's parent/<scenario name>-merged. Shards of different scenarios are
+ * refused (exit 2); missing points are allowed and listed.
+ */
+import type { Command } from 'commander';
+import type { CommandContext } from '../main';
+import { mergeShards } from '../../sweep/merge';
+import { sweepReportWriter } from './sweep';
+
+/** Register `merge`. */
+export function registerMerge(program: Command, ctx: CommandContext): void {
+  program
+    .command('merge')
+    .description('combine the shards of one sweep into one result and report')
+    .argument('<dirs...>', 'shard folders (each holding sweep.json and points.ndjson)')
+    .option('--out <dir>', 'output folder (default: next to the first folder, <name>-merged)')
+    .option('--quiet', 'no warnings about dropped lines or missing points')
+    .action((dirs: string[], opts: { out?: string; quiet?: boolean }) => {
+      const warn = (m: string) => {
+        if (!opts.quiet) process.stderr.write(`dithercav merge: warning: ${m}\n`);
+      };
+      const out = mergeShards(dirs, { outDir: opts.out, onWarning: warn });
+      if (out.missing > 0) warn(`${out.missing} of ${out.header.total_points} grid points are in none of the folders (a shard missing?)`);
+      const writeReport = sweepReportWriter();
+      if (writeReport) {
+        try {
+          writeReport(out.dir);
+        } catch (err) {
+          process.stderr.write(`dithercav merge: the report could not be written: ${(err as Error).message}\n`);
+          ctx.setExit(1);
+        }
+      }
+      process.stdout.write(`merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`);
+      ctx.setExit(0);
+    });
+}

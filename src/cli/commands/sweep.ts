@@ -1,0 +1,142 @@
+/**
+ * `dithercav sweep FILE [--out DIR] [--jobs N] [--resume] [--shard I/N] [--quiet] [--engine E]`:
+ * the grid of the scenario's `sweep` section, one point per worker thread at a time,
+ * into DIR (default reports/<scenario name>/; a shard into DIR/shard-I-of-N/):
+ * points.ndjson (appended as each point finishes), sweep.json, map.json, report.html.
+ * Exit 0 when every point ran, 1 when some point failed numerically or the sweep was
+ * cut short by an error, 2 for bad input, 130 after Ctrl-C (finished points kept).
+ */
+import * as path from 'node:path';
+import { Command, Option } from 'commander';
+import type { CommandContext } from '../main';
+import { InputError } from '../../scenario/errors';
+import { loadScenarioFile } from '../../scenario/load';
+import type { EngineChoice } from '../../simulate';
+import { defaultJobs } from '../../sweep/pool';
+import { resolveShard, shardFolderName } from '../../sweep/shard';
+import { runSweep } from '../../sweep/run-sweep';
+import { safeFolderName } from '../../sweep/batch';
+import { createProgress, formatDuration } from '../progress';
+import { writeSweepReport } from '../../report/sweep-report';
+
+export const ENGINE_CHOICES: readonly EngineChoice[] = ['auto', 'exact', 'fast', 'adiabatic'];
+
+/** `--jobs N`: a whole number >= 1; absent: os.availableParallelism(). Throws InputError otherwise. */
+export function parseJobs(text: string | undefined): number {
+  if (text === undefined) return defaultJobs();
+  const n = Number(text);
+  if (!Number.isInteger(n) || n < 1) throw new InputError(null, [{ path: '--jobs', message: `expected a whole number >= 1, found '${text}'` }]);
+  return n;
+}
+
+/**
+ * Turn the first SIGINT/SIGTERM into an abort (the command stops starting work, keeps
+ * what finished, then exits 130); a second one quits at once. Returns the signal and a
+ * function removing the handlers.
+ */
+export function interruptOnSignal(onFirst: (message: string) => void): { signal: AbortSignal; dispose: () => void } {
+  const ac = new AbortController();
+  const handler = () => {
+    if (ac.signal.aborted) process.exit(130);
+    onFirst('stopping: finished points are kept (press Ctrl-C again to quit at once)');
+    ac.abort();
+  };
+  process.on('SIGINT', handler);
+  process.on('SIGTERM', handler);
+  return {
+    signal: ac.signal,
+    dispose: () => {
+      process.off('SIGINT', handler);
+      process.off('SIGTERM', handler);
+    },
+  };
+}
+
+/** The report room's sweep report writer (report.html from map.json, no simulation). */
+export function sweepReportWriter(): ((dir: string) => unknown) | null {
+  return writeSweepReport;
+}
+
+interface SweepCliOptions {
+  out?: string;
+  jobs?: string;
+  resume?: boolean;
+  shard?: string;
+  quiet?: boolean;
+  engine?: EngineChoice;
+}
+
+/** Register `sweep`. */
+export function registerSweep(program: Command, ctx: CommandContext): void {
+  program
+    .command('sweep')
+    .description("the grid in the scenario's sweep section; writes points.ndjson, map.json, sweep.json and report.html")
+    .argument('<file>', 'scenario file (YAML or JSON) with a sweep section')
+    .option('--out <dir>', 'output folder (default reports/<scenario name>/)')
+    .option('--jobs <n>', 'worker threads (default: the available processors)')
+    .option('--resume', 'keep the points already in the folder and run the others')
+    .option('--shard <i/n>', 'run shard I of N (points with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT')
+    .option('--quiet', 'no progress output')
+    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES as string[]))
+    .action(async (file: string, opts: SweepCliOptions) => {
+      const jobs = parseJobs(opts.jobs);
+      const shard = resolveShard(opts.shard);
+      const loaded = loadScenarioFile(file);
+      const s = loaded.scenario;
+      if (!s.sweep) {
+        throw new InputError(file, [{ path: 'sweep', message: 'expected a sweep section with axes, found none (use `dithercav run` for one run)' }]);
+      }
+      for (const w of loaded.warnings) process.stderr.write(`${file}: warning: ${w.path ? `${w.path}: ` : ''}${w.message}\n`);
+      const base = opts.out ?? path.join('reports', safeFolderName(s.name));
+      const dir = shard ? path.join(base, shardFolderName(shard)) : base;
+      const label = `sweep ${s.name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`;
+      const progress = createProgress({ label, total: 0, quiet: opts.quiet });
+      const stop = interruptOnSignal((m) => progress.log(m));
+      const t0 = Date.now();
+      let out;
+      try {
+        out = await runSweep(s, {
+          outDir: dir,
+          source: file,
+          jobs,
+          resume: opts.resume ?? false,
+          shard,
+          engine: opts.engine,
+          signal: stop.signal,
+          onWarning: (m) => progress.log(`warning: ${m}`),
+          onProgress: (done, total) => progress.update(done, total),
+        });
+      } finally {
+        progress.stop();
+        stop.dispose();
+      }
+      const writeReport = sweepReportWriter();
+      if (writeReport) {
+        try {
+          writeReport(dir);
+        } catch (err) {
+          process.stderr.write(`dithercav sweep: the report could not be written: ${(err as Error).message}\n`);
+          ctx.setExit(1);
+        }
+      }
+      const counts = new Map<string, number>();
+      for (const c of out.map.classes) if (c) counts.set(c, (counts.get(c) ?? 0) + 1);
+      const classes = [...counts].map(([c, n]) => `${n} ${c}`).join(', ');
+      process.stdout.write(
+        `${label}: ${out.finished}/${out.planned} points${out.resumed > 0 ? ` (${out.resumed} resumed)` : ''}` +
+          `${classes ? `: ${classes}` : ''} in ${formatDuration((Date.now() - t0) / 1000)} -> ${dir}\n`,
+      );
+      if (stop.signal.aborted) {
+        process.stderr.write(`${label}: stopped; ${out.finished} finished points kept in ${dir} (continue with --resume)\n`);
+        process.exit(130);
+      }
+      if (out.failed > 0) {
+        process.stderr.write(`${label}: ${out.failed} point(s) failed (class numerical-failure, see points.ndjson)\n`);
+        ctx.setExit(1);
+      } else if (out.interrupted) {
+        ctx.setExit(1);
+      } else {
+        ctx.setExit(0);
+      }
+    });
+}

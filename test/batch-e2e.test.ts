@@ -1,0 +1,82 @@
+/**
+ * `dithercav batch` on a folder (test/fixtures/sweep/batch) holding a run, a sweep in a
+ * subfolder, a broken scenario and a file that is not a scenario: the broken one is
+ * reported with its file and key path and skipped, the others finish, index.json lists
+ * all three, exit 1; --resume does not run the finished work again.
+ * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+
+const ROOT = resolve(__dirname, '..');
+const BIN = join(ROOT, 'bin', 'dithercav.js');
+const FOLDER = join('test', 'fixtures', 'sweep', 'batch');
+let tmp = '';
+
+function cli(...args: string[]) {
+  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1', CI: '1' } });
+  return { code: r.status, out: r.stdout, err: r.stderr };
+}
+
+beforeAll(() => {
+  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+  tmp = mkdtempSync(join(tmpdir(), 'dithercav-batch-'));
+});
+afterAll(() => {
+  if (tmp) rmSync(tmp, { recursive: true, force: true });
+});
+
+describe('batch command end to end', () => {
+  it('runs the good files, reports the broken one by file and key path, lists all in index.json, exits 1', () => {
+    const out = join(tmp, 'b');
+    const r = cli('batch', FOLDER, '--out', out, '--jobs', '2');
+    expect(r.code, r.err).toBe(1);
+    expect(r.err).toMatch(/c-broken\.yaml:14:5: laser\.gain\.pump_ratoi: unknown key/);
+    expect(r.err).not.toMatch(/^\s+at .+[(:]/m);
+    const index = JSON.parse(readFileSync(join(out, 'index.json'), 'utf8'));
+    // Sorted by path; notes.txt is not a scenario file and is not listed.
+    expect(index.map((e: { file: string }) => e.file)).toEqual([
+      join(FOLDER, 'a-run.yaml'),
+      join(FOLDER, 'c-broken.yaml'),
+      join(FOLDER, 'nested', 'b-sweep.yaml'),
+    ]);
+    const [run, broken, sweep] = index;
+    expect(run).toMatchObject({ name: 'tiny-run', kind: 'run', status: 'ok', folder: 'tiny-run', error: null });
+    expect(typeof run.class).toBe('string');
+    expect(Number.isFinite(run.enhancement)).toBe(true);
+    expect(broken.status).toBe('bad-input');
+    expect(broken.folder).toBeNull();
+    expect(broken.error).toMatch(/c-broken\.yaml.*laser\.gain\.pump_ratoi/);
+    expect(sweep).toMatchObject({ name: 'tiny-batch-sweep', kind: 'sweep', status: 'ok', folder: 'tiny-batch-sweep', error: null });
+    expect(sweep.points).toMatchObject({ finished: 2, failed: 0, total: 2 });
+    for (const f of ['summary.json', 'report.html']) expect(existsSync(join(out, 'tiny-run', f)), f).toBe(true);
+    for (const f of ['points.ndjson', 'map.json', 'sweep.json']) expect(existsSync(join(out, 'tiny-batch-sweep', f)), f).toBe(true);
+    expect(existsSync(join(out, 'index.html'))).toBe(true);
+    // The run's folder holds the run of that very file: its hash is the one `check --json` gives for it.
+    const summary = JSON.parse(readFileSync(join(out, 'tiny-run', 'summary.json'), 'utf8'));
+    const check = JSON.parse(cli('check', join(FOLDER, 'a-run.yaml'), '--json').out);
+    expect(summary.scenario_sha256).toBe(check.scenario_sha256);
+  });
+
+  it('--resume skips the finished run and sweep (their files are not rewritten) and gives the same index', () => {
+    const out = join(tmp, 'b');
+    const before = readFileSync(join(out, 'index.json'), 'utf8');
+    const runMtime = statSync(join(out, 'tiny-run', 'summary.json')).mtimeMs;
+    const pointsBefore = readFileSync(join(out, 'tiny-batch-sweep', 'points.ndjson'), 'utf8');
+    const r = cli('batch', FOLDER, '--out', out, '--jobs', '2', '--resume', '--quiet');
+    expect(r.code).toBe(1);
+    expect(statSync(join(out, 'tiny-run', 'summary.json')).mtimeMs).toBe(runMtime);
+    expect(readFileSync(join(out, 'tiny-batch-sweep', 'points.ndjson'), 'utf8')).toBe(pointsBefore);
+    const strip = (t: string) => JSON.parse(t).map((e: { wall_s: number }) => ({ ...e, wall_s: 0 }));
+    expect(strip(readFileSync(join(out, 'index.json'), 'utf8'))).toEqual(strip(before));
+  });
+
+  it('exits 2 for a path that does not exist, naming it', () => {
+    const r = cli('batch', join(tmp, 'nowhere'), '--out', join(tmp, 'x'));
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/nowhere: expected a scenario file or a folder of them/);
+  });
+});

@@ -1,0 +1,102 @@
+/**
+ * Merging shard folders on synthetic points: joined in index order, identical duplicates
+ * kept once, conflicting duplicates and shards of different scenarios refused (the CLI
+ * with exit 2 and both folders named).
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { InputError } from '../src/scenario/errors';
+import { failedPointSummary, makeHeader, PointWriter, readPoints, writeHeader } from '../src/sweep/persist';
+import type { PointRecord } from '../src/sweep/persist';
+import { mergeShards } from '../src/sweep/merge';
+
+const ROOT = resolve(__dirname, '..');
+const BIN = join(ROOT, 'bin', 'dithercav.js');
+let tmp = '';
+beforeAll(() => {
+  tmp = mkdtempSync(join(tmpdir(), 'dithercav-merge-'));
+});
+afterAll(() => {
+  if (tmp) rmSync(tmp, { recursive: true, force: true });
+});
+
+const AXES = [{ key: 'drive.amplitude', values: [1e-9, 2e-9, 3e-9, 4e-9, 5e-9], scale: 'linear' as const }];
+
+function rec(index: number, note = ''): PointRecord {
+  return { index, axes: { 'drive.amplitude': AXES[0].values[index] }, summary: failedPointSummary(`point ${index}${note}`), wall_s: Math.random() };
+}
+
+function shardDir(name: string, sha: string, shard: { index: number; count: number } | null, indices: number[], note = ''): string {
+  const d = join(tmp, name);
+  mkdirSync(d, { recursive: true });
+  writeHeader(d, makeHeader({ name: 'merge-test', scenario_sha256: sha, scenario: {}, source: null, axes: AXES, total_points: 5, shard }));
+  const w = new PointWriter(join(d, 'points.ndjson'));
+  for (const i of indices) w.write(rec(i, note));
+  w.close();
+  return d;
+}
+
+const SHA_A = 'a'.repeat(64);
+const SHA_B = 'b'.repeat(64);
+
+describe('merge', () => {
+  it('joins shards in index order; an identical point in two shards is kept once (its run time may differ)', () => {
+    const a = shardDir('s1', SHA_A, { index: 1, count: 2 }, [4, 0, 2]);
+    const b = shardDir('s2', SHA_A, { index: 2, count: 2 }, [3, 1, 2]);
+    const warnings: string[] = [];
+    const out = mergeShards([a, b], { outDir: join(tmp, 'merged'), onWarning: (m) => warnings.push(m) });
+    expect(out.records.map((r) => r.index)).toEqual([0, 1, 2, 3, 4]);
+    expect(out.duplicates).toBe(1);
+    expect(out.missing).toBe(0);
+    expect(readPoints(join(tmp, 'merged', 'points.ndjson')).records.map((r) => r.index)).toEqual([0, 1, 2, 3, 4]);
+    const header = JSON.parse(readFileSync(join(tmp, 'merged', 'sweep.json'), 'utf8'));
+    expect(header.shard).toBeNull();
+    expect(header.scenario_sha256).toBe(SHA_A);
+    expect(existsSync(join(tmp, 'merged', 'map.json'))).toBe(true);
+    expect(warnings.some((w) => /more than one shard/.test(w))).toBe(true);
+  });
+
+  it('defaults the output to the first folder’s parent/<name>-merged and counts missing points', () => {
+    const a = shardDir('only/s1', SHA_A, { index: 1, count: 2 }, [0, 2, 4]);
+    const out = mergeShards([a]);
+    expect(out.dir).toBe(join(tmp, 'only', 'merge-test-merged'));
+    expect(out.missing).toBe(2);
+  });
+
+  it('refuses a point whose results differ between shards', () => {
+    const a = shardDir('c1', SHA_A, null, [0, 1]);
+    const b = shardDir('c2', SHA_A, null, [1], ' (other)');
+    expect(() => mergeShards([a, b], { outDir: join(tmp, 'cm') })).toThrow(/point 1 differs/);
+  });
+
+  it('refuses shards of different scenarios, naming each folder and hash', () => {
+    const a = shardDir('h1', SHA_A, { index: 1, count: 2 }, [0]);
+    const b = shardDir('h2', SHA_B, { index: 2, count: 2 }, [1]);
+    try {
+      mergeShards([a, b], { outDir: join(tmp, 'hm') });
+      throw new Error('no error');
+    } catch (err) {
+      expect(err).toBeInstanceOf(InputError);
+      expect((err as InputError).message).toMatch(/different scenarios/);
+      expect((err as InputError).message).toContain(a);
+      expect((err as InputError).message).toContain(b);
+    }
+  });
+
+  it('the merge command exits 2 with a clear message for mixed scenarios, and 0 for one scenario', () => {
+    if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+    const a = shardDir('x1', SHA_A, { index: 1, count: 2 }, [0]);
+    const b = shardDir('x2', SHA_B, { index: 2, count: 2 }, [1]);
+    const bad = spawnSync(process.execPath, [BIN, 'merge', a, b, '--out', join(tmp, 'xm')], { encoding: 'utf8' });
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toMatch(/refusing to merge shards of different scenarios/);
+    expect(bad.stderr).not.toMatch(/^\s+at .+[(:]/m); // no stack trace
+    const c = shardDir('x3', SHA_A, { index: 2, count: 2 }, [1, 3]);
+    const good = spawnSync(process.execPath, [BIN, 'merge', a, c, '--out', join(tmp, 'xg')], { encoding: 'utf8' });
+    expect(good.status).toBe(0);
+    expect(good.stdout).toMatch(/3\/5 points/);
+  });
+});
