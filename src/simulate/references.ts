@@ -170,6 +170,9 @@ export function settleLanes(e: LaneEngine, steps: number, avgSteps: number): Lan
   return res;
 }
 
+/** Most positions the automatic static reference refines to. */
+export const STATIC_MAX_POSITIONS = 8192;
+
 /** The static reference: settled power versus mirror position over half a wavelength. */
 export interface StaticResult {
   positions_m: number[];
@@ -188,8 +191,14 @@ export interface StaticResult {
 }
 
 export interface StaticOptions {
-  /** 'auto' refines from 16 positions, doubling until the mean moves by < 1 % (64 to 512); a number is used as is */
+  /**
+   * 'auto' refines from 16 positions, doubling until the positions resolve the external
+   * resonance (at least two per width lambda / (2 F)) and the mean moves by < 1 %
+   * (at most 8192); a number is used as is
+   */
   positions: 'auto' | number;
+  /** finesse of the external cavity, for the resolution requirement of 'auto' */
+  finesse?: number;
   /** settle time per position when continuing from a neighbour, s */
   settle_s: number;
   dt: number;
@@ -290,7 +299,9 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   // ---- refinement by midpoints
   if (auto) {
     let N = N0;
-    while (N < 512) {
+    // two positions per resonance width lambda / (2 F) over half a wavelength: N >= 2 F
+    const resolved = Math.min(STATIC_MAX_POSITIONS, Math.max(64, 2 * (o.finesse !== undefined && Number.isFinite(o.finesse) ? o.finesse : 1)));
+    while (N < STATIC_MAX_POSITIONS) {
       const mids = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, 2 * N, still, o.rng);
       for (let j = 0; j < N; j++) {
         mids.copyLane(store, j, j); // up branch from the left neighbour
@@ -328,7 +339,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       const mean = meanOf(up, down);
       const prev = levels[levels.length - 1].mean_W;
       levels.push({ positions: N, mean_W: mean });
-      if (N >= 64 && Math.abs(mean - prev) <= 0.01 * Math.abs(mean)) {
+      if (N >= resolved && Math.abs(mean - prev) <= 0.01 * Math.abs(mean)) {
         converged = true;
         break;
       }

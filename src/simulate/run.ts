@@ -87,6 +87,7 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
     opts.onProgress?.(0, 'static reference');
     stat = staticReference(params, {
       positions: s.simulation.static_positions,
+      finesse: derived.finesse_external,
       settle_s: staticSettleTime(params),
       dt: plan.static.dt,
       engine: plan.static.kind,
