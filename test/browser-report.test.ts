@@ -159,6 +159,8 @@ describe.skipIf(!chromium)('reports in headless Chromium', () => {
       ? spawnSync(process.execPath, [bin, 'run', scenario, '--out', out], { encoding: 'utf8', timeout: 120_000 })
       : null;
     if (!r || r.status !== 0 || !existsSync(join(out, 'report.html'))) {
+      // under CI the engine must work: no silent skip there
+      if (process.env.CI === 'true') throw new Error(`dithercav run failed: ${r ? (r.stderr || r.stdout) : 'dist/ not built'}`);
       console.warn(`*** browser-report: \`dithercav run\` did not produce a run folder, the real-run page is SKIPPED: ${r ? (r.stderr || r.stdout).trim().split('\n')[0] : 'dist/ not built'} ***`);
       ctx.skip();
       return;

@@ -17,8 +17,8 @@
  * midpoint phase, another half step. The step is limited by the gain dynamics and by the
  * passage through resonance, not by the round-trip time.
  *
- * Energy bookkeeping uses Simpson's rule over the start, middle and end of each step
- * (the propagator is applied as two half steps), so each subsystem's own balance closes
+ * Energy bookkeeping uses composite Simpson over four sub-intervals of each step (the
+ * propagator is applied as four quarter steps), so each subsystem's own balance closes
  * to the quadrature error.
  */
 import type { CoupledParams } from './params';
@@ -26,6 +26,8 @@ import { emptyEnergy } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 
 const FLUSH = 1e-150;
+/** sub-intervals of each step for the energy quadrature (composite Simpson; even) */
+const QUAD_INTERVALS = 4;
 
 export class FastEngine implements LaneEngine {
   readonly kind = 'fast' as const;
@@ -310,42 +312,36 @@ export class FastEngine implements LaneEngine {
         const a21r = ext ? cpl / tauE : 0;
         const a22r = ext ? -(1 + r2 * zr) / tauE : -1;
         const a22i = ext ? -(r2 * zi) / tauE : 0;
-        this.expm2(a11r, a11i, a12r, a12i, a21r, 0, a22r, a22i, half);
-        // start, middle, end states
-        const E0r = this.Er[j], E0i = this.Ei[j], A0r = this.ar[j], A0i = this.ai[j];
-        const E1r = mx[0] * E0r - mx[1] * E0i + mx[2] * A0r - mx[3] * A0i;
-        const E1i = mx[0] * E0i + mx[1] * E0r + mx[2] * A0i + mx[3] * A0r;
-        const A1r = mx[4] * E0r - mx[5] * E0i + mx[6] * A0r - mx[7] * A0i;
-        const A1i = mx[4] * E0i + mx[5] * E0r + mx[6] * A0i + mx[7] * A0r;
-        let E2r = mx[0] * E1r - mx[1] * E1i + mx[2] * A1r - mx[3] * A1i;
-        let E2i = mx[0] * E1i + mx[1] * E1r + mx[2] * A1i + mx[3] * A1r;
-        let A2r = mx[4] * E1r - mx[5] * E1i + mx[6] * A1r - mx[7] * A1i;
-        let A2i = mx[4] * E1i + mx[5] * E1r + mx[6] * A1i + mx[7] * A1r;
-        // Simpson weights h/6 (1, 4, 1) on the integrands of the bookkeeping
-        const e20 = E0r * E0r + E0i * E0i, e21 = E1r * E1r + E1i * E1i, e22 = E2r * E2r + E2i * E2i;
-        const eS = e20 + 4 * e21 + e22;
-        gain += G * eS;
-        loss += g * eS;
-        if (ext) {
-          // b = z a at the three nodes (z frozen over the step)
-          const b0r = zr * A0r - zi * A0i, b0i = zr * A0i + zi * A0r;
-          const b1r = zr * A1r - zi * A1i, b1i = zr * A1i + zi * A1r;
-          const b2r = zr * A2r - zi * A2i, b2i = zr * A2i + zi * A2r;
-          const rp0 = E0r * b0r + E0i * b0i, rp1 = E1r * b1r + E1i * b1i, rp2 = E2r * b2r + E2i * b2i;
-          inj += 2 * kap * (rp0 + 4 * rp1 + rp2);
-          const a20 = A0r * A0r + A0i * A0i, a21 = A1r * A1r + A1i * A1i, a22 = A2r * A2r + A2i * A2i;
-          const aS = a20 + 4 * a21 + a22;
-          const drive0 = A0r * E0r + A0i * E0i, drive1 = A1r * E1r + A1i * E1i, drive2 = A2r * E2r + A2i * E2i;
-          // d(tau_E |a|^2)/dt = 2 t2 sqrt(eta) Re(a* E) - 2 (1 + r2 Re z) |a|^2
-          xin += 2 * cpl * (drive0 + 4 * drive1 + drive2);
-          xlost += 2 * (1 + r2 * zr) * aS;
-          xscale += aS;
-          if (p.returnToLaser) {
-            const bb = b0r * b0r + b0i * b0i + 4 * (b1r * b1r + b1i * b1i) + b2r * b2r + b2i * b2i;
-            mis += etaT2 * bb + 2 * (r2 - 1) * cpl * (rp0 + 4 * rp1 + rp2);
+        this.expm2(a11r, a11i, a12r, a12i, a21r, 0, a22r, a22i, h / QUAD_INTERVALS);
+        // propagate over QUAD_INTERVALS sub-intervals; composite Simpson weights (1, 4, 2, ..., 4, 1) h / (3 n)
+        let Er = this.Er[j], Ei = this.Ei[j], Ar = this.ar[j], Ai = this.ai[j];
+        for (let k = 0; k <= QUAD_INTERVALS; k++) {
+          if (k > 0) {
+            const nEr = mx[0] * Er - mx[1] * Ei + mx[2] * Ar - mx[3] * Ai;
+            const nEi = mx[0] * Ei + mx[1] * Er + mx[2] * Ai + mx[3] * Ar;
+            const nAr = mx[4] * Er - mx[5] * Ei + mx[6] * Ar - mx[7] * Ai;
+            const nAi = mx[4] * Ei + mx[5] * Er + mx[6] * Ai + mx[7] * Ar;
+            Er = nEr; Ei = nEi; Ar = nAr; Ai = nAi;
           }
-          misScale += etaT2 * eS;
+          const w = k === 0 || k === QUAD_INTERVALS ? 1 : k % 2 === 1 ? 4 : 2;
+          const e2 = Er * Er + Ei * Ei;
+          gain += w * G * e2;
+          loss += w * g * e2;
+          if (ext) {
+            // b = z a (z frozen over the step)
+            const br = zr * Ar - zi * Ai, bi = zr * Ai + zi * Ar;
+            const rp = Er * br + Ei * bi;
+            inj += w * 2 * kap * rp;
+            const a2 = Ar * Ar + Ai * Ai;
+            // d(tau_E |a|^2)/dt = 2 t2 sqrt(eta) Re(a* E) - 2 (1 + r2 Re z) |a|^2
+            xin += w * 2 * cpl * (Ar * Er + Ai * Ei);
+            xlost += w * 2 * (1 + r2 * zr) * a2;
+            xscale += w * a2;
+            if (p.returnToLaser) mis += w * (etaT2 * (br * br + bi * bi) + 2 * (r2 - 1) * cpl * rp);
+            misScale += w * etaT2 * e2;
+          }
         }
+        let E2r = Er, E2i = Ei, A2r = Ar, A2i = Ai;
         if (noiseSigma > 0) {
           const before = E2r * E2r + E2i * E2i;
           E2r += noiseSigma * this.rng.normal();
@@ -364,7 +360,7 @@ export class FastEngine implements LaneEngine {
         this.ar[j] = A2r;
         this.ai[j] = A2i;
       }
-      const w6 = h / 6;
+      const w6 = h / (3 * QUAD_INTERVALS);
       e.gain += w6 * gain * tauL;
       e.coldLoss += w6 * loss * tauL;
       e.injection += w6 * inj * tauL;
