@@ -21,6 +21,7 @@ import { freeRunning, FreeRunningResult, laserOnlyStep, staticReference, StaticR
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import { planEngines, EnginePlan } from './engine-choice';
+import { actuatorSheet } from '../physics/actuator';
 
 export type EngineChoice = 'auto' | 'exact' | 'fast' | 'adiabatic';
 
@@ -199,15 +200,9 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
         initial: free,
         settleSteps,
         analysedSteps,
-        detectionBandwidth_Hz: bandwidth,
-        hopDwell_s: s.analysis.hop_dwell,
-        driveFrequency_Hz: f,
-        drivePhase_rad: drive.phase,
-        traceBuckets: Math.floor(s.simulation.trace_points / 2),
-        spectralSpread_Hz: spread,
+        ...common,
         rng: createRng(seed).fork(3),
         maxExcursion_m: Math.abs(drive.offset) + half + drive.amplitude + drive.second_amplitude + Math.abs(drive.drift) * (settle_s + analysed_s) + 5 * (drive.vibration?.rms ?? 0),
-        spectrumMode: specMode,
         onProgress: (x) => progress(0.4 + 0.6 * x, 'driven run'),
       });
       if (driven.failed) {
@@ -382,6 +377,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       mode_steps_per_s: (laneSteps * params.M) / drivenWall,
     },
     warnings,
+    actuator: s.actuator ? actuatorSheet(s) : null,
   };
   if (status === 'numerical-failure' && summary.driven === null) {
     // keep the class visible for sweeps and batches

@@ -21,38 +21,18 @@
  */
 import { SPEED_OF_LIGHT_m_s } from '../constants';
 import type { CoupledParams } from './params';
-import { emptyEnergy } from './lane-engine';
-import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+import { LaneEngineBase } from './lane-base';
+import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
 
 export type { LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 export { balanceErrors } from './lane-engine';
 
 const FLUSH = 1e-150;
 
-export class ExactEngine implements LaneEngine {
+export class ExactEngine extends LaneEngineBase implements LaneEngine {
   readonly kind = 'exact' as const;
-  readonly L: number;
-  readonly M: number;
-  readonly dt: number;
-  /** time, s */
-  t = 0;
-  readonly Er: Float64Array;
-  readonly Ei: Float64Array;
-  readonly N: Float64Array;
-  /** returned field b at the current time */
-  readonly br: Float64Array;
-  readonly bi: Float64Array;
-  /** field leaving M2 towards M3 at the current time (newest history sample) */
-  readonly ar: Float64Array;
-  readonly ai: Float64Array;
   /** |a(t - tau)|^2 at the current time, for the loss booking */
   readonly aDel2: Float64Array;
-  /** rest offset of the return mirror per lane, m */
-  readonly offset: Float64Array;
-  /** set when a non-finite value appeared */
-  failed = false;
-  failMessage = '';
-  readonly energy: LaneEnergy[];
 
   private readonly cap: number;
   private readonly mask: number;
@@ -96,15 +76,8 @@ export class ExactEngine implements LaneEngine {
   private readonly kReturn: boolean;
   /** 2 / (c dt): delay in samples per metre of external length */
   private readonly delayPerMetre: number;
-  /** phase offsets between neighbouring modes (equal spacing), rad and rad/m */
-  private readonly dPhase0: number;
-  private readonly dPhasePerMetre: number;
-  private readonly uniformSpacing: boolean;
   /** [c] when C_mk = c for every k != m (then saturation is O(M)), else null */
   private readonly crossOff: Float64Array | null;
-  /** spontaneous emission is applied every noiseEvery steps */
-  readonly noiseEvery: number;
-  private noiseCount = 0;
 
   /**
    * @param p engine parameters
@@ -114,27 +87,10 @@ export class ExactEngine implements LaneEngine {
    * @param rng normal deviates for spontaneous emission
    * @param maxExcursion_m bound on |offset + x(t)| over the run, sizes the history buffer
    */
-  constructor(
-    readonly p: CoupledParams,
-    lanes: number,
-    dt: number,
-    readonly motion: MirrorMotion,
-    readonly rng: NormalSource,
-    maxExcursion_m: number,
-  ) {
-    this.L = lanes;
-    this.M = p.M;
-    this.dt = dt;
+  constructor(p: CoupledParams, lanes: number, dt: number, motion: MirrorMotion, rng: NormalSource, maxExcursion_m: number) {
+    super(p, lanes, dt, motion, rng);
     const LM = lanes * p.M;
-    this.Er = new Float64Array(LM);
-    this.Ei = new Float64Array(LM);
-    this.N = new Float64Array(LM);
-    this.br = new Float64Array(LM);
-    this.bi = new Float64Array(LM);
-    this.ar = new Float64Array(LM);
-    this.ai = new Float64Array(LM);
     this.aDel2 = new Float64Array(LM);
-    this.offset = new Float64Array(lanes);
     let cap = 8;
     if (p.hasExternal) {
       const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
@@ -156,8 +112,6 @@ export class ExactEngine implements LaneEngine {
     this.b1r = new Float64Array(M); this.b1i = new Float64Array(M);
     this.ad1 = new Float64Array(M);
     this.sat = new Float64Array(M);
-    this.energy = [];
-    for (let l = 0; l < lanes; l++) this.energy.push(emptyEnergy());
     this.delayPerMetre = 2 / SPEED_OF_LIGHT_m_s / dt;
     this.kGamma = p.gammaC;
     this.kCross = p.cross;
@@ -170,29 +124,10 @@ export class ExactEngine implements LaneEngine {
     this.kCouple = p.couplingOut;
     this.kR2 = p.r2;
     this.kReturn = p.returnToLaser;
-    let uniform = M > 1;
-    for (let m = 1; m < M; m++) if (p.modes.order[m] - p.modes.order[m - 1] !== 1) uniform = false;
-    this.uniformSpacing = uniform;
-    this.dPhase0 = M > 1 ? p.extPhase0[1] - p.extPhase0[0] : 0;
-    this.dPhasePerMetre = M > 1 ? p.phasePerMetre[1] - p.phasePerMetre[0] : 0;
     let offConst = true;
     const c0 = M > 1 ? p.cross[1] : 0;
     for (let m = 0; m < M; m++) for (let k = 0; k < M; k++) if (m !== k && p.cross[m * M + k] !== c0) offConst = false;
     this.crossOff = offConst ? Float64Array.of(c0) : null;
-    this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
-  }
-
-  /** Set every lane's laser fields and inversions (length M each), external cavity empty. */
-  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
-    for (let l = 0; l < this.L; l++) {
-      for (let m = 0; m < this.M; m++) {
-        const j = l * this.M + m;
-        this.Er[j] = Er[m];
-        this.Ei[j] = Ei[m];
-        this.N[j] = N[m];
-      }
-    }
-    this.refreshOutgoing();
   }
 
   /** Copy the full state (laser, history, returned field) of lane `from` of `src` into lane `to`. */
@@ -236,7 +171,7 @@ export class ExactEngine implements LaneEngine {
   }
 
   /** a = t2 sqrt(eta) E - r2 b for the newest sample (after a state change). */
-  private refreshOutgoing(): void {
+  protected override afterStateSet(): void {
     const p = this.p;
     for (let j = 0; j < this.L * this.M; j++) {
       this.ar[j] = p.couplingOut * this.Er[j] - p.r2 * this.br[j];
@@ -245,16 +180,6 @@ export class ExactEngine implements LaneEngine {
       this.ringRe[base] = this.ar[j];
       this.ringIm[base] = this.ai[j];
     }
-  }
-
-  /** Stored laser energy of a lane, tau_L sum |E|^2, J. */
-  laserEnergy(l: number): number {
-    let s = 0;
-    for (let m = 0; m < this.M; m++) {
-      const j = l * this.M + m;
-      s += this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
-    }
-    return s * this.p.roundTripLaser_s;
   }
 
   /**
@@ -285,16 +210,6 @@ export class ExactEngine implements LaneEngine {
       }
     }
     return s * this.dt;
-  }
-
-  /** Start the energy bookkeeping of every lane from the present state. */
-  resetEnergy(): void {
-    for (let l = 0; l < this.L; l++) {
-      const e = emptyEnergy();
-      e.laserStart = this.laserEnergy(l);
-      e.externalStart = this.externalEnergy(l);
-      this.energy[l] = e;
-    }
   }
 
   /** Delay tau(t) / dt of a lane, in samples. */
@@ -339,8 +254,6 @@ export class ExactEngine implements LaneEngine {
    * Returned field b of every mode of lane l at time t + s*dt (s in (0, 1]) with the mirror
    * at displacement x (rest offset included), from the history of a:
    * b = r3' a(t' - tau(t')) exp(-i phi_m(t')), into (outR, outI); |a_del|^2 into ad.
-   * The modes are equally spaced in frequency, so exp(-i phi_m) follows from its
-   * neighbour's by one complex rotation (two trig calls per lane and stage, not 2 M).
    */
   private returned(l: number, s: number, x: number, outR: Float64Array, outI: Float64Array, ad: Float64Array | null): void {
     const p = this.p;
@@ -356,32 +269,17 @@ export class ExactEngine implements LaneEngine {
     const o0 = h & mask, o1 = (h - 1) & mask, o2 = (h - 2) & mask, o3 = (h - 3) & mask;
     const rr = this.ringRe;
     const ri = this.ringIm;
-    let ph = p.extPhase0[0] + p.phasePerMetre[0] * x;
-    let c = Math.cos(ph);
-    let sn = Math.sin(ph);
-    let dc = 1, ds = 0;
-    if (M > 1) {
-      const d = this.dPhase0 + this.dPhasePerMetre * x;
-      dc = Math.cos(d);
-      ds = Math.sin(d);
-    }
+    this.phases.at(x);
+    const pc = this.phases.cos;
+    const ps = this.phases.sin;
     const base0 = l * M * cap;
     for (let m = 0; m < M; m++) {
       const base = base0 + m * cap;
       const ar = w0 * rr[base + o0] + w1 * rr[base + o1] + w2 * rr[base + o2] + w3 * rr[base + o3];
       const ai = w0 * ri[base + o0] + w1 * ri[base + o1] + w2 * ri[base + o2] + w3 * ri[base + o3];
       if (ad !== null) ad[m] = ar * ar + ai * ai;
-      if (m > 0) {
-        if (this.uniformSpacing) {
-          const c2 = c * dc - sn * ds;
-          sn = sn * dc + c * ds;
-          c = c2;
-        } else {
-          ph = p.extPhase0[m] + p.phasePerMetre[m] * x;
-          c = Math.cos(ph);
-          sn = Math.sin(ph);
-        }
-      }
+      const c = pc[m];
+      const sn = ps[m];
       // multiply by r3' e^{-i ph}
       outR[m] = r3 * (ar * c + ai * sn);
       outI[m] = r3 * (ai * c - ar * sn);
@@ -446,32 +344,13 @@ export class ExactEngine implements LaneEngine {
     this.spInj = injP;
   }
 
-  /**
-   * Advance every lane by `steps` time steps; after each step call onStep (if given).
-   * Returns false if a non-finite value appeared (the state is then left as it was found).
-   */
-  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
-    for (let s = 0; s < steps; s++) {
-      this.stepOnce();
-      if (this.failed) return false;
-      if (onStep) onStep(this);
-    }
-    return true;
-  }
-
-  private stepOnce(): void {
+  protected stepOnce(): void {
     const p = this.p;
     const M = this.M;
     const dt = this.dt;
     const half = 0.5 * dt;
     const tauL = p.roundTripLaser_s;
-    // Spontaneous emission is added every noiseEvery steps with the variance of that many
-    // steps (independent increments add), a white-noise source sampled on a grid far finer
-    // than every response time of the system.
-    this.noiseCount++;
-    const noiseNow = this.noiseCount >= this.noiseEvery;
-    if (noiseNow) this.noiseCount = 0;
-    const noiseSigma = noiseNow ? Math.sqrt(0.5 * p.spontaneous_W * p.gammaC * dt * this.noiseEvery) : 0;
+    const noiseSigma = this.noiseKick();
     const ext = p.hasExternal;
     const xh = ext ? this.motion.position(this.t + half) : 0;
     const x1 = ext ? this.motion.position(this.t + dt) : 0;
@@ -513,31 +392,21 @@ export class ExactEngine implements LaneEngine {
         sn[m] = n0[m] + half * this.kn[m];
       }
       if (!ext) { b0r.fill(0); b0i.fill(0); }
-      // stage 2 at t + dt/2
-      this.rhs(sr, si, sn, b0r, b0i, this.kr, this.ki, this.kn);
-      gainI += 2 * this.spGain;
-      lossI += 2 * this.spLoss;
-      injI += 2 * this.spInj;
-      for (let m = 0; m < M; m++) {
-        accR[m] += 2 * this.kr[m];
-        accI[m] += 2 * this.ki[m];
-        accN[m] += 2 * this.kn[m];
-        sr[m] = e0r[m] + half * this.kr[m];
-        si[m] = e0i[m] + half * this.ki[m];
-        sn[m] = n0[m] + half * this.kn[m];
-      }
-      // stage 3 at t + dt/2
-      this.rhs(sr, si, sn, b0r, b0i, this.kr, this.ki, this.kn);
-      gainI += 2 * this.spGain;
-      lossI += 2 * this.spLoss;
-      injI += 2 * this.spInj;
-      for (let m = 0; m < M; m++) {
-        accR[m] += 2 * this.kr[m];
-        accI[m] += 2 * this.ki[m];
-        accN[m] += 2 * this.kn[m];
-        sr[m] = e0r[m] + dt * this.kr[m];
-        si[m] = e0i[m] + dt * this.ki[m];
-        sn[m] = n0[m] + dt * this.kn[m];
+      // stages 2 and 3 at t + dt/2 (RK4 weights 2), each setting up the next stage's state
+      for (let stage = 2; stage <= 3; stage++) {
+        this.rhs(sr, si, sn, b0r, b0i, this.kr, this.ki, this.kn);
+        gainI += 2 * this.spGain;
+        lossI += 2 * this.spLoss;
+        injI += 2 * this.spInj;
+        const next = stage === 2 ? half : dt;
+        for (let m = 0; m < M; m++) {
+          accR[m] += 2 * this.kr[m];
+          accI[m] += 2 * this.ki[m];
+          accN[m] += 2 * this.kn[m];
+          sr[m] = e0r[m] + next * this.kr[m];
+          si[m] = e0i[m] + next * this.ki[m];
+          sn[m] = n0[m] + next * this.kn[m];
+        }
       }
       if (!ext) { this.b1r.fill(0); this.b1i.fill(0); }
       // stage 4 at t + dt

@@ -22,86 +22,32 @@
  * to the quadrature error.
  */
 import type { CoupledParams } from './params';
-import { emptyEnergy } from './lane-engine';
-import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+import { LaneEngineBase } from './lane-base';
+import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
 
 const FLUSH = 1e-150;
 /** sub-intervals of each step for the energy quadrature (composite Simpson; even) */
 const QUAD_INTERVALS = 4;
 
-export class FastEngine implements LaneEngine {
+export class FastEngine extends LaneEngineBase implements LaneEngine {
   readonly kind = 'fast' as const;
-  readonly L: number;
-  readonly M: number;
-  readonly dt: number;
-  t = 0;
-  readonly Er: Float64Array;
-  readonly Ei: Float64Array;
-  readonly N: Float64Array;
-  readonly ar: Float64Array;
-  readonly ai: Float64Array;
-  readonly br: Float64Array;
-  readonly bi: Float64Array;
-  readonly offset: Float64Array;
-  readonly energy: LaneEnergy[];
-  failed = false;
-  failMessage = '';
-  readonly noiseEvery: number;
-  private noiseCount = 0;
   private readonly sat: Float64Array;
   private readonly zr: Float64Array;
   private readonly zi: Float64Array;
   /** propagator of the last half step: m11, m12, m21, m22 as (re, im) */
   private readonly mx = new Float64Array(8);
-  private readonly uniformSpacing: boolean;
-  private readonly dPhase0: number;
-  private readonly dPhasePerMetre: number;
 
-  constructor(
-    readonly p: CoupledParams,
-    lanes: number,
-    dt: number,
-    readonly motion: MirrorMotion,
-    readonly rng: NormalSource,
-  ) {
-    this.L = lanes;
-    this.M = p.M;
-    this.dt = dt;
-    const LM = lanes * p.M;
-    this.Er = new Float64Array(LM);
-    this.Ei = new Float64Array(LM);
-    this.N = new Float64Array(LM);
-    this.ar = new Float64Array(LM);
-    this.ai = new Float64Array(LM);
-    this.br = new Float64Array(LM);
-    this.bi = new Float64Array(LM);
-    this.offset = new Float64Array(lanes);
+  constructor(p: CoupledParams, lanes: number, dt: number, motion: MirrorMotion, rng: NormalSource) {
+    super(p, lanes, dt, motion, rng);
     this.sat = new Float64Array(p.M);
     this.zr = new Float64Array(p.M);
     this.zi = new Float64Array(p.M);
-    this.energy = Array.from({ length: lanes }, () => emptyEnergy());
-    const M = p.M;
-    let uniform = M > 1;
-    for (let m = 1; m < M; m++) if (p.modes.order[m] - p.modes.order[m - 1] !== 1) uniform = false;
-    this.uniformSpacing = uniform;
-    this.dPhase0 = M > 1 ? p.extPhase0[1] - p.extPhase0[0] : 0;
-    this.dPhasePerMetre = M > 1 ? p.phasePerMetre[1] - p.phasePerMetre[0] : 0;
-    this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
   }
 
-  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
-    for (let l = 0; l < this.L; l++) {
-      for (let m = 0; m < this.M; m++) {
-        const j = l * this.M + m;
-        this.Er[j] = Er[m];
-        this.Ei[j] = Ei[m];
-        this.N[j] = N[m];
-        this.ar[j] = 0;
-        this.ai[j] = 0;
-        this.br[j] = 0;
-        this.bi[j] = 0;
-      }
-    }
+  /** The mean field starts empty. */
+  protected override afterStateSet(): void {
+    this.ar.fill(0);
+    this.ai.fill(0);
   }
 
   copyLane(other: LaneEngine, from: number, to: number): void {
@@ -116,15 +62,6 @@ export class FastEngine implements LaneEngine {
     }
   }
 
-  laserEnergy(l: number): number {
-    let s = 0;
-    for (let m = 0; m < this.M; m++) {
-      const j = l * this.M + m;
-      s += this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
-    }
-    return s * this.p.roundTripLaser_s;
-  }
-
   /** Stored external energy tau_E sum |a|^2 (one-way power times the round-trip time), J. */
   externalEnergy(l: number): number {
     if (!this.p.hasExternal) return 0;
@@ -136,52 +73,13 @@ export class FastEngine implements LaneEngine {
     return s * this.p.roundTripExternal_s;
   }
 
-  resetEnergy(): void {
-    for (let l = 0; l < this.L; l++) {
-      const e = emptyEnergy();
-      e.laserStart = this.laserEnergy(l);
-      e.externalStart = this.externalEnergy(l);
-      this.energy[l] = e;
-    }
-  }
-
-  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
-    for (let s = 0; s < steps; s++) {
-      this.stepOnce();
-      if (this.failed) return false;
-      if (onStep) onStep(this);
-    }
-    return true;
-  }
-
   /** r3' e^{-i phi_m} for every mode at mirror displacement x into (zr, zi). */
   private roundTripFactor(x: number): void {
-    const p = this.p;
-    const M = this.M;
-    const r3 = p.hasExternal ? p.r3eff : 0;
-    let ph = p.extPhase0[0] + p.phasePerMetre[0] * x;
-    let c = Math.cos(ph);
-    let sn = Math.sin(ph);
-    let dc = 1, ds = 0;
-    if (M > 1 && this.uniformSpacing) {
-      const d = this.dPhase0 + this.dPhasePerMetre * x;
-      dc = Math.cos(d);
-      ds = Math.sin(d);
-    }
-    for (let m = 0; m < M; m++) {
-      if (m > 0) {
-        if (this.uniformSpacing) {
-          const c2 = c * dc - sn * ds;
-          sn = sn * dc + c * ds;
-          c = c2;
-        } else {
-          ph = p.extPhase0[m] + p.phasePerMetre[m] * x;
-          c = Math.cos(ph);
-          sn = Math.sin(ph);
-        }
-      }
-      this.zr[m] = r3 * c;
-      this.zi[m] = -r3 * sn;
+    const r3 = this.p.hasExternal ? this.p.r3eff : 0;
+    this.phases.at(x);
+    for (let m = 0; m < this.M; m++) {
+      this.zr[m] = r3 * this.phases.cos[m];
+      this.zi[m] = -r3 * this.phases.sin[m];
     }
   }
 
@@ -274,7 +172,7 @@ export class FastEngine implements LaneEngine {
     mx[7] = qi - (pr * di + pi * dr);
   }
 
-  private stepOnce(): void {
+  protected stepOnce(): void {
     const p = this.p;
     const M = this.M;
     const h = this.dt;
@@ -282,10 +180,7 @@ export class FastEngine implements LaneEngine {
     const tauL = p.roundTripLaser_s;
     const tauE = p.hasExternal ? p.roundTripExternal_s : 1;
     const ext = p.hasExternal;
-    this.noiseCount++;
-    const noiseNow = this.noiseCount >= this.noiseEvery;
-    if (noiseNow) this.noiseCount = 0;
-    const noiseSigma = noiseNow ? Math.sqrt(0.5 * p.spontaneous_W * p.gammaC * h * this.noiseEvery) : 0;
+    const noiseSigma = this.noiseKick();
     const xMid = ext ? this.motion.position(this.t + half) : 0;
     const xEnd = ext ? this.motion.position(this.t + h) : 0;
     const g = p.gammaC;

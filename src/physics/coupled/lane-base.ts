@@ -1,0 +1,182 @@
+/**
+ * What the two time-stepping engines share: the lane state arrays, the laser energy, the
+ * bookkeeping reset, the stepping loop, the spontaneous-emission cadence and the external
+ * round-trip phase of every mode.
+ */
+import type { CoupledParams } from './params';
+import { emptyEnergy } from './lane-engine';
+import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+
+/**
+ * cos and sin of the external round-trip phase phi_m = 2 pi frac(2 L2 / lambda_m) +
+ * (4 pi / lambda_m) x of every mode at mirror displacement x. The modes are equally
+ * spaced in frequency, so each phasor follows from its neighbour's by one complex
+ * rotation: two trig calls per evaluation instead of 2 M.
+ */
+export class ModePhases {
+  readonly cos: Float64Array;
+  readonly sin: Float64Array;
+  private readonly uniform: boolean;
+  private readonly d0: number;
+  private readonly dk: number;
+
+  constructor(private readonly p: CoupledParams) {
+    const M = p.M;
+    this.cos = new Float64Array(M);
+    this.sin = new Float64Array(M);
+    let uniform = M > 1;
+    for (let m = 1; m < M; m++) if (p.modes.order[m] - p.modes.order[m - 1] !== 1) uniform = false;
+    this.uniform = uniform;
+    this.d0 = M > 1 ? p.extPhase0[1] - p.extPhase0[0] : 0;
+    this.dk = M > 1 ? p.phasePerMetre[1] - p.phasePerMetre[0] : 0;
+  }
+
+  /** Fill cos and sin for displacement x, m. */
+  at(x: number): void {
+    const p = this.p;
+    const M = p.M;
+    if (!this.uniform) {
+      for (let m = 0; m < M; m++) {
+        const ph = p.extPhase0[m] + p.phasePerMetre[m] * x;
+        this.cos[m] = Math.cos(ph);
+        this.sin[m] = Math.sin(ph);
+      }
+      return;
+    }
+    const ph = p.extPhase0[0] + p.phasePerMetre[0] * x;
+    let c = Math.cos(ph);
+    let s = Math.sin(ph);
+    const d = this.d0 + this.dk * x;
+    const dc = Math.cos(d);
+    const ds = Math.sin(d);
+    for (let m = 0; m < M; m++) {
+      if (m > 0) {
+        const c2 = c * dc - s * ds;
+        s = s * dc + c * ds;
+        c = c2;
+      }
+      this.cos[m] = c;
+      this.sin[m] = s;
+    }
+  }
+}
+
+export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyLane' | 'externalEnergy'> {
+  readonly L: number;
+  readonly M: number;
+  readonly dt: number;
+  /** time, s */
+  t = 0;
+  readonly Er: Float64Array;
+  readonly Ei: Float64Array;
+  readonly N: Float64Array;
+  readonly ar: Float64Array;
+  readonly ai: Float64Array;
+  readonly br: Float64Array;
+  readonly bi: Float64Array;
+  readonly offset: Float64Array;
+  energy: LaneEnergy[];
+  failed = false;
+  failMessage = '';
+  /**
+   * Spontaneous emission is added every noiseEvery steps with the variance of that many
+   * steps (independent increments add): a white-noise source sampled on a grid far finer
+   * (at most 2 % of a photon lifetime) than every response time of the system.
+   */
+  readonly noiseEvery: number;
+  private noiseCount = 0;
+  protected readonly phases: ModePhases;
+
+  constructor(
+    readonly p: CoupledParams,
+    lanes: number,
+    dt: number,
+    readonly motion: MirrorMotion,
+    readonly rng: NormalSource,
+  ) {
+    this.L = lanes;
+    this.M = p.M;
+    this.dt = dt;
+    const LM = lanes * p.M;
+    this.Er = new Float64Array(LM);
+    this.Ei = new Float64Array(LM);
+    this.N = new Float64Array(LM);
+    this.ar = new Float64Array(LM);
+    this.ai = new Float64Array(LM);
+    this.br = new Float64Array(LM);
+    this.bi = new Float64Array(LM);
+    this.offset = new Float64Array(lanes);
+    this.energy = Array.from({ length: lanes }, () => emptyEnergy());
+    this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
+    this.phases = new ModePhases(p);
+  }
+
+  abstract externalEnergy(l: number): number;
+  protected abstract stepOnce(): void;
+
+  /** Set every lane's laser fields and inversions (length M each); the external field starts empty. */
+  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
+    for (let l = 0; l < this.L; l++) {
+      for (let m = 0; m < this.M; m++) {
+        const j = l * this.M + m;
+        this.Er[j] = Er[m];
+        this.Ei[j] = Ei[m];
+        this.N[j] = N[m];
+        this.br[j] = 0;
+        this.bi[j] = 0;
+      }
+    }
+    this.afterStateSet();
+  }
+
+  /** Hook for an engine to derive its external state from the laser state just set. */
+  protected afterStateSet(): void {
+    const p = this.p;
+    for (let j = 0; j < this.L * this.M; j++) {
+      this.ar[j] = p.couplingOut * this.Er[j];
+      this.ai[j] = p.couplingOut * this.Ei[j];
+    }
+  }
+
+  /** Stored laser energy of a lane, tau_L sum |E|^2, J. */
+  laserEnergy(l: number): number {
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+    }
+    return s * this.p.roundTripLaser_s;
+  }
+
+  /** Start the energy bookkeeping of every lane from the present state. */
+  resetEnergy(): void {
+    for (let l = 0; l < this.L; l++) {
+      const e = emptyEnergy();
+      e.laserStart = this.laserEnergy(l);
+      e.externalStart = this.externalEnergy(l);
+      this.energy[l] = e;
+    }
+  }
+
+  /**
+   * Advance every lane by `steps` time steps; after each step call onStep (if given).
+   * Returns false if a non-finite value appeared (failMessage says where).
+   */
+  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
+    for (let s = 0; s < steps; s++) {
+      this.stepOnce();
+      if (this.failed) return false;
+      if (onStep) onStep(this as unknown as LaneEngine);
+    }
+    return true;
+  }
+
+  /** Standard deviation of each quadrature of the noise kick due at this step (0 if none). */
+  protected noiseKick(): number {
+    this.noiseCount++;
+    if (this.noiseCount < this.noiseEvery) return 0;
+    this.noiseCount = 0;
+    const p = this.p;
+    return Math.sqrt(0.5 * p.spontaneous_W * p.gammaC * this.dt * this.noiseEvery);
+  }
+}
