@@ -2,9 +2,14 @@
  * Progress on stderr for long commands. On an interactive terminal (stderr a TTY and CI
  * unset) a cli-progress bar with count, rate and ETA; otherwise a plain line now and then
  * (every ~10 s or every 10 % of the work), which reads well in log files; nothing at all
- * when quiet. stdout is never touched, so piped results stay clean.
+ * when quiet or under a CI runner (CI set). stdout is never touched, so piped results stay clean.
  */
 import { SingleBar } from 'cli-progress';
+
+/** True under a CI runner (CI set and not 'false'): long work then stays quiet. */
+export function underCI(env: NodeJS.ProcessEnv = process.env): boolean {
+  return env.CI !== undefined && env.CI !== '' && env.CI !== 'false';
+}
 
 /** True when a live bar may be drawn: the stream is a TTY and CI is unset or empty. */
 export function interactive(stream: { isTTY?: boolean } = process.stderr, env: NodeJS.ProcessEnv = process.env): boolean {
@@ -75,7 +80,7 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
   const unit = opts.unit ?? 'points';
   const now = opts.now ?? (() => Date.now());
   let total = opts.total;
-  if (opts.quiet) {
+  if (opts.quiet || (!opts.plain && opts.stream === undefined && underCI())) {
     return { update: () => undefined, log: (m) => void stream.write(`${m}\n`), stop: () => undefined };
   }
   const t0 = now();
@@ -178,7 +183,7 @@ export interface RunProgress {
 export function createRunProgress(opts: { label: string; quiet?: boolean; stream?: NodeJS.WriteStream; plain?: boolean; intervalS?: number; now?: () => number }): RunProgress {
   const stream = opts.stream ?? process.stderr;
   const now = opts.now ?? (() => Date.now());
-  if (opts.quiet) return { onProgress: () => undefined, stop: () => undefined };
+  if (opts.quiet || (!opts.plain && opts.stream === undefined && underCI())) return { onProgress: () => undefined, stop: () => undefined };
   const t0 = now();
   const eta = (f: number) => {
     const dt = (now() - t0) / 1000;
