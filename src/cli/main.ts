@@ -13,6 +13,7 @@ import { registerBatch } from './commands/batch';
 import { registerMerge } from './commands/merge';
 import { registerReport } from './commands/report';
 import { registerActuator } from './commands/actuator';
+import { registerCompare } from './commands/compare';
 
 /** Exit status a command reports back to main. */
 export type ExitCode = 0 | 1 | 2;
@@ -38,6 +39,7 @@ export function buildProgram(ctx: CommandContext): Command {
   registerMerge(program, ctx);
   registerReport(program, ctx);
   registerActuator(program, ctx);
+  registerCompare(program, ctx);
   registerSchema(program, ctx);
   for (const c of program.commands) c.exitOverride();
   return program;

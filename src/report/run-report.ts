@@ -337,20 +337,101 @@ interface ActuatorRow {
   unit: string;
   limit: number | string | null;
   ok: boolean | null;
+  /** false for a row of the sheet that no scenario key limits (its limit cell stays empty) */
+  limited?: boolean;
 }
 
+/** A limit check of the sheet, read defensively (the file may come from another version). */
+interface SheetLimit {
+  key: string;
+  value: number;
+  limit: number;
+  unit: string;
+  kind: string;
+  ok: boolean;
+}
+
+function sheetLimits(sheet: unknown): SheetLimit[] {
+  const l = get(sheet, 'limits');
+  return Array.isArray(l) ? l.filter((x): x is SheetLimit => x !== null && typeof x === 'object' && typeof (x as SheetLimit).key === 'string') : [];
+}
+
+/** "<= 150 V" or ">= 1.5" for a limit check. */
+function limitText(c: SheetLimit): string {
+  const bound = c.unit === '' ? fmtNum(c.limit) : fmtSI(c.limit, c.unit);
+  return `${c.kind === 'min' ? '≥' : '≤'} ${bound}`;
+}
+
+/**
+ * The rows of an actuator sheet (summary.actuator, the object of actuatorSheet): what the
+ * amplifier and the mechanics have to deliver, each limit the scenario sets beside its
+ * value. The kinematics (stroke, speed, Doppler shift) are in the drive section already.
+ */
+function sheetRows(sheet: unknown): ActuatorRow[] {
+  const req = get(sheet, 'actuator');
+  if (req === null || typeof req !== 'object') return [];
+  const limits = sheetLimits(sheet);
+  const check = (key: string): Pick<ActuatorRow, 'limit' | 'ok' | 'limited'> => {
+    const c = limits.find((l) => l.key === key);
+    return c ? { limit: limitText(c), ok: c.ok === true, limited: true } : { limit: null, ok: null, limited: true };
+  };
+  const rows: ActuatorRow[] = [];
+  const push = (r: ActuatorRow) => rows.push({ limited: false, ...r });
+  const num = (v: unknown): number | null => (isNum(v) ? v : null);
+  const src = get(req, 'resolved', 'resonance_source');
+  push({ quantity: 'stroke per volt (static)', value: num(get(req, 'resolved', 'stroke_per_volt_m_V')), unit: 'm/V', limit: null, ok: null });
+  push({ quantity: `first resonance${typeof src === 'string' && src !== 'none' ? ` (${src})` : ''}`, value: num(get(req, 'resolved', 'resonance_Hz')), unit: 'Hz', limit: null, ok: null });
+  push({ quantity: 'quality factor', value: num(get(req, 'resolved', 'quality_factor')), unit: '', limit: null, ok: null });
+  const comps = get(req, 'components');
+  if (Array.isArray(comps)) {
+    for (const c of comps) {
+      const label = String(get(c, 'label') ?? '');
+      const mag = get(c, 'response_magnitude');
+      push({ quantity: `${label}: response |H| at ${fmtSI(get(c, 'frequency_Hz'), 'Hz')}`, value: isNum(mag) ? fmtNum(mag) : null, unit: '', limit: null, ok: null });
+      if (comps.length > 1) push({ quantity: `${label}: voltage amplitude`, value: num(get(c, 'voltage_V')), unit: 'V', limit: null, ok: null });
+    }
+  }
+  const margin = get(req, 'resonance_margin');
+  // without a resonance the response is quasi-static and there is no margin to check (the notes say so)
+  if (isNum(margin)) {
+    push({ quantity: 'resonance / drive frequency', value: fmtNum(margin), unit: '', ...check('actuator.min_resonance_margin') });
+    const above = get(req, 'above_resonance') === true;
+    push({ quantity: 'drive below the resonance', value: above ? 'no' : 'yes', unit: '', limit: 'yes', ok: !above, limited: true });
+  }
+  push({ quantity: 'peak voltage', value: num(get(req, 'voltage_peak_V')), unit: 'V', ...check('actuator.max_voltage') });
+  push({ quantity: 'voltage peak to peak', value: num(get(req, 'voltage_peak_to_peak_V')), unit: 'V', limit: null, ok: null });
+  push({ quantity: 'peak reactive current', value: num(get(req, 'current_peak_A')), unit: 'A', ...check('actuator.max_current') });
+  push({ quantity: 'reactive power (½ V I)', value: num(get(req, 'reactive_power_var')), unit: 'var', limit: null, ok: null });
+  if (isNum(get(req, 'force_N'))) push({ quantity: 'peak force on the moving mass', value: num(get(req, 'force_N')), unit: 'N', limit: null, ok: null });
+  return rows;
+}
+
+/**
+ * The actuator section: summary.actuator is either the sheet of actuatorSheet (an object,
+ * statuses OK / EXCEEDED, its notes below the table) or a plain list of rows
+ * { quantity, value, unit, limit, ok } (statuses yes / NO); nothing when absent or null.
+ */
 function actuatorSection(s: RunSummary): SafeHtml {
-  const rowsRaw = (s as unknown as { actuator?: unknown }).actuator;
-  if (!Array.isArray(rowsRaw) || rowsRaw.length === 0) return html``;
+  const raw = (s as unknown as { actuator?: unknown }).actuator;
+  const isSheet = raw !== null && typeof raw === 'object' && !Array.isArray(raw);
+  const rowsRaw: unknown[] = Array.isArray(raw) ? raw : isSheet ? sheetRows(raw) : [];
+  if (rowsRaw.length === 0) return html``;
+  const [yes, no] = isSheet ? ['OK', 'EXCEEDED'] : ['yes', 'NO'];
   const v = (x: unknown, unit: unknown): string =>
     typeof x === 'number' ? fmtSI(x, typeof unit === 'string' ? unit : '') : typeof x === 'string' ? x : NOT_COMPUTED;
   const rows = rowsRaw.filter((r): r is ActuatorRow => r !== null && typeof r === 'object');
+  const exceeded = get(raw, 'exceeded');
+  const notes = get(raw, 'notes');
   return section(
     'actuator',
     'What the actuator has to deliver',
     html`<table><thead><tr><th>quantity</th><th class="num">needed</th><th class="num">limit</th><th>within limit</th></tr></thead><tbody>${rows.map(
-      (r) => html`<tr class="${r.ok === false ? 'flag' : ''}"><th>${String(r.quantity ?? '')}</th>${cell(v(r.value, r.unit), 'num')}${cell(r.limit === null || r.limit === undefined ? 'no limit given' : v(r.limit, r.unit), 'num')}<td>${r.ok === true ? 'yes' : r.ok === false ? 'NO' : '—'}</td></tr>`,
+      (r) => html`<tr class="${r.ok === false ? 'flag' : ''}"><th>${String(r.quantity ?? '')}</th>${cell(v(r.value, r.unit), 'num')}${r.limited === false ? html`<td class="num"></td>` : cell(r.limit === null || r.limit === undefined ? 'no limit given' : v(r.limit, r.unit), 'num')}<td>${r.ok === true ? yes : r.ok === false ? no : '—'}</td></tr>`,
     )}</tbody></table>`,
+    isSheet && Array.isArray(exceeded)
+      ? html`<p class="note">${exceeded.length === 0 ? 'Every limit the scenario sets is met.' : `Limits exceeded: ${exceeded.map(String).join(', ')}.`}</p>`
+      : '',
+    isSheet && Array.isArray(notes) && notes.length > 0 ? html`<ul class="note">${notes.map((n) => html`<li>${String(n)}</li>`)}</ul>` : '',
   );
 }
 

@@ -4,6 +4,8 @@
  * A value the engine could not compute is null, never a made-up number.
  */
 
+import type { ActuatorSheet } from '../physics/actuator';
+
 export const RESULT_VERSION = 1;
 
 export type RunClass = 'decoupled' | 'modulated' | 'hopping' | 'no-gain' | 'no-lasing' | 'numerical-failure';
@@ -149,4 +151,10 @@ export interface RunSummary {
   } | null;
   timing: { wall_s: number; steps: number; engine_steps_per_s: number; mode_steps_per_s: number };
   warnings: Warning[];
+  /**
+   * The drive and actuator requirement sheet of the scenario (actuatorSheet, MODEL.md
+   * section 5): voltage, current, resonance margin and every limit checked. Null when the
+   * scenario has no actuator section; absent in summaries written before it existed.
+   */
+  actuator?: ActuatorSheet | null;
 }
