@@ -37,8 +37,23 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
   /** propagator of the last half step: m11, m12, m21, m22 as (re, im) */
   private readonly mx = new Float64Array(8);
 
+  /**
+   * Rotation rate of each lane-mode's field against its cold-cavity frequency, rad/s
+   * (feedback pulls the lasing frequency). The plain mean field is exact in steady state
+   * only to first order in dw tau_E; with the round-trip factor taken at the pulled
+   * frequency, tau_E da/dt = (-r2 z e^{-i dw tau_E} - 1 + i dw tau_E) a + t2 sqrt(eta) E,
+   * the steady state of a field turning at dw is the delay line's,
+   * a (1 + r2 z e^{-i dw tau_E}) = t2 sqrt(eta) E, for any dw.
+   */
+  private readonly dw: Float64Array;
+  /** weight of each new rate estimate: h / (external photon lifetime), at most 1 */
+  private readonly dwGain: number;
+
   constructor(p: CoupledParams, lanes: number, dt: number, motion: MirrorMotion, rng: NormalSource) {
     super(p, lanes, dt, motion, rng);
+    this.dw = new Float64Array(lanes * p.M);
+    const extLifetime = p.hasExternal ? p.roundTripExternal_s / Math.max(1e-12, 1 - (p.r2 * p.r3eff) ** 2) : dt;
+    this.dwGain = Math.min(1, dt / extLifetime);
     this.sat = new Float64Array(p.M);
     this.zr = new Float64Array(p.M);
     this.zi = new Float64Array(p.M);
@@ -59,6 +74,7 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
       this.Er[jd] = other.Er[js]; this.Ei[jd] = other.Ei[js]; this.N[jd] = other.N[js];
       this.ar[jd] = other.ar[js]; this.ai[jd] = other.ai[js];
       this.br[jd] = other.br[js]; this.bi[jd] = other.bi[js];
+      this.dw[jd] = other instanceof FastEngine ? other.dw[js] : 0;
     }
   }
 
@@ -198,15 +214,19 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
       for (let m = 0; m < M; m++) {
         const j = off + m;
         const G = g * this.N[j];
-        const zr = ext ? this.zr[m] : 0;
-        const zi = ext ? this.zi[m] : 0;
+        // frequency-corrected round trip: z' = z e^{-i dw tau_E} for a field turning at dw
+        const th = ext ? this.dw[j] * tauE : 0;
+        const ct = Math.cos(th);
+        const st = Math.sin(th);
+        const zr = ext ? this.zr[m] * ct + this.zi[m] * st : 0;
+        const zi = ext ? this.zi[m] * ct - this.zr[m] * st : 0;
         const a11r = 0.5 * (G - g);
         const a11i = -0.5 * p.alpha * G;
         const a12r = kap * zr;
         const a12i = kap * zi;
         const a21r = ext ? cpl / tauE : 0;
         const a22r = ext ? -(1 + r2 * zr) / tauE : -1;
-        const a22i = ext ? -(r2 * zi) / tauE : 0;
+        const a22i = ext ? (th - r2 * zi) / tauE : 0;
         this.expm2(a11r, a11i, a12r, a12i, a21r, 0, a22r, a22i, h / QUAD_INTERVALS);
         // propagate over QUAD_INTERVALS sub-intervals; composite Simpson weights (1, 4, 2, ..., 4, 1) h / (3 n)
         let Er = this.Er[j], Ei = this.Ei[j], Ar = this.ar[j], Ai = this.ai[j];
@@ -254,6 +274,19 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
         this.Ei[j] = E2i;
         this.ar[j] = A2r;
         this.ai[j] = A2i;
+        if (ext) {
+          // the field's rotation rate Im(E* dE/dt) / |E|^2 with dE/dt = A11 E + A12 a, for
+          // the next step's correction; a mode at the noise level keeps no correction
+          // the external field remembers the past over its photon lifetime, so the rate is
+          // averaged over that time (first-order filter)
+          const e2 = E2r * E2r + E2i * E2i;
+          if (e2 > 1e6 * p.spontaneous_W + 1e-30) {
+            const dEr = a11r * E2r - a11i * E2i + a12r * A2r - a12i * A2i;
+            const dEi = a11r * E2i + a11i * E2r + a12r * A2i + a12i * A2r;
+            const rate = (E2r * dEi - E2i * dEr) / e2;
+            this.dw[j] += (rate - this.dw[j]) * this.dwGain;
+          } else this.dw[j] = 0;
+        }
       }
       const w6 = h / (3 * QUAD_INTERVALS);
       e.gain += w6 * gain * tauL;
@@ -271,8 +304,13 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
         this.roundTripFactor(this.offset[l] + xEnd);
         for (let m = 0; m < M; m++) {
           const j = off + m;
-          this.br[j] = this.zr[m] * this.ar[j] - this.zi[m] * this.ai[j];
-          this.bi[j] = this.zr[m] * this.ai[j] + this.zi[m] * this.ar[j];
+          const th = this.dw[j] * tauE;
+          const ct = Math.cos(th);
+          const st = Math.sin(th);
+          const zr = this.zr[m] * ct + this.zi[m] * st;
+          const zi = this.zi[m] * ct - this.zr[m] * st;
+          this.br[j] = zr * this.ar[j] - zi * this.ai[j];
+          this.bi[j] = zr * this.ai[j] + zi * this.ar[j];
         }
       }
     }

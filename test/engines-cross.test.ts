@@ -1,0 +1,182 @@
+/**
+ * Cross-validation of the engines (issue 8 item 2). No closed form gives the driven mean
+ * power of a laser with a moving return mirror, so two independent methods are compared
+ * (STYLE.md, "compare two independent methods (exact versus accelerated engine)"): the
+ * exact delay line of MODEL.md 3.3, which keeps every round trip, and the mean field of
+ * MODEL.md 3.4, which averages over round trips and whose steady state equals the exact
+ * model's for any round-trip phase (MODEL.md 3.4). Where the planner says the mean field is
+ * valid (round-trip phase change <= FAST_VALID_FRACTION of the resonance width), the two
+ * must agree on the mean external power within 2 % and on the class (issue 8 item 2).
+ * runScenario with engine 'exact' settles the static reference with the exact engine too;
+ * 'fast' lets the planner pick the static engine (the mean field here), so gain over
+ * static, and with it the class, is judged by each engine against its own reference.
+ */
+import { describe, expect, it } from 'vitest';
+import { FAST_VALID_FRACTION } from '../src/simulate/engine-choice';
+import type { Scenario } from '../src/scenario/schema';
+import { paramsOf } from './fixtures/engine/build';
+import { demoWith, ownCase, phaseFraction, planOf, rel, runWith } from './fixtures/cross/cases';
+
+// The issue's requirement. Measured scatter from the noise seed alone (demo laser, three
+// seeds, 10 kHz x 300 nm) was 0.2 %, so a 2 % band is not eaten by noise.
+const MEAN_TOL = 0.02;
+
+interface Case {
+  name: string;
+  s: () => Scenario;
+  /** expected to hop: checked in both engines */
+  hops?: boolean;
+  /** the medium's class as the engines see it (tau_N < 0.1 / gamma_c is class A, MODEL.md 3.2) */
+  classA?: boolean;
+}
+
+// Measured with this file's settings (fast / exact - 1 of the mean external power; phase
+// fraction = round-trip phase change / resonance width; the limit is 0.01). Earlier
+// figures, before the mean field took the round-trip factor at the pulled lasing
+// frequency and the limit went from 0.02 to 0.01, are in the issue notes of issue 8.
+//   demo 1 MHz x 2 nm            fraction 0.0092
+//   own, slow 10 kHz x 300 nm    fraction 0.0058
+//   own, fast 1 MHz x 5 nm       fraction 0.0096
+//   own, hopping 20 kHz x 150 nm fraction 0.0058  4 rest offsets: +1.9 % (one offset +7.5 %:
+//                                which mode regrows first after a hop is seeded by noise,
+//                                different in the two engines); 2 offsets gave +11 %
+//   own, laser ignores feedback  fraction 0.0058
+//   own, class A 1 MHz x 5 nm    fraction 0.0096
+const CASES: Case[] = [
+  {
+    // 4 nm stroke at 1 MHz: peak speed 0.013 m/s, the speed of the demo's 10 kHz x 200 nm below
+    name: "the demo's laser and cavity, 1 MHz x 2 nm",
+    s: () => demoWith({ amplitude: '2 nm', frequency: '1 MHz' }),
+  },
+  {
+    // the gap swept through two resonances per stroke, slowly (0.019 m/s peak)
+    name: 'a slow drive, 10 kHz x 300 nm (own laser)',
+    s: () => ownCase({ drive: { waveform: 'sine', amplitude: '300 nm', frequency: '10 kHz' }, analysis: { detection_bandwidth: '100 kHz' } }),
+  },
+  {
+    name: 'a fast drive, 1 MHz x 5 nm (own laser)',
+    s: () => ownCase({ drive: { waveform: 'sine', amplitude: '5 nm', frequency: '1 MHz' } }),
+    classA: false,
+  },
+  {
+    // Two modes of equal gain (peak midway), homogeneous gain (one reservoir: the mode
+    // with the lower compound threshold wins), alpha 3: the feedback phase decides which
+    // mode lases, and the stroke carries the winner's compound resonance across.
+    name: 'a hopping case: two equal modes, homogeneous gain, alpha 3, 20 kHz x 150 nm',
+    s: () =>
+      ownCase({
+        modes: 2,
+        centerOffset: '111 MHz',
+        alpha: 3,
+        drive: { waveform: 'sine', amplitude: '150 nm', frequency: '20 kHz' },
+        simulation: { periods: 2, settle: '50 us', drive_offsets: 4 },
+        analysis: { detection_bandwidth: '100 kHz' },
+      }),
+    hops: true,
+  },
+  {
+    name: 'a laser ignoring its feedback (return_to_laser false), 100 kHz x 30 nm',
+    s: () => ownCase({ returnToLaser: false, drive: { waveform: 'sine', amplitude: '30 nm', frequency: '100 kHz' } }),
+  },
+  {
+    // tau_N 2 ns against a photon lifetime of 157 ns: class A (inversion adiabatic)
+    name: 'a class-A laser, 1 MHz x 5 nm',
+    s: () => ownCase({ tauN: '2 ns', drive: { waveform: 'sine', amplitude: '5 nm', frequency: '1 MHz' } }),
+    classA: true,
+  },
+];
+
+describe('exact and mean-field engines agree where the mean field is valid', () => {
+  for (const c of CASES) {
+    it(`${c.name}: mean external power within 2 % and the same class`, () => {
+      const s = c.s();
+      const plan = planOf(s);
+      // the case lies inside the mean-field validity the planner applies
+      expect(phaseFraction(plan)).toBeLessThanOrEqual(FAST_VALID_FRACTION);
+      if (c.classA !== undefined) expect(paramsOf(s).classA).toBe(c.classA);
+      const exact = runWith(s, 'exact');
+      const fast = runWith(s, 'fast');
+      expect(exact.engine).toBe('exact');
+      expect(fast.engine).toBe('fast');
+      // no validity warning on the requested mean field: the run agrees it is in range
+      expect(fast.warnings).not.toContain('engine-validity');
+      expect(exact.status).toBe('ok');
+      expect(fast.status).toBe('ok');
+      const d = rel(exact.driven.external_mean_W, fast.driven.external_mean_W);
+      expect(Math.abs(d), `fast / exact - 1 = ${d}`).toBeLessThanOrEqual(MEAN_TOL);
+      expect(fast.driven.class).toBe(exact.driven.class);
+      if (c.hops) {
+        expect(exact.driven.class).toBe('hopping');
+        expect(exact.driven.hops_per_period).toBeGreaterThan(0);
+        expect(fast.driven.hops_per_period).toBeGreaterThan(0);
+      }
+    });
+  }
+
+  it("the demo's strongly coupled laser at 10 kHz x 200 nm: the pulled lasing frequency is kept in the round trip", () => {
+    // With eta_fb 0.99 the feedback pulls the lasing frequency by up to ~0.5 rad per external
+    // round trip (tens of resonance widths); the plain mean field keeps that offset's
+    // round-trip phase only to first order, and read 3-4 % low here (static states near the
+    // compound resonances off by up to 13 %). Taking the round-trip factor at the pulled
+    // frequency makes the mean field's steady state the delay line's for any pull.
+    const s = demoWith({ amplitude: '200 nm', frequency: '10 kHz' }, { settle: '100 us', drive_offsets: 4, periods: 2 }, { detection_bandwidth: '100 kHz' });
+    const plan = planOf(s);
+    expect(phaseFraction(plan)).toBeLessThanOrEqual(FAST_VALID_FRACTION);
+    const exact = runWith(s, 'exact');
+    const fast = runWith(s, 'fast');
+    expect(fast.driven.class).toBe(exact.driven.class);
+    const d = rel(exact.driven.external_mean_W, fast.driven.external_mean_W);
+    expect(Math.abs(d), `fast / exact - 1 = ${d}`).toBeLessThanOrEqual(MEAN_TOL);
+  });
+});
+
+describe('the adiabatic path against the mean-field engine', () => {
+  it('on a very slow drive (1 kHz x 1 nm) where the planner picks adiabatic, the mean external power agrees within 1 %', () => {
+    // v x regrowth time = 0.033 resonance widths (limit 0.05): the state follows the static
+    // curve (MODEL.md 3.4). 512 static positions resolve the resonance (width lambda / 2F =
+    // 1.5 nm, 2F = 415 positions needed), eight offsets sample the curve. Measured: adiabatic
+    // / fast - 1 = +0.03 %, every offset within 0.04 %; 1 % leaves room for the static
+    // curve's linear interpolation between positions 0.6 nm apart. Both use the same
+    // (mean-field) static reference, so this checks the sampling of the curve against time
+    // stepping, as MODEL.md 3.4 asks ("check it against time stepping where both apply").
+    const s = ownCase({
+      drive: { waveform: 'sine', amplitude: '1 nm', frequency: '1 kHz' },
+      simulation: { drive_offsets: 8, static_positions: 512 },
+      analysis: { detection_bandwidth: '10 kHz' },
+    });
+    const plan = planOf(s);
+    expect(plan.driven.kind).toBe('adiabatic');
+    expect(plan.basis.adiabaticMeasure).toBeLessThanOrEqual(0.05);
+    expect(phaseFraction(plan)).toBeLessThanOrEqual(FAST_VALID_FRACTION);
+    const adi = runWith(s, 'adiabatic');
+    const fast = runWith(s, 'fast');
+    expect(adi.engine).toBe('adiabatic');
+    expect(adi.warnings).not.toContain('engine-validity');
+    const d = rel(fast.driven.external_mean_W, adi.driven.external_mean_W);
+    expect(Math.abs(d), `adiabatic / fast - 1 = ${d}`).toBeLessThanOrEqual(0.01);
+    expect(adi.driven.class).toBe(fast.driven.class);
+  });
+});
+
+describe('why the validity rule exists', () => {
+  it('at about 10x the valid speed the mean field departs from the exact engine by far more than 2 %', () => {
+    // The laser ignores its feedback so that the only difference left is the mean field's
+    // treatment of the moving mirror. Measured (own laser, class A, R3 0.99, finesse 208):
+    //   100 kHz x  30 nm  fraction 0.0058   -0.08 %  (class A; -0.10 % class B, the case above)
+    //     1 MHz x 100 nm  fraction 0.193    -31.3 %  (9.6x the limit; this test)
+    // and on the demo cavity at 10 kHz: fraction 0.0014 -0.01 %, 0.0046 -0.13 %,
+    // 0.0138 -0.97 %: the error grows as the square of the phase fraction. Within one
+    // resonance crossing the mean field needs many round trips (1 / fraction of them); at
+    // 0.19 there are five, and the ringing of the exact delay line is lost.
+    const s = ownCase({ tauN: '2 ns', returnToLaser: false, drive: { waveform: 'sine', amplitude: '100 nm', frequency: '1 MHz' } });
+    const plan = planOf(s);
+    expect(phaseFraction(plan)).toBeGreaterThan(5 * FAST_VALID_FRACTION);
+    expect(plan.driven.kind).toBe('exact');
+    const exact = runWith(s, 'exact');
+    const fast = runWith(s, 'fast');
+    expect(fast.warnings).toContain('engine-validity');
+    const d = rel(exact.driven.external_mean_W, fast.driven.external_mean_W);
+    // more than five times the agreement band: a departure, not scatter
+    expect(Math.abs(d), `fast / exact - 1 = ${d}`).toBeGreaterThan(5 * MEAN_TOL);
+  });
+});
