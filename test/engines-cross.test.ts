@@ -12,7 +12,9 @@
  * static, and with it the class, is judged by each engine against its own reference.
  */
 import { describe, expect, it } from 'vitest';
-import { FAST_VALID_FRACTION } from '../src/simulate/engine-choice';
+import { FAST_VALID_FRACTION, fastLaserStep } from '../src/simulate/engine-choice';
+import { freeRunning, staticReference } from '../src/simulate/references';
+import { createRng } from '../src/numerics/rng';
 import type { Scenario } from '../src/scenario/schema';
 import { paramsOf } from './fixtures/engine/build';
 import { demoWith, ownCase, phaseFraction, planOf, rel, runWith } from './fixtures/cross/cases';
@@ -37,9 +39,10 @@ interface Case {
 //   demo 1 MHz x 2 nm            fraction 0.0092
 //   own, slow 10 kHz x 300 nm    fraction 0.0058
 //   own, fast 1 MHz x 5 nm       fraction 0.0096
-//   own, hopping 20 kHz x 150 nm fraction 0.0058  4 rest offsets: +1.9 % (one offset +7.5 %:
-//                                which mode regrows first after a hop is seeded by noise,
-//                                different in the two engines); 2 offsets gave +11 %
+//   own, hopping 20 kHz x 150 nm fraction 0.0058  about +0.5 % with the plain mean field in
+//                                the driven run; taking the round-trip factor at the pulled
+//                                frequency there too gave +6 to +8 %, which is why driven
+//                                runs keep the plain form (src/physics/coupled/fast.ts)
 //   own, laser ignores feedback  fraction 0.0058
 //   own, class A 1 MHz x 5 nm    fraction 0.0096
 const CASES: Case[] = [
@@ -113,12 +116,11 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
     });
   }
 
-  it("the demo's strongly coupled laser at 10 kHz x 200 nm: the pulled lasing frequency is kept in the round trip", () => {
-    // With eta_fb 0.99 the feedback pulls the lasing frequency by up to ~0.5 rad per external
-    // round trip (tens of resonance widths); the plain mean field keeps that offset's
-    // round-trip phase only to first order, and read 3-4 % low here (static states near the
-    // compound resonances off by up to 13 %). Taking the round-trip factor at the pulled
-    // frequency makes the mean field's steady state the delay line's for any pull.
+  it("the demo's strongly coupled laser at 10 kHz x 200 nm agrees within 2 %", () => {
+    // eta_fb 0.99: the feedback pulls the lasing frequency by up to ~0.5 rad per external
+    // round trip (tens of resonance widths). Measured: -1.5 % (plain mean field in the
+    // driven run, static reference at the pulled frequency); at 300 nm (fraction 0.014,
+    // outside the 0.01 limit) the plain mean field was 3-4 % low.
     const s = demoWith({ amplitude: '200 nm', frequency: '10 kHz' }, { settle: '100 us', drive_offsets: 4, periods: 2 }, { detection_bandwidth: '100 kHz' });
     const plan = planOf(s);
     expect(phaseFraction(plan)).toBeLessThanOrEqual(FAST_VALID_FRACTION);
@@ -127,6 +129,37 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
     expect(fast.driven.class).toBe(exact.driven.class);
     const d = rel(exact.driven.external_mean_W, fast.driven.external_mean_W);
     expect(Math.abs(d), `fast / exact - 1 = ${d}`).toBeLessThanOrEqual(MEAN_TOL);
+  });
+});
+
+describe('static steady states of the strongly coupled demo', () => {
+  it('the mean field at the pulled lasing frequency settles to the delay line\'s state at every position', () => {
+    // MODEL.md 3.4: the steady state of the mean field equals the exact model's for any
+    // round-trip phase; with feedback the lasing frequency is pulled off the cold mode, and
+    // the mean field's round-trip factor is taken at that frequency (fast.ts) so the
+    // equality holds for the pulled field too. Measured (64 positions, 16 us each): mean
+    // -0.01 %, worst position 0.4 %; the plain mean field was -0.64 % and -13 %.
+    const s = demoWith({ amplitude: '0 nm', frequency: '10 kHz' }, { static_positions: 32 });
+    const p = paramsOf(s);
+    const free = freeRunning(p, createRng(1).fork(1));
+    const run = (engine: 'exact' | 'fast', dt: number) =>
+      staticReference(p, { positions: 32, settle_s: 8e-6, dt, engine, halfWavelength_m: s.laser.wavelength / 2, rest_m: 0, initial: free, rng: createRng(1).fork(2) });
+    const ex = run('exact', p.roundTripExternal_s / 2);
+    const fa = run('fast', fastLaserStep(p));
+    let worst = 0;
+    let mEx = 0;
+    let mFa = 0;
+    for (let i = 0; i < 32; i++) {
+      const e = 0.5 * (ex.up[i].external_W + ex.down[i].external_W);
+      const f = 0.5 * (fa.up[i].external_W + fa.down[i].external_W);
+      mEx += e / 32;
+      mFa += f / 32;
+      worst = Math.max(worst, Math.abs(f / e - 1));
+    }
+    // tolerance: 1 % on the mean, 5 % at the worst position (noise and settling near the
+    // compound resonances, where the power changes fastest with position)
+    expect(Math.abs(mFa / mEx - 1)).toBeLessThan(0.01);
+    expect(worst).toBeLessThan(0.05);
   });
 });
 

@@ -170,6 +170,9 @@ export function settleLanes(e: LaneEngine, steps: number, avgSteps: number): Lan
   return res;
 }
 
+/** Time for a suppressed mode to regrow from noise, the slow end of MODEL.md 4's 5-15 us. */
+export const STATIC_REGROWTH_s = 16e-6;
+
 /** Most positions the automatic static reference refines to. */
 export const STATIC_MAX_POSITIONS = 8192;
 
@@ -221,7 +224,12 @@ export interface StaticOptions {
  */
 export function staticReference(p: CoupledParams, o: StaticOptions): StaticResult {
   const still: MirrorMotion = { position: () => o.rest_m, velocity: () => 0 };
-  const contSteps = Math.max(50, Math.ceil(o.settle_s / o.dt));
+  // A mode switched off near a resonance regrows from noise in 5-15 us (MODEL.md 4): a coarse
+  // grid given by number moves the mirror far between positions, so each position gets at
+  // least a regrowth time's share (16 us x 64 / N, at most 16 us); the automatic grid is
+  // fine enough (thousands of positions) that the walk itself is slow.
+  const perPosition_s = o.positions === 'auto' ? o.settle_s : Math.max(o.settle_s, Math.min(STATIC_REGROWTH_s, (STATIC_REGROWTH_s * 64) / Math.max(1, o.positions as number)));
+  const contSteps = Math.max(50, Math.ceil(perPosition_s / o.dt));
   const avgSteps = Math.max(10, Math.floor(contSteps / 4));
   const maxExc = Math.abs(o.rest_m) + o.halfWavelength_m * 1.01;
   const auto = o.positions === 'auto';
@@ -244,14 +252,14 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   const chainLen = Math.min(16, N0);
   const K = Math.ceil(N0 / chainLen);
   const warm = Math.min(3, N0 - 1);
-  const chain = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, K, still, o.rng);
+  const chain = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, K, still, o.rng);
   chain.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
   const pos = (j: number, N: number) => (((j % N) + N) % N) * (o.halfWavelength_m / N);
   let positions = Array.from({ length: N0 }, (_, j) => pos(j, N0));
   let up: (LaneMeans | null)[] = new Array(N0).fill(null);
   let down: (LaneMeans | null)[] = new Array(N0).fill(null);
-  let store = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N0, still, o.rng);
-  let storeDown = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N0, still, o.rng);
+  let store = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N0, still, o.rng);
+  let storeDown = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N0, still, o.rng);
   const fail = (msg: string): StaticResult => ({
     positions_m: positions, up: [], down: [], converged: false, levels: [], store, steps, laneSteps, worstBalance: worst, mismatch: 0, failed: msg,
   });
@@ -302,7 +310,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
     // two positions per resonance width lambda / (2 F) over half a wavelength: N >= 2 F
     const resolved = Math.min(STATIC_MAX_POSITIONS, Math.max(64, 2 * (o.finesse !== undefined && Number.isFinite(o.finesse) ? o.finesse : 1)));
     while (N < STATIC_MAX_POSITIONS) {
-      const mids = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, 2 * N, still, o.rng);
+      const mids = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, 2 * N, still, o.rng);
       for (let j = 0; j < N; j++) {
         mids.copyLane(store, j, j); // up branch from the left neighbour
         mids.copyLane(storeDown, (j + 1) % N, N + j); // down branch from the right neighbour
@@ -318,8 +326,8 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       const N2 = 2 * N;
       const up2: LaneMeans[] = new Array(N2);
       const down2: LaneMeans[] = new Array(N2);
-      const store2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N2, still, o.rng);
-      const storeDown2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc }, p, N2, still, o.rng);
+      const store2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N2, still, o.rng);
+      const storeDown2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N2, still, o.rng);
       for (let j = 0; j < N; j++) {
         up2[2 * j] = up[j] as LaneMeans;
         down2[2 * j] = down[j] as LaneMeans;

@@ -151,7 +151,9 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   let settle_s = 0;
   let analysed_s = 0;
   if (status === 'ok' && params.hasExternal && Number.isFinite(params.gammaC)) {
-    settle_s = s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 2 / f : 0) : s.simulation.settle;
+    // the lanes start from settled static states: one drive period (both turning points) and
+    // a few response times bring them to the periodic regime
+    settle_s = s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 1 / f : 0) : s.simulation.settle;
     // analysed window: whole drive periods, holding >= 4 detection windows (the first fills, then >= 3)
     const minWindow = 4 / bandwidth;
     if (f) {

@@ -12,10 +12,12 @@ export interface EngineSpec {
   dt: number;
   /** bound on |offset + x(t)| over the run, m (sizes the exact engine's history) */
   maxExcursion_m: number;
+  /** mean-field engine: round-trip factor at the pulled lasing frequency (steady states) */
+  pullCorrection?: boolean;
 }
 
 export function createLaneEngine(spec: EngineSpec, p: CoupledParams, lanes: number, motion: MirrorMotion, rng: NormalSource): LaneEngine {
   return spec.kind === 'exact'
     ? new ExactEngine(p, lanes, spec.dt, motion, rng, spec.maxExcursion_m)
-    : new FastEngine(p, lanes, spec.dt, motion, rng);
+    : new FastEngine(p, lanes, spec.dt, motion, rng, spec.pullCorrection ?? false);
 }
