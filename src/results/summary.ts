@@ -93,6 +93,12 @@ export interface DrivenSummary {
   enhancement: number;
   gain_over_static: number | null;
   gain_over_worst_static: number | null;
+  /**
+   * mean gap power over what the static curve predicts at the same rest offsets and
+   * strokes (the still-mirror curve sampled along x(t)): free of the sampling of a few
+   * rest offsets; the class uses the smaller of this and gain_over_static
+   */
+  gain_over_quasi_static: number | null;
   hops_per_s: number;
   hops_per_period: number;
   class: RunClass;

@@ -133,6 +133,17 @@ function physicalChecks(s: Scenario): ValidationResult {
         path: 'drive.amplitude',
         message: `expected the return mirror to stay clear of the output coupler (length + offset - amplitude > 0), found ${formatSI(L2 + d.offset - swing, 'm')}`,
       });
+    } else {
+      // the delay-line engine reads the returned field from its history: the shortest
+      // round trip must stay longer than 1.5 of its steps, tau_E / substeps
+      const excursion = Math.abs(d.offset) + swing + s.laser.wavelength / 2 + 5 * (d.vibration?.rms ?? 0);
+      const limit = L2 * (1 - 1.5 / s.simulation.substeps);
+      if (excursion >= limit) {
+        errors.push({
+          path: 'drive.amplitude',
+          message: `expected the mirror's excursion (|offset| + amplitudes + half a wavelength) below ${formatSI(limit, 'm')} (external.length x (1 - 1.5 / simulation.substeps)), found ${formatSI(excursion, 'm')}; raise simulation.substeps or shorten the stroke`,
+        });
+      }
     }
   } else if (swing > 0) {
     warnings.push({ path: 'drive.amplitude', message: 'there is no external cavity: the drive moves nothing' });

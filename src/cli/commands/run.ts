@@ -47,7 +47,7 @@ export function formatRunTable(s: RunSummary): string {
     lines.push(
       formatTable([
         ['class', `${s.driven.class} (${s.driven.class_reason})`],
-        ['gain over static', num(s.driven.gain_over_static)],
+        ['gain over static (over the curve at the same offsets)', `${num(s.driven.gain_over_static)} (${num(s.driven.gain_over_quasi_static)})`],
         ['enhancement (gap / free-running intracavity)', num(s.driven.enhancement)],
         ['ripple in band / full band', `${num(s.driven.ripple_rel)} / ${num(s.driven.ripple_full_band_rel)}`],
         ['hops per second / per period', `${num(s.driven.hops_per_s)} / ${num(s.driven.hops_per_period)}`],
@@ -75,7 +75,7 @@ export function registerRun(program: Command, ctx: CommandContext): void {
     .action((file: string, o: { out?: string; engine?: EngineChoice; seed?: string; quiet?: boolean }) => {
       const seed = parseSeed(o.seed);
       const loaded = loadScenarioFile(file);
-      for (const wn of loaded.warnings ?? []) process.stderr.write(`dithercav: ${file}: warning: ${typeof wn === 'string' ? wn : JSON.stringify(wn)}\n`);
+      for (const wn of loaded.warnings ?? []) process.stderr.write(`dithercav: ${file}${wn.line !== undefined ? `:${wn.line}` : ''}: warning: ${wn.path}: ${wn.message}\n`);
       const s = loaded.scenario;
       const out = o.out ?? path.join('reports', safeFolderName(s.name));
       const progress = createRunProgress({ label: `run ${s.name}`, quiet: o.quiet });
