@@ -9,7 +9,7 @@ import { ExactEngine } from '../physics/coupled/exact';
 import { createRng } from '../numerics/rng';
 import { createDrive } from '../physics/drive';
 import { freeRunning } from '../simulate/references';
-import { exactStep } from '../simulate/run';
+import { exactEngineStep } from '../simulate/engine-choice';
 import { runBareLoop, xoshiroState } from './bare-loop';
 import { loadDemo } from './profile';
 
@@ -19,7 +19,7 @@ export const CPU_CHILD_STEPS = 200_000;
 function main(): void {
   const s = loadDemo();
   const { params } = deriveAll(s);
-  const dt = exactStep(s, params);
+  const dt = exactEngineStep(s, params);
   const L = 8;
   const half = s.laser.wavelength / 2;
   const d = createDrive(s.drive, s.simulation.seed);

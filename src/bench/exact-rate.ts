@@ -9,7 +9,7 @@ import { ExactEngine } from '../physics/coupled/exact';
 import { createDrive } from '../physics/drive';
 import { createRng } from '../numerics/rng';
 import { freeRunning } from '../simulate/references';
-import { exactStep } from '../simulate/run';
+import { exactEngineStep } from '../simulate/engine-choice';
 import { runBareLoop, xoshiroState } from './bare-loop';
 import type { BareLoopConfig } from './bare-loop';
 
@@ -70,7 +70,7 @@ function engineEnergy(e: ExactEngine): Float64Array {
 export function measureExactVsBare(s: Scenario, o: ExactRateOptions): ExactRateResult {
   const log = o.log ?? (() => undefined);
   const { params } = deriveAll(s);
-  const dt = exactStep(s, params);
+  const dt = exactEngineStep(s, params);
   const L = o.lanes;
   const M = params.M;
   const half = s.laser.wavelength / 2;

@@ -41,13 +41,18 @@ export function totalPeakSpeed(s: Scenario): number {
   return peakSpeed(d) + Math.abs(d.drift) + vib;
 }
 
+/** Time step of the exact engine, s: tau_E / substeps (or the laser-only step without an external cavity). */
+export function exactEngineStep(s: Scenario, p: CoupledParams): number {
+  return p.hasExternal ? p.roundTripExternal_s / s.simulation.substeps : fastLaserStep(p);
+}
+
 /**
  * Plan the engines of a run. finesse is that of the external cavity, regrowth_s the
  * slowest response time (the static settle time), requested the user's choice.
  */
 export function planEngines(s: Scenario, p: CoupledParams, finesse: number, regrowth_s: number, requested: 'auto' | 'exact' | 'fast' | 'adiabatic'): EnginePlan {
   const lambda = s.laser.wavelength;
-  const exactStep = p.hasExternal ? p.roundTripExternal_s / s.simulation.substeps : fastLaserStep(p);
+  const exactStep = exactEngineStep(s, p);
   const v = totalPeakSpeed(s);
   const F = Number.isFinite(finesse) && finesse > 0 ? finesse : 1;
   const hPhase = v > 0 ? Math.min(lambda / (16 * F * v), (0.3 * lambda) / (4 * Math.PI * v)) : Infinity;

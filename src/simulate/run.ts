@@ -17,7 +17,7 @@ import { createRng } from '../numerics/rng';
 import { classifyRun } from '../analysis/classify';
 import { designRule } from '../analysis/decoupling';
 import { driveHarmonics } from '../analysis/harmonics';
-import { freeRunning, FreeRunningResult, laserOnlyStep, staticReference, StaticResult } from './references';
+import { freeRunning, FreeRunningResult, staticReference, StaticResult } from './references';
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import { planEngines, EnginePlan } from './engine-choice';
@@ -63,11 +63,6 @@ export function staticSettleTime(p: CoupledParams): number {
   const extPhoton = p.hasExternal ? p.roundTripExternal_s / Math.max(1e-12, 1 - (p.r2 * p.r3eff) ** 2) : 0;
   const response = Math.max(1 / p.gammaC, extPhoton, p.classA ? 0 : p.tauN);
   return Math.min(40e-6, Math.max(4e-6, 40 * response));
-}
-
-/** Time step of the exact engine, s: tau_E / substeps (or the laser-only step without an external cavity). */
-export function exactStep(s: Scenario, p: CoupledParams): number {
-  return p.hasExternal ? p.roundTripExternal_s / s.simulation.substeps : laserOnlyStep(p);
 }
 
 /** Which engine settles the static reference: the exact one when the exact engine is requested, else the planner's choice. */
@@ -164,7 +159,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const engine = plan.driven.kind;
   const engineReason = `${plan.driven.reason}; static reference: ${refs.data.staticEngine} engine`;
   if (plan.driven.warning) warnings.push({ code: 'engine-validity', message: plan.driven.warning });
-  const dt = plan.driven.kind === 'adiabatic' ? exactStep(s, params) : plan.driven.dt;
+  const dt = plan.driven.kind === 'adiabatic' ? plan.basis.exactStep_s : plan.driven.dt;
 
   let driven: DrivenResult | null = null;
   let status: 'ok' | 'numerical-failure' = 'ok';
