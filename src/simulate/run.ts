@@ -23,7 +23,9 @@ import { drivenAdiabatic } from './adiabatic';
 import { planEngines, EnginePlan } from './engine-choice';
 import { actuatorSheet } from '../physics/actuator';
 
-export type EngineChoice = 'auto' | 'exact' | 'fast' | 'adiabatic';
+/** What `simulation.engine` and the commands' `--engine` may ask for. */
+export const ENGINE_CHOICES = ['auto', 'exact', 'fast', 'adiabatic'] as const;
+export type EngineChoice = (typeof ENGINE_CHOICES)[number];
 
 export interface RunOptions {
   engine?: EngineChoice;

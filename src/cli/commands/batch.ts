@@ -9,14 +9,14 @@
 import * as path from 'node:path';
 import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
-import type { EngineChoice } from '../../simulate';
+import { ENGINE_CHOICES, EngineChoice } from '../../simulate';
 import { batchCounts, runBatch } from '../../sweep/batch';
 import { writeBatchIndexHtml } from '../../report/batch-index';
 import { writeRunFolder } from '../run-folder';
 import type { BatchHooks, BatchIndex } from '../../sweep/batch';
 import { createProgress } from '../progress';
 import type { ProgressReporter } from '../progress';
-import { ENGINE_CHOICES, interruptOnSignal, parseJobs, sweepReportWriter } from './sweep';
+import { interruptOnSignal, parseJobs, sweepReportWriter } from './sweep';
 
 interface BatchCliOptions {
   out?: string;
@@ -36,7 +36,7 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
     .option('--jobs <n>', 'worker threads (default: the available processors)')
     .option('--resume', 'skip finished runs and resume sweeps')
     .option('--quiet', 'no progress output')
-    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES as string[]))
+    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
     .action(async (paths: string[], opts: BatchCliOptions) => {
       const jobs = parseJobs(opts.jobs);
       const outDir = opts.out ?? path.join('reports', 'batch');

@@ -9,15 +9,13 @@ import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
-import { runScenario, EngineChoice } from '../../simulate/run';
+import { runScenario, EngineChoice, ENGINE_CHOICES } from '../../simulate/run';
 import type { RunSummary } from '../../results/summary';
 import { createRunProgress } from '../progress';
 import { formatTable } from '../format';
 import { formatSI } from '../../scenario/units';
 import { writeRunFolder } from '../run-folder';
 import { safeFolderName } from '../../sweep/batch';
-
-const ENGINES: readonly EngineChoice[] = ['auto', 'exact', 'fast', 'adiabatic'];
 
 function parseSeed(text: string | undefined): number | undefined {
   if (text === undefined) return undefined;
@@ -69,7 +67,7 @@ export function registerRun(program: Command, ctx: CommandContext): void {
     .description('one driven run plus its free-running and static references')
     .argument('<file>', 'scenario file (YAML or JSON)')
     .option('--out <dir>', 'output folder (default reports/<scenario name>/)')
-    .addOption(new Option('--engine <engine>', 'time-stepping engine').choices(ENGINES as string[]))
+    .addOption(new Option('--engine <engine>', 'time-stepping engine').choices(ENGINE_CHOICES))
     .option('--seed <n>', 'seed of the spontaneous-emission noise (overrides simulation.seed)')
     .option('--quiet', 'no progress output')
     .action((file: string, o: { out?: string; engine?: EngineChoice; seed?: string; quiet?: boolean }) => {

@@ -11,15 +11,13 @@ import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
-import type { EngineChoice } from '../../simulate';
+import { ENGINE_CHOICES, EngineChoice } from '../../simulate';
 import { defaultJobs } from '../../sweep/pool';
 import { resolveShard, shardFolderName } from '../../sweep/shard';
 import { runSweep } from '../../sweep/run-sweep';
 import { safeFolderName } from '../../sweep/batch';
 import { createProgress, formatDuration } from '../progress';
 import { writeSweepReport } from '../../report/sweep-report';
-
-export const ENGINE_CHOICES: readonly EngineChoice[] = ['auto', 'exact', 'fast', 'adiabatic'];
 
 /** `--jobs N`: a whole number >= 1; absent: os.availableParallelism(). Throws InputError otherwise. */
 export function parseJobs(text: string | undefined): number {
@@ -77,7 +75,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
     .option('--resume', 'keep the points already in the folder and run the others')
     .option('--shard <i/n>', 'run shard I of N (points with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT')
     .option('--quiet', 'no progress output')
-    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES as string[]))
+    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
     .action(async (file: string, opts: SweepCliOptions) => {
       const jobs = parseJobs(opts.jobs);
       const shard = resolveShard(opts.shard);
