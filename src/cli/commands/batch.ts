@@ -12,11 +12,12 @@ import type { CommandContext } from '../main';
 import { ENGINE_CHOICES, EngineChoice } from '../../simulate';
 import { batchCounts, runBatch } from '../../sweep/batch';
 import { writeBatchIndexHtml } from '../../report/batch-index';
+import { writeSweepReport } from '../../report/sweep-report';
 import { writeRunFolder } from '../run-folder';
 import type { BatchHooks, BatchIndex } from '../../sweep/batch';
 import { createProgress } from '../progress';
 import type { ProgressReporter } from '../progress';
-import { interruptOnSignal, parseJobs, sweepReportWriter } from './sweep';
+import { interruptOnSignal, parseJobs } from './sweep';
 
 interface BatchCliOptions {
   out?: string;
@@ -44,10 +45,9 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
       let bar: ProgressReporter | null = null;
       let barName = '';
       const stop = interruptOnSignal((m) => log(`batch: ${m}`));
-      const writeSweepReport = sweepReportWriter();
       const hooks: BatchHooks = {
         writeRun: writeRunFolder,
-        afterSweep: writeSweepReport ? (dir) => void writeSweepReport(dir) : undefined,
+        afterSweep: (dir) => void writeSweepReport(dir),
       };
       let index: BatchIndex;
       try {

@@ -7,7 +7,7 @@
 import type { Command } from 'commander';
 import type { CommandContext } from '../main';
 import { mergeShards } from '../../sweep/merge';
-import { sweepReportWriter } from './sweep';
+import { writeSweepReport } from '../../report/sweep-report';
 
 /** Register `merge`. */
 export function registerMerge(program: Command, ctx: CommandContext): void {
@@ -23,14 +23,11 @@ export function registerMerge(program: Command, ctx: CommandContext): void {
       };
       const out = mergeShards(dirs, { outDir: opts.out, onWarning: warn });
       if (out.missing > 0) warn(`${out.missing} of ${out.header.total_points} grid points are in none of the folders (a shard missing?)`);
-      const writeReport = sweepReportWriter();
-      if (writeReport) {
-        try {
-          writeReport(out.dir);
-        } catch (err) {
-          process.stderr.write(`dithercav merge: the report could not be written: ${(err as Error).message}\n`);
-          ctx.setExit(1);
-        }
+      try {
+        writeSweepReport(out.dir);
+      } catch (err) {
+        process.stderr.write(`dithercav merge: the report could not be written: ${(err as Error).message}\n`);
+        ctx.setExit(1);
       }
       process.stdout.write(`merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`);
       ctx.setExit(0);

@@ -50,11 +50,6 @@ export function interruptOnSignal(onFirst: (message: string) => void): { signal:
   };
 }
 
-/** The report room's sweep report writer (report.html from map.json, no simulation). */
-export function sweepReportWriter(): ((dir: string) => unknown) | null {
-  return writeSweepReport;
-}
-
 interface SweepCliOptions {
   out?: string;
   jobs?: string;
@@ -108,14 +103,11 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         progress.stop();
         stop.dispose();
       }
-      const writeReport = sweepReportWriter();
-      if (writeReport) {
-        try {
-          writeReport(dir);
-        } catch (err) {
-          process.stderr.write(`dithercav sweep: the report could not be written: ${(err as Error).message}\n`);
-          ctx.setExit(1);
-        }
+      try {
+        writeSweepReport(dir);
+      } catch (err) {
+        process.stderr.write(`dithercav sweep: the report could not be written: ${(err as Error).message}\n`);
+        ctx.setExit(1);
       }
       const counts = new Map<string, number>();
       for (const c of out.map.classes) if (c) counts.set(c, (counts.get(c) ?? 0) + 1);
