@@ -68,35 +68,72 @@ function synthMap(axes: MapAxis[], rule: (v: Record<string, number>) => RunClass
 // 4 points per decade: amplitude 1 nm .. 10 um, frequency 100 Hz .. 1 MHz.
 const AMP = logAxis('drive.amplitude', 1e-9, 1e-5, 17);
 const FREQ = logAxis('drive.frequency', 100, 1e6, 17);
+// 8 points per decade over the same spans: fine enough for the voltage-versus-resonance trade to show.
+const AMP8 = logAxis('drive.amplitude', 1e-9, 1e-5, 33);
+const FREQ8 = logAxis('drive.frequency', 100, 1e6, 33);
 /** Invented rule for the synthetic map: decoupled above a peak speed of 0.3 m/s. */
 const bySpeed = (vc: number) => (v: Record<string, number>): RunClass => (TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= vc ? 'decoupled' : 'modulated');
 
 /**
  * Brute-force expectation on a plain 2-D grid (no strides): decoupled points whose
- * neighbours along both axes are decoupled, reachable by reachable(), lowest voltage
- * A / (k_v |H(f)|) (or lowest amplitude without actuator), ties to lower frequency.
+ * neighbours along both axes are decoupled, reachable by reachable(), ranked by the
+ * utilisation of the tightest limit, written out here from the limits themselves:
+ * u = max(V / V_max, I / I_max, m_min f / f0) with V = A / (k_v |H(f)|) and I = 2 pi f C V
+ * (each term only where the scenario sets that limit; Thomson, Theory of Vibration, ch. 3,
+ * for |H|), ties to the lower voltage; without a voltage limit the lowest voltage, without
+ * an actuator the lowest amplitude; remaining ties to the lower frequency.
  */
-function bruteForce(s: Scenario, rule: (v: Record<string, number>) => RunClass): { A: number; f: number } | null {
-  const grid = AMP.values.map((A) => FREQ.values.map((f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled'));
-  let best: { A: number; f: number; cost: number } | null = null;
-  for (let i = 0; i < AMP.values.length; i++) {
-    for (let j = 0; j < FREQ.values.length; j++) {
+function bruteForce(
+  s: Scenario,
+  rule: (v: Record<string, number>) => RunClass,
+  amp: MapAxis = AMP,
+  freq: MapAxis = FREQ,
+): { A: number; f: number; u: number | null; V: number | null } | null {
+  const grid = amp.values.map((A) => freq.values.map((f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled'));
+  let best: { A: number; f: number; u: number | null; V: number | null; key: number[] } | null = null;
+  const act = s.actuator;
+  for (let i = 0; i < amp.values.length; i++) {
+    for (let j = 0; j < freq.values.length; j++) {
       const nb = [grid[i][j], grid[i - 1]?.[j] ?? true, grid[i + 1]?.[j] ?? true, grid[i][j - 1] ?? true, grid[i][j + 1] ?? true];
       if (!nb.every(Boolean)) continue;
-      const A = AMP.values[i];
-      const f = FREQ.values[j];
+      const A = amp.values[i];
+      const f = freq.values[j];
       if (!reachable(s, A, f).ok) continue;
-      const cost = s.actuator ? A / (s.actuator.stroke_per_volt * mechanicalResponse(f, s.actuator.resonance!, s.actuator.quality_factor).magnitude) : A;
-      if (best === null || cost < best.cost || (cost === best.cost && f < best.f)) best = { A, f, cost };
+      let key: number[];
+      let u: number | null = null;
+      let V: number | null = null;
+      if (act) {
+        const h = act.resonance === undefined ? 1 : mechanicalResponse(f, act.resonance, act.quality_factor).magnitude;
+        V = A / (act.stroke_per_volt * h);
+        if (act.max_voltage !== undefined) {
+          const terms = [V / act.max_voltage];
+          if (act.max_current !== undefined && act.capacitance !== undefined) terms.push((TWO_PI * f * act.capacitance * V) / act.max_current);
+          if (act.resonance !== undefined) terms.push((act.min_resonance_margin * f) / act.resonance);
+          u = Math.max(...terms);
+          key = [u, V, f];
+        } else {
+          key = [V, f];
+        }
+      } else {
+        key = [A, f];
+      }
+      const less = (a: number[], b: number[]) => {
+        for (let k = 0; k < a.length; k++) {
+          // relative 1e-12: the code and this expectation round their ratios differently
+          if (Math.abs(a[k] - b[k]) > 1e-12 * Math.abs(b[k])) return a[k] < b[k];
+        }
+        return false;
+      };
+      if (best === null || less(key, best.key)) best = { A, f, u, V, key };
     }
   }
-  return best;
+  return best === null ? null : { A: best.A, f: best.f, u: best.u, V: best.V };
 }
 
 describe('recommended operating point', () => {
   const rule = bySpeed(0.3);
 
-  it('is decoupled with decoupled neighbours, reachable, and the cheapest such point (brute force)', () => {
+  it('is decoupled with decoupled neighbours, reachable, and the one with most headroom on the actuator (brute force)', () => {
     const s = scenario(ACT);
     const map = synthMap([AMP, FREQ], rule);
     const { recommended, recommended_reason } = recommendOperatingPoint(map, s);
@@ -108,13 +145,18 @@ describe('recommended operating point', () => {
     const bf = bruteForce(s, rule)!;
     expect(p.amplitude_m).toBe(bf.A);
     expect(p.frequency_Hz).toBe(bf.f);
-    // resonance margin 1.5 caps f at 267 kHz; the grid point below is 178 kHz
-    expect(p.frequency_Hz).toBeCloseTo(177827.9, 0);
+    expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
     expect(p.voltage_V!).toBeCloseTo(p.amplitude_m / (10e-9 * mechanicalResponse(p.frequency_Hz, 400e3, 20).magnitude), 9);
+    expect(p.current_A!).toBeCloseTo(TWO_PI * p.frequency_Hz * 50e-9 * p.voltage_V!, 12);
     expect(p.stroke_m).toBeCloseTo(2 * p.amplitude_m, 18);
     expect(p.axes).toEqual({ 'drive.amplitude': p.amplitude_m, 'drive.frequency': p.frequency_Hz });
     expect(recommended_reason).toBe(p.reason);
-    expect(p.reason).toMatch(/lowest peak drive voltage/);
+    expect(p.reason).toMatch(/most headroom on the actuator/);
+    expect(p.reason).toContain(p.limiting_key!);
+    // Headroom is left on every limit: the point is not at the resonance-margin cap
+    // (267 kHz for f0 = 400 kHz, margin 1.5) where the old lowest-voltage rule sat.
+    expect(p.utilisation!).toBeLessThan(1);
+    expect(p.frequency_Hz).toBeLessThan(400e3 / 1.5 / 1.2);
   });
 
   it('gives the same point whatever the axis order', () => {
@@ -137,17 +179,98 @@ describe('recommended operating point', () => {
     expect([high.amplitude_m, high.frequency_Hz]).toEqual([bf.A, bf.f]);
   });
 
-  it('a voltage limit below the cheapest point leaves none reachable, and says which limit', () => {
-    // Lowering max_voltage only removes points, and the cheapest point has the lowest voltage
-    // of all: below it nothing remains; a limit above it keeps the same point.
-    const base = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario(ACT)).recommended!;
-    const same = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario({ ...ACT, max_voltage: base.voltage_V! * 1.01 })).recommended!;
-    expect(same.index).toBe(base.index);
-    const tight = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario({ ...ACT, max_voltage: base.voltage_V! * 0.99 }));
+  it('moves when the voltage limit changes: a tighter limit pushes it towards the resonance, a looser one away', () => {
+    // The trade: below f0 a stroke costs less voltage nearer the resonance (|H| rises,
+    // Thomson ch. 3) but leaves less resonance margin; the utilisation rule balances the two.
+    const at = (maxV: number) => recommendOperatingPoint(synthMap([AMP8, FREQ8], rule), scenario({ ...ACT, max_voltage: maxV })).recommended!;
+    const base = at(100);
+    const tight = at(40);
+    const loose = at(1000);
+    expect(tight.index).not.toBe(base.index);
+    expect(tight.frequency_Hz).toBeGreaterThan(base.frequency_Hz);
+    expect(tight.voltage_V!).toBeLessThan(base.voltage_V!);
+    expect(loose.index).not.toBe(base.index);
+    expect(loose.frequency_Hz).toBeLessThan(base.frequency_Hz);
+    for (const [maxV, p] of [[100, base], [40, tight], [1000, loose]] as const) {
+      const bf = bruteForce(scenario({ ...ACT, max_voltage: maxV }), rule, AMP8, FREQ8)!;
+      expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
+      expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
+    }
+    // Every voltage limit from 20 V to 1 kV that leaves a point gives one of the decoupled
+    // class that the actuator reaches, and its frequency never rises as the limit loosens.
+    let lastF = Infinity;
+    let found = 0;
+    for (let maxV = 20; maxV <= 1000; maxV *= 1.25) {
+      const s = scenario({ ...ACT, max_voltage: maxV });
+      const map = synthMap([AMP8, FREQ8], rule);
+      const p = recommendOperatingPoint(map, s).recommended;
+      if (p === null) continue;
+      found++;
+      expect(map.classes[p.index]).toBe('decoupled');
+      expect(reachableMask(map, s)![p.index]).toBe(true);
+      expect(p.frequency_Hz).toBeLessThanOrEqual(lastF);
+      lastF = p.frequency_Hz;
+    }
+    expect(found).toBeGreaterThan(10);
+  });
+
+  it('with a voltage limit only (no resonance, no current limit) it is the lowest-voltage point', () => {
+    const act = { stroke_per_volt: 10e-9, max_voltage: 100 };
+    const s = scenario(act);
+    const p = recommendOperatingPoint(synthMap([AMP, FREQ], rule), s).recommended!;
+    const bf = bruteForce(s, rule)!;
+    expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
+    expect(p.limiting_key).toBe('actuator.max_voltage');
+    expect(p.utilisation!).toBeCloseTo(p.voltage_V! / 100, 12);
+    // no point that qualifies has a lower voltage: the smallest decoupled amplitude with margin
+    const lower = AMP.values.filter((A) => A < p.amplitude_m && A / 10e-9 <= 100);
+    for (const A of lower) {
+      const others = FREQ.values.filter((f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled');
+      const withMargin = others.filter((f) => {
+        const i = AMP.values.indexOf(A);
+        const j = FREQ.values.indexOf(f);
+        const cls = (ii: number, jj: number) => ii < 0 || jj < 0 || ii >= AMP.values.length || jj >= FREQ.values.length || rule({ 'drive.amplitude': AMP.values[ii], 'drive.frequency': FREQ.values[jj] }) === 'decoupled';
+        return cls(i - 1, j) && cls(i + 1, j) && cls(i, j - 1) && cls(i, j + 1);
+      });
+      expect(withMargin).toEqual([]);
+    }
+  });
+
+  it('without a voltage limit it is the lowest-voltage point and no utilisation is given', () => {
+    const s = scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20 });
+    const p = recommendOperatingPoint(synthMap([AMP, FREQ], rule), s).recommended!;
+    const bf = bruteForce(s, rule)!;
+    expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
+    expect(p.utilisation).toBeNull();
+    expect(p.reason).toMatch(/lowest peak drive voltage/);
+  });
+
+  it('a current limit joins the trade: the point never draws more than the limit and leaves the most headroom', () => {
+    // With the speed rule v >= 0.3 m/s the current C v / (k_v |H|) is about 1.5-2.5 A below
+    // the resonance; a 2.2 A limit binds on part of the map.
+    const s = scenario({ ...ACT, max_current: 2.2 });
+    const map = synthMap([AMP8, FREQ8], rule);
+    const p = recommendOperatingPoint(map, s).recommended!;
+    const bf = bruteForce(s, rule, AMP8, FREQ8)!;
+    expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
+    expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
+    expect(p.current_A!).toBeLessThanOrEqual(2.2 * p.utilisation! * (1 + 1e-12));
+    const without = recommendOperatingPoint(map, scenario(ACT)).recommended!;
+    expect(p.index).not.toBe(without.index);
+  });
+
+  it('a voltage limit below the lowest-voltage point leaves none reachable, and says which limit', () => {
+    // The lowest voltage of all points with a margin, found with no voltage limit set:
+    // any limit below it removes every such point.
+    const noLimit = { stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20, min_resonance_margin: 1.5 };
+    const lowest = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario(noLimit)).recommended!;
+    const same = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 1.01 })).recommended!;
+    expect(same.index).toBe(lowest.index);
+    const tight = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 0.99 }));
     expect(tight.recommended).toBeNull();
     expect(tight.recommended_reason).toMatch(/actuator\.max_voltage/);
-    const mask = reachableMask(synthMap([AMP, FREQ], rule), scenario({ ...ACT, max_voltage: base.voltage_V! * 0.99 }))!;
-    expect(mask[base.index]).toBe(false);
+    const mask = reachableMask(synthMap([AMP, FREQ], rule), scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 0.99 }))!;
+    expect(mask[lowest.index]).toBe(false);
   });
 
   it('without an actuator: smallest stroke, no reachability mask', () => {

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { scenarioSchema, type Scenario, type ScenarioInput } from '../src/scenario/schema';
 import {
   actuatorSheet,
+  actuatorUtilisation,
   mechanicalResponse,
   reachable,
   resolveActuator,
@@ -117,6 +118,27 @@ describe('actuator sheet: sine drive', () => {
     expect(r.ok).toBe(false);
     expect(r.reason).toMatch(/actuator\.min_resonance_margin/);
     expect(reachable(s, 200e-9, 100e3)).toEqual({ ok: true, reason: 'within every actuator limit set' });
+  });
+
+  it('utilisation is the largest of V / V_max, I / I_max and m_min f / f0, and names that limit', () => {
+    // Derating of a piezo drive against the amplifier's voltage and current ratings and a
+    // minimum resonance margin (common practice, no source); each ratio is computed here
+    // from the closed forms V = A / (k_v |H|) and I = 2 pi f C V (Thomson ch. 3).
+    const A = 200e-9;
+    const f = 100e3;
+    const V = A / (10e-9 * mechanicalResponse(f, 400e3, 20).magnitude);
+    const I = TWO_PI * f * 50e-9 * V;
+    const limits = { ...act, max_voltage: 40, max_current: 1 };
+    const u = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, limits)))!;
+    const expected = Math.max(V / 40, I / 1, (1.5 * f) / 400e3);
+    expect(u.fraction).toBeCloseTo(expected, 12);
+    expect(u.key).toBe(['actuator.max_voltage', 'actuator.max_current', 'actuator.min_resonance_margin'][[V / 40, I / 1, (1.5 * f) / 400e3].indexOf(expected)]);
+    // a broken limit shows as a fraction above 1
+    const over = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: 2e-6, frequency: 300e3 }, limits)))!;
+    expect(over.fraction).toBeGreaterThan(1);
+    // no actuator, or no limit that can be checked: no utilisation
+    expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f })))).toBeNull();
+    expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, { stroke_per_volt: 10e-9 })))).toBeNull();
   });
 
   it('without an actuator: kinematics only, every drive reachable', () => {

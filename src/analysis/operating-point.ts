@@ -1,13 +1,13 @@
 /**
  * The inverse question of MODEL.md section 5 on a stability map: which points an actuator
- * can reach, and the cheapest reachable operating point that is decoupled with a margin.
+ * can reach, and the reachable operating point decoupled with a margin that asks least of it.
  *
  * The map's arrays are flattened row-major over its axes, the last axis fastest
  * (src/results/map.ts); the amplitude and frequency axes are found by key, in any order.
  */
 import type { OperatingPoint, SweepMap } from '../results/map';
 import type { Scenario } from '../scenario/schema';
-import { actuatorSheet } from '../physics/actuator';
+import { actuatorSheet, actuatorUtilisation } from '../physics/actuator';
 import { strokePeakToPeak } from '../physics/drive';
 import { formatSI } from '../scenario/units';
 
@@ -77,15 +77,43 @@ export interface OperatingPointChoice {
   recommended_reason: string;
 }
 
+/** What one candidate point costs; compared by `cheaper`. */
+interface Cost {
+  /** fraction of the tightest actuator limit (null when ranking by voltage or stroke alone) */
+  utilisation: number | null;
+  limitingKey: string | null;
+  /** peak drive voltage (V), or the peak-to-peak stroke (m) without an actuator */
+  primary: number;
+  voltage: number | null;
+  current: number | null;
+  frequency: number;
+}
+
+/** Lexicographic order: utilisation (when ranked by it), then voltage or stroke, then frequency. */
+function cheaper(a: Cost, b: Cost): boolean {
+  if (a.utilisation !== null && b.utilisation !== null && a.utilisation !== b.utilisation) return a.utilisation < b.utilisation;
+  if (a.primary !== b.primary) return a.primary < b.primary;
+  return a.frequency < b.frequency;
+}
+
 /**
- * The cheapest operating point of a map: among points that are
+ * The recommended operating point of a map: among points that are
  *  - decoupled with a margin: class 'decoupled', and so is every existing grid neighbour
  *    (index +-1) along the amplitude and the frequency axes (same values of the other axes);
  *    a neighbour not finished or failed does not count as decoupled;
  *  - reachable by the actuator (reachableMask; every point when there is no actuator),
- * the one with the lowest peak drive voltage, or, without an actuator, the lowest
- * peak-to-peak stroke; ties go to the lower frequency, then the lower index. Other axes are
- * searched too and the best point over them is taken (the reason says so).
+ * the one that asks least of the hardware:
+ *  - with an actuator and `actuator.max_voltage` set: the smallest utilisation
+ *    u = max(V / V_max, I / I_max, m_min f / f0) over the limits set (actuatorUtilisation),
+ *    i.e. the most headroom on the limit nearest to breaking; equal u goes to the lower
+ *    voltage. With a voltage limit alone this is the lowest-voltage point; with a resonance
+ *    or current limit too, the point moves as the voltage limit changes, trading drive
+ *    voltage against distance from the resonance (or current);
+ *  - with an actuator but no voltage limit (nothing to weigh the voltage against): the
+ *    lowest peak drive voltage;
+ *  - without an actuator: the lowest peak-to-peak stroke.
+ * Remaining ties go to the lower frequency, then the lower index. Other axes are searched
+ * too and the best point over them is taken (the reason says so).
  * @returns the point with a reason sentence, or null and a reason naming what was missing
  */
 export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): OperatingPointChoice {
@@ -127,38 +155,41 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   }
 
   const hasActuator = scenario.actuator !== undefined;
+  const byUtilisation = scenario.actuator?.max_voltage !== undefined;
   let best = -1;
-  let bestCost = Infinity;
-  let bestFreq = Infinity;
-  let bestVoltage: number | null = null;
+  let bestCost: Cost | null = null;
   let reachableCount = 0;
   const refusals = new Map<string, number>();
   for (const i of withMargin) {
     const values = axisValues(map, st, i);
     const s = pointScenario(scenario, values);
-    let cost: number;
-    let voltage: number | null = null;
+    let cost: Cost;
     if (hasActuator) {
       const sheet = actuatorSheet(s);
       if (!sheet.ok) {
         for (const k of sheet.exceeded) refusals.set(k, (refusals.get(k) ?? 0) + 1);
         continue;
       }
-      voltage = sheet.actuator!.voltage_peak_V;
-      cost = voltage;
+      const voltage = sheet.actuator!.voltage_peak_V;
+      const u = byUtilisation ? actuatorUtilisation(sheet) : null;
+      cost = {
+        utilisation: u?.fraction ?? null,
+        limitingKey: u?.key ?? null,
+        primary: voltage,
+        voltage,
+        current: sheet.actuator!.current_peak_A,
+        frequency: values[freqKey],
+      };
     } else {
-      cost = strokePeakToPeak(s.drive);
+      cost = { utilisation: null, limitingKey: null, primary: strokePeakToPeak(s.drive), voltage: null, current: null, frequency: values[freqKey] };
     }
     reachableCount++;
-    const f = values[freqKey];
-    if (cost < bestCost || (cost === bestCost && f < bestFreq)) {
+    if (bestCost === null || cheaper(cost, bestCost)) {
       best = i;
       bestCost = cost;
-      bestFreq = f;
-      bestVoltage = voltage;
     }
   }
-  if (best < 0) {
+  if (bestCost === null) {
     const why = [...refusals.entries()].map(([k, c]) => `${c} exceed ${k}`).join(', ');
     return {
       recommended: null,
@@ -172,9 +203,19 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   const frequency = values[freqKey];
   const stroke = strokePeakToPeak(s.drive);
   const others = map.axes.filter((a, i) => i !== ai && i !== fi && a.values.length > 1);
-  const cheapest = hasActuator ? `lowest peak drive voltage (${formatSI(bestVoltage!, 'V', 3)})` : `smallest stroke (${formatSI(stroke, 'm', 3)} peak to peak; no actuator described)`;
+  const where = `${formatSI(amplitude, 'm', 3)} amplitude and ${formatSI(frequency, 'Hz', 3)}`;
+  let cheapest: string;
+  if (bestCost.utilisation !== null) {
+    cheapest =
+      `most headroom on the actuator at ${where}: it uses ${(100 * bestCost.utilisation).toFixed(0)} % of its tightest limit ` +
+      `(${bestCost.limitingKey}; peak drive ${formatSI(bestCost.voltage!, 'V', 3)})`;
+  } else if (hasActuator) {
+    cheapest = `lowest peak drive voltage (${formatSI(bestCost.voltage!, 'V', 3)}) at ${where}`;
+  } else {
+    cheapest = `smallest stroke (${formatSI(stroke, 'm', 3)} peak to peak; no actuator described) at ${where}`;
+  }
   let reason =
-    `${cheapest} at ${formatSI(amplitude, 'm', 3)} amplitude and ${formatSI(frequency, 'Hz', 3)}, ` +
+    `${cheapest}, ` +
     `among ${reachableCount} point(s) that are decoupled with decoupled neighbours in amplitude and frequency` +
     (hasActuator ? ' and that the actuator can reach' : '') +
     ` (${decoupledCount} of ${n} points decoupled, ${withMargin.length} with a margin)`;
@@ -187,7 +228,10 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
       axes: values,
       amplitude_m: amplitude,
       frequency_Hz: frequency,
-      voltage_V: bestVoltage,
+      voltage_V: bestCost.voltage,
+      current_A: bestCost.current,
+      utilisation: bestCost.utilisation,
+      limiting_key: bestCost.limitingKey,
       stroke_m: stroke,
       reason,
     },

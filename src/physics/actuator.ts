@@ -430,3 +430,31 @@ export function reachable(scenario: Scenario, amplitude_m: number, frequency_Hz:
   if (sheet.actuator?.above_resonance) broken.push('drive frequency above the resonance');
   return { ok: false, reason: broken.join('; ') };
 }
+
+/** How much of an actuator's capacity a drive uses, and which limit binds. */
+export interface ActuatorUtilisation {
+  /**
+   * Dimensionless: the largest over the limits set of value / limit ('max' limits) or
+   * limit / value ('min' limits, the resonance margin); 1 is a limit reached exactly.
+   */
+  fraction: number;
+  /** the scenario key of the limit that gives `fraction`, e.g. 'actuator.max_voltage' */
+  key: string;
+}
+
+/**
+ * The tightest of a sheet's limit checks as one number: u = max(V / V_max, I / I_max,
+ * m_min f / f0) over the limits the scenario sets, so 1 - u is the headroom left on the
+ * limit nearest to being broken. Peak voltage and current against an amplifier's ratings,
+ * and the resonance margin against its minimum, are the usual derating checks of a piezo
+ * drive (common practice, no source).
+ * @returns null when the sheet checks no limit (no actuator, or none set)
+ */
+export function actuatorUtilisation(sheet: Pick<ActuatorSheet, 'limits'>): ActuatorUtilisation | null {
+  let best: ActuatorUtilisation | null = null;
+  for (const l of sheet.limits) {
+    const fraction = l.kind === 'max' ? l.value / l.limit : l.limit / l.value;
+    if (best === null || fraction > best.fraction) best = { fraction, key: l.key };
+  }
+  return best;
+}

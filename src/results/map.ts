@@ -22,7 +22,17 @@ export interface OperatingPoint {
   axes: Record<string, number>;
   amplitude_m: number;
   frequency_Hz: number;
+  /** peak drive voltage, V (null without an actuator) */
   voltage_V: number | null;
+  /** peak reactive current, A (null without an actuator capacitance) */
+  current_A: number | null;
+  /**
+   * dimensionless fraction of the actuator's tightest limit used there (peak voltage,
+   * current, resonance margin); null when the point was ranked by voltage or stroke alone
+   */
+  utilisation: number | null;
+  /** the scenario key of that tightest limit, e.g. 'actuator.max_voltage' (null with utilisation) */
+  limiting_key: string | null;
   stroke_m: number;
   reason: string;
 }
