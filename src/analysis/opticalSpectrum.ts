@@ -13,9 +13,9 @@
  * The mean is not removed: the carrier is part of the spectrum. Values below -400 dB
  * (and an all-zero field) are written as -400 dB.
  */
-import { ComplexPowerTransform, isPowerOfTwo } from './fftAdapter';
+import { ComplexPowerTransform } from './fftAdapter';
 import { hannPeriodic } from '../numerics/window';
-import { OverlapRing } from './segments';
+import { OverlapRing, segmentSetup } from './segments';
 import type { Spectrum } from '../results/artifacts';
 
 export interface OpticalSpectrumOptions {
@@ -52,14 +52,10 @@ export class OpticalSpectrum {
   private nSeg = 0;
 
   constructor(opts: OpticalSpectrumOptions) {
-    const n = opts.segmentLength;
-    const d = opts.decimation ?? 1;
-    if (!isPowerOfTwo(n) || n < 8) throw new RangeError(`OpticalSpectrum: segmentLength must be a power of two >= 8, found ${n}`);
-    if (!(Number.isInteger(d) && d >= 1)) throw new RangeError(`OpticalSpectrum: decimation must be a positive integer, found ${d}`);
-    if (!(opts.dt_s > 0)) throw new RangeError(`OpticalSpectrum: dt_s must be positive, found ${opts.dt_s}`);
+    const { n, d, sampleRate_Hz } = segmentSetup('OpticalSpectrum', opts);
     this.segmentLength = n;
     this.decimation = d;
-    this.sampleRate_Hz = 1 / (d * opts.dt_s);
+    this.sampleRate_Hz = sampleRate_Hz;
     this.mode = opts.mode;
     this.ring = new OverlapRing(n, true);
     this.window = hannPeriodic(n).w;

@@ -21,9 +21,9 @@
  * the decimated Nyquist frequency), which the caller accepts by choosing D. Memory is one
  * ring of N samples, one work segment and the accumulated spectrum, whatever the run length.
  */
-import { RealPowerTransform, isPowerOfTwo } from './fftAdapter';
+import { RealPowerTransform } from './fftAdapter';
 import { hannPeriodic } from '../numerics/window';
-import { OverlapRing, overlapSegments } from './segments';
+import { OverlapRing, overlapSegments, segmentSetup } from './segments';
 import type { Spectrum } from '../results/artifacts';
 
 export interface WelchOptions {
@@ -76,14 +76,10 @@ export class WelchPsd {
   private nSamples = 0;
 
   constructor(opts: WelchOptions) {
-    const n = opts.segmentLength;
-    const d = opts.decimation ?? 1;
-    if (!isPowerOfTwo(n) || n < 8) throw new RangeError(`WelchPsd: segmentLength must be a power of two >= 8, found ${n}`);
-    if (!(Number.isInteger(d) && d >= 1)) throw new RangeError(`WelchPsd: decimation must be a positive integer, found ${d}`);
-    if (!(opts.dt_s > 0)) throw new RangeError(`WelchPsd: dt_s must be positive, found ${opts.dt_s}`);
+    const { n, d, sampleRate_Hz } = segmentSetup('WelchPsd', opts);
     this.segmentLength = n;
     this.decimation = d;
-    this.sampleRate_Hz = 1 / (d * opts.dt_s);
+    this.sampleRate_Hz = sampleRate_Hz;
     this.ring = new OverlapRing(n, false);
     const hann = hannPeriodic(n);
     this.window = hann.w;
