@@ -19,6 +19,7 @@ const FAIL = join(ROOT, 'test', 'fixtures', 'sweep', 'tiny-fail.yaml');
 const TOTAL = 6;
 let tmp = '';
 let reference: Map<number, string>;
+let referenceOut = '';
 
 interface Result {
   code: number | null;
@@ -77,6 +78,7 @@ beforeAll(() => {
   tmp = mkdtempSync(join(tmpdir(), 'dithercav-sweep-'));
   const r = cliSync(['sweep', TINY, '--out', join(tmp, 'ref'), '--jobs', '2', '--quiet']);
   expect(r.code, r.err).toBe(0);
+  referenceOut = r.out;
   reference = pointsOf(join(tmp, 'ref'));
 });
 afterAll(() => {
@@ -96,6 +98,9 @@ describe('sweep command end to end', () => {
     const header = JSON.parse(readFileSync(join(dir, 'sweep.json'), 'utf8'));
     expect(header.total_points).toBe(TOTAL);
     expect(header.axes.map((a: { key: string }) => a.key)).toEqual(['drive.amplitude', 'drive.frequency']);
+    // the terminal names the same recommended point (or the same reason for none) as map.json
+    const line = map.recommended ? `recommended operating point: ${map.recommended.reason}` : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
+    expect(referenceOut).toContain(`${line}\n`);
   });
 
   it('--jobs 1 gives the same points as --jobs 2', () => {

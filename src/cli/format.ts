@@ -4,6 +4,7 @@
  * (https://no-color.org) or the output is piped, so scripts and logs get clean text.
  */
 import { formatSI } from '../scenario/units';
+import type { SweepMap } from '../results/map';
 
 /** True if text written to `stream` may carry ANSI styling: a TTY and NO_COLOR unset or empty. */
 export function colourAllowed(stream: { isTTY?: boolean } = process.stdout, env: NodeJS.ProcessEnv = process.env): boolean {
@@ -76,4 +77,12 @@ export function formatNumber(value: number | null | undefined, digits = 4): stri
   const a = Math.abs(value);
   if (a !== 0 && (a < 1e-3 || a >= 1e6)) return value.toExponential(digits - 1);
   return String(Number(value.toPrecision(digits)));
+}
+
+/**
+ * The terminal line for a map's recommended operating point (MODEL.md section 5): where it
+ * is and why, or why there is none.
+ */
+export function recommendedPointLine(map: Pick<SweepMap, 'recommended' | 'recommended_reason'>): string {
+  return map.recommended !== null ? `recommended operating point: ${map.recommended.reason}` : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
 }

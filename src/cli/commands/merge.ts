@@ -8,6 +8,7 @@ import type { Command } from 'commander';
 import type { CommandContext } from '../main';
 import { mergeShards } from '../../sweep/merge';
 import { writeSweepReport } from '../../report/sweep-report';
+import { recommendedPointLine } from '../format';
 
 /** Register `merge`. */
 export function registerMerge(program: Command, ctx: CommandContext): void {
@@ -30,6 +31,7 @@ export function registerMerge(program: Command, ctx: CommandContext): void {
         ctx.setExit(1);
       }
       process.stdout.write(`merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`);
+      if (out.map.amplitude_key !== null && out.map.frequency_key !== null) process.stdout.write(`${recommendedPointLine(out.map)}\n`);
       ctx.setExit(0);
     });
 }

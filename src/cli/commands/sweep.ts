@@ -18,6 +18,7 @@ import { runSweep } from '../../sweep/run-sweep';
 import { safeFolderName } from '../../sweep/batch';
 import { createProgress, formatDuration } from '../progress';
 import { writeSweepReport } from '../../report/sweep-report';
+import { recommendedPointLine } from '../format';
 
 /** `--jobs N`: a whole number >= 1; absent: os.availableParallelism(). Throws InputError otherwise. */
 export function parseJobs(text: string | undefined): number {
@@ -116,6 +117,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         `${label}: ${out.finished}/${out.planned} points${out.resumed > 0 ? ` (${out.resumed} resumed)` : ''}` +
           `${classes ? `: ${classes}` : ''} in ${formatDuration((Date.now() - t0) / 1000)} -> ${dir}\n`,
       );
+      if (out.map.amplitude_key !== null && out.map.frequency_key !== null) process.stdout.write(`${recommendedPointLine(out.map)}\n`);
       if (stop.signal.aborted) {
         process.stderr.write(`${label}: stopped; ${out.finished} finished points kept in ${dir} (continue with --resume)\n`);
         process.exit(130);
