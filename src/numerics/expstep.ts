@@ -64,9 +64,10 @@ export function phiSeries(a: number, b: number, out: Float64Array): Float64Array
  * phi1 and phi2 from the closed forms phi1 = (e^x - 1)/x and phi2 = (phi1 - 1)/x, with
  * e^x - 1 from complexExpm1. phi1 is accurate for all x != 0; phi2 loses about
  * log10(1/|x|) digits as |x| -> 0 (cancellation in phi1 - 1), hence the series there.
- * Writes out[0..3] = [Re phi1, Im phi1, Re phi2, Im phi2]. x = 0 gives NaN.
+ * Writes out[at..at+3] = [Re phi1, Im phi1, Re phi2, Im phi2] (at = 0 unless given, so
+ * phiFunctions can place them behind e^x). x = 0 gives NaN.
  */
-export function phiClosed(a: number, b: number, out: Float64Array): Float64Array {
+export function phiClosed(a: number, b: number, out: Float64Array, at = 0): Float64Array {
   const d = a * a + b * b;
   const sb = Math.sin(0.5 * b);
   const mr = Math.expm1(a) * Math.cos(b) - 2 * sb * sb;
@@ -75,10 +76,10 @@ export function phiClosed(a: number, b: number, out: Float64Array): Float64Array
   const p1r = (mr * a + mi * b) / d;
   const p1i = (mi * a - mr * b) / d;
   const qr = p1r - 1;
-  out[0] = p1r;
-  out[1] = p1i;
-  out[2] = (qr * a + p1i * b) / d;
-  out[3] = (p1i * a - qr * b) / d;
+  out[at] = p1r;
+  out[at + 1] = p1i;
+  out[at + 2] = (qr * a + p1i * b) / d;
+  out[at + 3] = (p1i * a - qr * b) / d;
   return out;
 }
 
@@ -111,17 +112,7 @@ export function phiFunctions(a: number, b: number, out: Float64Array): Float64Ar
     out[4] = p2r;
     out[5] = p2i;
   } else {
-    const d = a * a + b * b;
-    const s = Math.sin(0.5 * b);
-    const mr = Math.expm1(a) * cb - 2 * s * s;
-    const mi = ea * sbFull;
-    const p1r = (mr * a + mi * b) / d;
-    const p1i = (mi * a - mr * b) / d;
-    const qr = p1r - 1;
-    out[2] = p1r;
-    out[3] = p1i;
-    out[4] = (qr * a + p1i * b) / d;
-    out[5] = (p1i * a - qr * b) / d;
+    phiClosed(a, b, out, 2);
   }
   return out;
 }
