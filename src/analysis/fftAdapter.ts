@@ -12,17 +12,24 @@ export function isPowerOfTwo(n: number): boolean {
   return n >= 2 && isPow2(n);
 }
 
-/** |X_k|^2 of a real segment for k = 0 .. N/2, into `out` (length >= N/2 + 1). */
-export class RealPowerTransform {
+/** The size check and the once-allocated buffers of both transforms; `valuesPerSample` is 1 for real input, 2 for complex. */
+abstract class PowerTransformBuffers {
   readonly size: number;
-  private readonly inBuf: number[];
-  private readonly outBuf: number[];
+  protected readonly inBuf: number[];
+  protected readonly outBuf: number[];
 
-  constructor(size: number) {
+  constructor(size: number, valuesPerSample: number) {
     if (!isPowerOfTwo(size)) throw new RangeError(`FFT size must be a power of two >= 2, found ${size}`);
     this.size = size;
-    this.inBuf = new Array<number>(size).fill(0);
+    this.inBuf = new Array<number>(valuesPerSample * size).fill(0);
     this.outBuf = new Array<number>(2 * size).fill(0);
+  }
+}
+
+/** |X_k|^2 of a real segment for k = 0 .. N/2, into `out` (length >= N/2 + 1). */
+export class RealPowerTransform extends PowerTransformBuffers {
+  constructor(size: number) {
+    super(size, 1);
   }
 
   /** Transforms x[0..N-1] (not modified) and writes |X_k|^2, k = 0..N/2, to out. */
@@ -40,16 +47,9 @@ export class RealPowerTransform {
 }
 
 /** |X_k|^2 of a complex segment for k = 0 .. N-1 (natural order), into `out` (length >= N). */
-export class ComplexPowerTransform {
-  readonly size: number;
-  private readonly inBuf: number[];
-  private readonly outBuf: number[];
-
+export class ComplexPowerTransform extends PowerTransformBuffers {
   constructor(size: number) {
-    if (!isPowerOfTwo(size)) throw new RangeError(`FFT size must be a power of two >= 2, found ${size}`);
-    this.size = size;
-    this.inBuf = new Array<number>(2 * size).fill(0);
-    this.outBuf = new Array<number>(2 * size).fill(0);
+    super(size, 2);
   }
 
   /** Transforms re + i im (not modified) and writes |X_k|^2, k = 0..N-1, to out. */
