@@ -74,18 +74,7 @@ export class MinMaxDecimator {
     if (i >= this.totalSamples) throw new RangeError(`MinMaxDecimator: more than the announced ${this.totalSamples} samples`);
     this.n = i + 1;
     const base = Math.floor(i / this.bucketSize) * this.nc;
-    for (let c = 0; c < this.nc; c++) {
-      const v = values[c];
-      const j = base + c;
-      if (v < this.lo[j]) {
-        this.lo[j] = v;
-        this.loAt[j] = i;
-      }
-      if (v > this.hi[j]) {
-        this.hi[j] = v;
-        this.hiAt[j] = i;
-      }
-    }
+    for (let c = 0; c < this.nc; c++) this.keepExtreme(base + c, values[c], i);
   }
 
   /** Adds one sample of a one-channel decimator. */
@@ -94,7 +83,11 @@ export class MinMaxDecimator {
     if (i >= this.totalSamples) throw new RangeError(`MinMaxDecimator: more than the announced ${this.totalSamples} samples`);
     if (this.nc !== 1) throw new RangeError('MinMaxDecimator: pushScalar needs exactly one channel');
     this.n = i + 1;
-    const j = Math.floor(i / this.bucketSize);
+    this.keepExtreme(Math.floor(i / this.bucketSize), v, i);
+  }
+
+  /** Sample i of value v against the extremes of slot j (bucket x channel); NaN is never one. */
+  private keepExtreme(j: number, v: number, i: number): void {
     if (v < this.lo[j]) {
       this.lo[j] = v;
       this.loAt[j] = i;
