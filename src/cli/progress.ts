@@ -91,6 +91,12 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
     const dt = (now() - t0) / 1000;
     return first === null || dt <= 0 ? 0 : (done - first) / dt;
   };
+  // bar and plain lines take an update alike, so that both show the same rate
+  const take = (d: number, t: number | undefined) => {
+    if (first === null) first = d;
+    done = d;
+    if (t !== undefined) total = t;
+  };
 
   if (!opts.plain && interactive(stream)) {
     const bar = new SingleBar({
@@ -111,9 +117,7 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
     return {
       update(d, t) {
         if (stopped) return;
-        if (first === null) first = d;
-        done = d;
-        if (t !== undefined) total = t;
+        take(d, t);
         if (!started) {
           started = true;
           bar.start(total, d, payload());
@@ -148,9 +152,7 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
   return {
     update(d, t) {
       if (stopped) return;
-      if (first === null) first = d;
-      done = d;
-      if (t !== undefined) total = t;
+      take(d, t);
       const tenth = total > 0 ? Math.floor((10 * done) / total) : 10;
       if (now() - lastAt >= interval || tenth > lastTenth) {
         lastTenth = tenth;
