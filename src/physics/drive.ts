@@ -51,6 +51,16 @@ function uniform(seed: number, k: number): number {
 }
 
 /**
+ * Fraction of the triangle's period in [0, 1): 0 at the lower turning point
+ * (theta = -pi/2), 1/2 at the upper one. One function, so that position and velocity
+ * cannot disagree on where the turning points are.
+ */
+function trianglePhase(theta: number): number {
+  const p = theta / TWO_PI + 0.25;
+  return p - Math.floor(p);
+}
+
+/**
  * One mirror motion, ready for the time loop. Fields are fixed at construction; the
  * vibration tables are Float64Arrays of length VIBRATION_TONES (all zero amplitude when
  * the spec has no vibration).
@@ -108,9 +118,7 @@ export class Drive {
     if (kind !== 3) {
       const theta = this.omega_rad_s * t + this.phase_rad;
       if (kind === 1) {
-        // p = 0 at the lower turning point (theta = -pi/2), 1/2 at the upper one.
-        let p = theta / TWO_PI + 0.25;
-        p -= Math.floor(p);
+        const p = trianglePhase(theta);
         x += this.amplitude_m * (p < 0.5 ? 4 * p - 1 : 3 - 4 * p);
       } else {
         x += this.amplitude_m * Math.sin(theta);
@@ -136,8 +144,7 @@ export class Drive {
     if (kind !== 3) {
       const theta = this.omega_rad_s * t + this.phase_rad;
       if (kind === 1) {
-        let p = theta / TWO_PI + 0.25;
-        p -= Math.floor(p);
+        const p = trianglePhase(theta);
         // d/dt of A (4p - 1) with dp/dt = f: 4 A f.
         const speed = (4 * this.amplitude_m * this.omega_rad_s) / TWO_PI;
         v += p < 0.5 ? speed : -speed;
