@@ -4,27 +4,15 @@
  * ceiling any two-worker sweep can reach here (2 on two idle cores; less when the cores
  * are shared with other load).
  */
-import { spawn } from 'node:child_process';
-import * as path from 'node:path';
+import { runBenchChild } from './child';
 
-function runChild(): Promise<number> {
-  const script = path.join(__dirname, 'cpu-child.js');
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [script], { stdio: ['ignore', 'pipe', 'pipe'] });
-    let out = '';
-    let err = '';
-    child.stdout.on('data', (d: Buffer) => (out += d.toString()));
-    child.stderr.on('data', (d: Buffer) => (err += d.toString()));
-    child.on('error', reject);
-    child.on('close', (code) => {
-      if (code !== 0) return reject(new Error(`cpu-child exited with ${code}: ${err.trim()}`));
-      try {
-        resolve((JSON.parse(out.trim()) as { timed_s: number }).timed_s);
-      } catch {
-        reject(new Error(`cpu-child printed no result: ${out.trim()}`));
-      }
-    });
-  });
+async function runChild(): Promise<number> {
+  const { out } = await runBenchChild('cpu-child.js', [], 'cpu-child');
+  try {
+    return (JSON.parse(out.trim()) as { timed_s: number }).timed_s;
+  } catch {
+    throw new Error(`cpu-child printed no result: ${out.trim()}`);
+  }
 }
 
 export interface CpuPairResult {

@@ -7,3 +7,4 @@ export * from './map-timing';
 export * from './memory';
 export * from './table';
 export * from './cpu-pair';
+export * from './child';

@@ -2,8 +2,7 @@
  * Item d of the benchmark: peak resident memory of a run and of the same run ten times
  * longer, each in a fresh child process (dist/bench/memory-child.js) so nothing is shared.
  */
-import { spawn } from 'node:child_process';
-import * as path from 'node:path';
+import { runBenchChild } from './child';
 
 export interface MemoryRun {
   periods: number;
@@ -17,24 +16,13 @@ export interface MemoryRun {
 }
 
 /** Run memory-child.js with `periods` and return what it printed. Rejects on a non-zero exit. */
-export function runMemoryChild(periods: number): Promise<MemoryRun> {
-  const script = path.join(__dirname, 'memory-child.js');
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [script, String(periods)], { stdio: ['ignore', 'pipe', 'pipe'] });
-    let out = '';
-    let err = '';
-    child.stdout.on('data', (d: Buffer) => (out += d.toString()));
-    child.stderr.on('data', (d: Buffer) => (err += d.toString()));
-    child.on('error', reject);
-    child.on('close', (code) => {
-      if (code !== 0) return reject(new Error(`memory-child ${periods} exited with ${code}: ${err.trim()}`));
-      try {
-        resolve(JSON.parse(out.trim().split('\n').pop() ?? '') as MemoryRun);
-      } catch {
-        reject(new Error(`memory-child ${periods} printed no result: ${out.trim()} ${err.trim()}`));
-      }
-    });
-  });
+export async function runMemoryChild(periods: number): Promise<MemoryRun> {
+  const { out, err } = await runBenchChild('memory-child.js', [String(periods)], `memory-child ${periods}`);
+  try {
+    return JSON.parse(out.trim().split('\n').pop() ?? '') as MemoryRun;
+  } catch {
+    throw new Error(`memory-child ${periods} printed no result: ${out.trim()} ${err.trim()}`);
+  }
 }
 
 /** The short and the ten-times-longer run, side by side (two processes at once). */
