@@ -1,0 +1,40 @@
+import { cpSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { rebuildReport } from '../src/report';
+import { recommendOperatingPoint, reachableMask } from '../src/analysis/operating-point';
+import { scenarioSchema } from '../src/scenario/schema';
+import type { SweepMap } from '../src/results/map';
+
+// The one committed example (reports/example/demo-sweep): it must stay what the current
+// code makes of its own saved map, and its report must build from it with no simulation.
+const EXAMPLE = join(__dirname, '..', 'reports', 'example', 'demo-sweep');
+const tmp = mkdtempSync(join(tmpdir(), 'dithercav-example-'));
+afterAll(() => rmSync(tmp, { recursive: true, force: true }));
+
+describe('committed example sweep', () => {
+  const map = JSON.parse(readFileSync(join(EXAMPLE, 'map.json'), 'utf8')) as SweepMap;
+  const header = JSON.parse(readFileSync(join(EXAMPLE, 'sweep.json'), 'utf8'));
+  const scenario = scenarioSchema.parse(header.scenario);
+
+  it('holds the reachable region and recommended point that the current rule gives for its classes', () => {
+    expect(map.scenario_sha256).toBe(header.scenario_sha256);
+    expect(map.reachable).toEqual(reachableMask(map, scenario));
+    const choice = recommendOperatingPoint(map, scenario);
+    expect(map.recommended).toEqual(choice.recommended);
+    expect(map.recommended_reason).toBe(choice.recommended_reason);
+  });
+
+  it('rebuilds its report from the saved files alone', () => {
+    const dir = join(tmp, 'demo-sweep');
+    cpSync(EXAMPLE, dir, { recursive: true });
+    const r = rebuildReport(dir);
+    expect(r.kind).toBe('sweep');
+    const html = readFileSync(r.written[0], 'utf8');
+    expect(statSync(r.written[0]).size).toBeGreaterThan(1e6); // the plotting library is inlined
+    expect(html).toContain('recommended operating point');
+    expect(html).toContain('reachable by the actuator');
+    expect(html).toMatch(/IEC 60825/);
+  });
+});
