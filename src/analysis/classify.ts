@@ -5,14 +5,21 @@
  *   1. numerical-failure  the run's status says so (passed through with its message);
  *   2. no-lasing          free-running one-way intracavity power < analysis.lasing_power;
  *   3. hopping            hops per drive period > analysis.max_hops_per_period;
- *   4. no-gain            gain over static < analysis.min_gain_over_static;
+ *   4. no-gain            gain over static < analysis.min_gain_over_static, or the mean
+ *                         gap power below analysis.min_incoherent_fraction of the
+ *                         phase-averaged (incoherent) level: a decoupled laser fills the
+ *                         gap with the phase average of the Airy response, so a run far
+ *                         below it is not decoupled however it compares with the static
+ *                         curve (a tiny fast stroke can beat a badly placed still mirror
+ *                         by 20 % while holding a seventh of what decoupling gives);
  *   5. modulated          in-band ripple > analysis.ripple_limit;
  *   6. decoupled          otherwise (enhanced, low ripple, no hops).
  * A laser that does not lase has nothing else to judge; hops make the ripple and the mean
  * meaningless for a user, so they come before gain; without gain the ripple is moot.
  * Comparisons are strict: a value exactly at a threshold passes that test.
  * A null hops-per-period (still mirror) skips the hop test; a null gain over static (no
- * static reference) skips the gain test; the reason says so. A ripple that is not a
+ * static reference) skips the gain test, a null incoherent fraction (no external cavity)
+ * the incoherent-level test; the reason says so. A ripple that is not a
  * finite number (mean external power not positive) counts as modulated.
  */
 import type { RunClass } from '../results/summary';
@@ -31,6 +38,12 @@ export interface ClassMetrics {
   gainOverStatic: number | null;
   /** in-band relative ripple (max - min) / mean */
   rippleRel: number;
+  /**
+   * mean external power over the phase-averaged level eta_fb T2 / (1 - R2 R3') times the
+   * free-running intracavity power (dimensionless; 1 = what a fully decoupled laser gives);
+   * null or absent without an external cavity
+   */
+  incoherentFraction?: number | null;
 }
 
 /** The thresholds, with the key names of the scenario's `analysis` section. */
@@ -38,6 +51,8 @@ export interface ClassThresholds {
   lasing_power: number;
   max_hops_per_period: number;
   min_gain_over_static: number;
+  /** absent: the incoherent-level test is not made */
+  min_incoherent_fraction?: number;
   ripple_limit: number;
 }
 
@@ -78,6 +93,17 @@ export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
     return { class: 'no-gain', reason: `gain over static ${fmt(m.gainOverStatic)} < minimum ${fmt(t.min_gain_over_static)}` };
   } else {
     passed.push(`gain over static ${fmt(m.gainOverStatic)} >= minimum ${fmt(t.min_gain_over_static)}`);
+  }
+  const frac = m.incoherentFraction ?? null;
+  if (frac === null || t.min_incoherent_fraction === undefined) {
+    passed.push('incoherent-level test skipped (no external cavity)');
+  } else if (!(frac >= t.min_incoherent_fraction)) {
+    return {
+      class: 'no-gain',
+      reason: `gap power ${fmt(frac)} of the phase-averaged (decoupled) level < minimum ${fmt(t.min_incoherent_fraction)}: the dither does not decouple`,
+    };
+  } else {
+    passed.push(`gap power ${fmt(frac)} of the phase-averaged level >= minimum ${fmt(t.min_incoherent_fraction)}`);
   }
   if (!Number.isFinite(m.rippleRel)) {
     return { class: 'modulated', reason: `ripple undefined (${fmt(m.rippleRel)}; mean external power not positive)` };

@@ -58,11 +58,13 @@ function verdict(s: RunSummary): SafeHtml {
   const rippleLimit = scenarioAnalysis(s, 'ripple_limit');
   const maxHops = scenarioAnalysis(s, 'max_hops_per_period');
   const minGain = scenarioAnalysis(s, 'min_gain_over_static');
+  const minIncoherent = scenarioAnalysis(s, 'min_incoherent_fraction');
   const bandwidth = scenarioAnalysis(s, 'detection_bandwidth');
   const rows: Row[] = [
     ['enhancement (gap power / free-running intracavity power)', fmtRatio(d?.enhancement)],
     ['gain over the mirror held still', fmtRatio(d?.gain_over_static)],
     ['gain over the worst still position', fmtRatio(d?.gain_over_worst_static)],
+    ['gap power over the phase-averaged (decoupled) level', fmtRatio(d?.incoherent_fraction)],
     [`ripple in the detection band (${fmtSI(bandwidth, 'Hz')})`, fmtPercent(d?.ripple_rel)],
     ['ripple at full bandwidth', fmtPercent(d?.ripple_full_band_rel)],
     ['mode hops', isNum(d?.hops_per_s) ? `${fmtNum(d?.hops_per_s)} /s (${fmtNum(d?.hops_per_period)} per drive period)` : NOT_COMPUTED],
@@ -71,6 +73,7 @@ function verdict(s: RunSummary): SafeHtml {
     ['ripple limit', fmtPercent(rippleLimit)],
     ['hops allowed per period', fmtNum(maxHops)],
     ['least gain over static', fmtRatio(minGain)],
+    ['least fraction of the phase-averaged level', fmtRatio(minIncoherent)],
   ];
   return section(
     'verdict',

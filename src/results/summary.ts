@@ -99,6 +99,12 @@ export interface DrivenSummary {
    * rest offsets; the class uses the smaller of this and gain_over_static
    */
   gain_over_quasi_static: number | null;
+  /**
+   * mean gap power over the phase-averaged level derived.incoherent_enhancement x
+   * free_running.intracavity_W (dimensionless; about 1 for a fully decoupled laser); null
+   * without an external cavity or a lasing free-running laser
+   */
+  incoherent_fraction: number | null;
   hops_per_s: number;
   hops_per_period: number;
   class: RunClass;

@@ -188,6 +188,9 @@ const analysis = z.strictObject({
   hop_dwell: quantity('time', nonNegative).default(1e-6),
   max_hops_per_period: bounded(0, 1e9).default(0).describe('more hops per drive period than this is the hopping class'),
   min_gain_over_static: bounded(0, 1e9).default(1.1).describe('below this gain over static the class is no-gain'),
+  min_incoherent_fraction: bounded(0, 1e9)
+    .default(0.3)
+    .describe('below this fraction of the phase-averaged gap power eta_fb T2 / (1 - R2 R3\') x free-running intracavity power the class is no-gain'),
   lasing_power: quantity('power', positive).default(1e-6).describe('free-running intracavity power below this is no-lasing'),
 });
 

@@ -313,8 +313,18 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     const quasi = stat && !stat.failed ? quasiStaticMean(stat, offs.map((o) => o.offset_m), drive, lambda / 2) : null;
     const goqs = quasi !== null && quasi > 0 ? meanExt / quasi : null;
     const gows = staticSummary && staticSummary.external_W.min > 0 ? meanExt / staticSummary.external_W.min : null;
+    const incoherentLevel = derived.incoherent_enhancement * free.intracavity_W;
+    const incoherentFraction = Number.isFinite(incoherentLevel) && incoherentLevel > 0 ? meanExt / incoherentLevel : null;
     const cls = classifyRun(
-      { status, message, freeRunningIntracavity_W: free.intracavity_W, hopsPerPeriod: f ? hopsPerPeriod : null, gainOverStatic: goqs !== null && gos !== null ? Math.min(gos, goqs) : gos, rippleRel: ripple },
+      {
+        status,
+        message,
+        freeRunningIntracavity_W: free.intracavity_W,
+        hopsPerPeriod: f ? hopsPerPeriod : null,
+        gainOverStatic: goqs !== null && gos !== null ? Math.min(gos, goqs) : gos,
+        rippleRel: ripple,
+        incoherentFraction,
+      },
       s.analysis,
     );
     drivenSummary = {
@@ -333,6 +343,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       gain_over_static: gos,
       gain_over_worst_static: gows,
       gain_over_quasi_static: goqs,
+      incoherent_fraction: incoherentFraction,
       hops_per_s: hopsPerS,
       hops_per_period: hopsPerPeriod,
       class: cls.class,

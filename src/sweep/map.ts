@@ -18,6 +18,7 @@ export const FREQUENCY_KEY = 'drive.frequency';
 export const MAP_METRICS = {
   enhancement: (r: PointRecord) => r.summary.driven?.enhancement,
   gain_over_static: (r: PointRecord) => r.summary.driven?.gain_over_static,
+  incoherent_fraction: (r: PointRecord) => r.summary.driven?.incoherent_fraction,
   ripple_rel: (r: PointRecord) => r.summary.driven?.ripple_rel,
   ripple_full_band_rel: (r: PointRecord) => r.summary.driven?.ripple_full_band_rel,
   hops_per_s: (r: PointRecord) => r.summary.driven?.hops_per_s,

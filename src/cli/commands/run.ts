@@ -47,6 +47,7 @@ export function formatRunTable(s: RunSummary): string {
         ['class', `${s.driven.class} (${s.driven.class_reason})`],
         ['gain over static (over the curve at the same offsets)', `${num(s.driven.gain_over_static)} (${num(s.driven.gain_over_quasi_static)})`],
         ['enhancement (gap / free-running intracavity)', num(s.driven.enhancement)],
+        ['gap power / phase-averaged (decoupled) level', num(s.driven.incoherent_fraction)],
         ['ripple in band / full band', `${num(s.driven.ripple_rel)} / ${num(s.driven.ripple_full_band_rel)}`],
         ['hops per second / per period', `${num(s.driven.hops_per_s)} / ${num(s.driven.hops_per_period)}`],
         ['peak mirror speed / critical speed', `${num(s.drive.peak_speed_m_s)} m/s / ${num(s.drive.critical_speed_m_s)} m/s`],
