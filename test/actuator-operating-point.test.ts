@@ -73,15 +73,24 @@ const AMP8 = logAxis('drive.amplitude', 1e-9, 1e-5, 33);
 const FREQ8 = logAxis('drive.frequency', 100, 1e6, 33);
 /** Invented rule for the synthetic map: decoupled above a peak speed of 0.3 m/s. */
 const bySpeed = (vc: number) => (v: Record<string, number>): RunClass => (TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= vc ? 'decoupled' : 'modulated');
+/**
+ * Invented rule where the stroke matters too: decoupled when the peak speed reaches 5 cm/s
+ * and the stroke 2A sweeps at least half a wavelength (one external resonance per half
+ * period). Then the same amplitude serves at every frequency above a few tens of kHz, and
+ * voltage (lowest near the resonance, where |H| rises) trades against current 2 pi f C V
+ * (lowest at low frequency).
+ */
+const bySpeedAndStroke = (v: Record<string, number>): RunClass =>
+  TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= 0.05 && 2 * v['drive.amplitude'] >= 632.8e-9 / 2 ? 'decoupled' : 'modulated';
 
 /**
  * Brute-force expectation on a plain 2-D grid (no strides): decoupled points whose
  * neighbours along both axes are decoupled, reachable by reachable(), ranked by the
- * utilisation of the tightest limit, written out here from the limits themselves:
- * u = max(V / V_max, I / I_max, m_min f / f0) with V = A / (k_v |H(f)|) and I = 2 pi f C V
- * (each term only where the scenario sets that limit; Thomson, Theory of Vibration, ch. 3,
- * for |H|), ties to the lower voltage; without a voltage limit the lowest voltage, without
- * an actuator the lowest amplitude; remaining ties to the lower frequency.
+ * utilisation of the amplifier's tightest rating, written out here from the ratings:
+ * u = max(V / V_max, I / I_max) with V = A / (k_v |H(f)|) and I = 2 pi f C V (each term
+ * only where the scenario sets that rating; Thomson, Theory of Vibration, ch. 3, for |H|),
+ * ties to the lower voltage; with no rating the lowest voltage, without an actuator the
+ * lowest amplitude; remaining ties to the lower frequency.
  */
 function bruteForce(
   s: Scenario,
@@ -105,10 +114,10 @@ function bruteForce(
       if (act) {
         const h = act.resonance === undefined ? 1 : mechanicalResponse(f, act.resonance, act.quality_factor).magnitude;
         V = A / (act.stroke_per_volt * h);
-        if (act.max_voltage !== undefined) {
-          const terms = [V / act.max_voltage];
-          if (act.max_current !== undefined && act.capacitance !== undefined) terms.push((TWO_PI * f * act.capacitance * V) / act.max_current);
-          if (act.resonance !== undefined) terms.push((act.min_resonance_margin * f) / act.resonance);
+        const terms: number[] = [];
+        if (act.max_voltage !== undefined) terms.push(V / act.max_voltage);
+        if (act.max_current !== undefined && act.capacitance !== undefined) terms.push((TWO_PI * f * act.capacitance * V) / act.max_current);
+        if (terms.length > 0) {
           u = Math.max(...terms);
           key = [u, V, f];
         } else {
@@ -133,7 +142,7 @@ function bruteForce(
 describe('recommended operating point', () => {
   const rule = bySpeed(0.3);
 
-  it('is decoupled with decoupled neighbours, reachable, and the one with most headroom on the actuator (brute force)', () => {
+  it('is decoupled with decoupled neighbours, reachable, and the lowest-voltage such point under a voltage rating (brute force)', () => {
     const s = scenario(ACT);
     const map = synthMap([AMP, FREQ], rule);
     const { recommended, recommended_reason } = recommendOperatingPoint(map, s);
@@ -145,18 +154,17 @@ describe('recommended operating point', () => {
     const bf = bruteForce(s, rule)!;
     expect(p.amplitude_m).toBe(bf.A);
     expect(p.frequency_Hz).toBe(bf.f);
-    expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
+    // resonance margin 1.5 caps f at 267 kHz; the grid point below is 178 kHz
+    expect(p.frequency_Hz).toBeCloseTo(177827.9, 0);
     expect(p.voltage_V!).toBeCloseTo(p.amplitude_m / (10e-9 * mechanicalResponse(p.frequency_Hz, 400e3, 20).magnitude), 9);
     expect(p.current_A!).toBeCloseTo(TWO_PI * p.frequency_Hz * 50e-9 * p.voltage_V!, 12);
+    expect(p.utilisation!).toBeCloseTo(p.voltage_V! / 100, 12);
+    expect(p.limiting_key).toBe('actuator.max_voltage');
     expect(p.stroke_m).toBeCloseTo(2 * p.amplitude_m, 18);
     expect(p.axes).toEqual({ 'drive.amplitude': p.amplitude_m, 'drive.frequency': p.frequency_Hz });
     expect(recommended_reason).toBe(p.reason);
-    expect(p.reason).toMatch(/most headroom on the actuator/);
-    expect(p.reason).toContain(p.limiting_key!);
-    // Headroom is left on every limit: the point is not at the resonance-margin cap
-    // (267 kHz for f0 = 400 kHz, margin 1.5) where the old lowest-voltage rule sat.
-    expect(p.utilisation!).toBeLessThan(1);
-    expect(p.frequency_Hz).toBeLessThan(400e3 / 1.5 / 1.2);
+    expect(p.reason).toMatch(/most headroom on the amplifier/);
+    expect(p.reason).toContain('actuator.max_voltage');
   });
 
   it('gives the same point whatever the axis order', () => {
@@ -179,30 +187,33 @@ describe('recommended operating point', () => {
     expect([high.amplitude_m, high.frequency_Hz]).toEqual([bf.A, bf.f]);
   });
 
-  it('moves when the voltage limit changes: a tighter limit pushes it towards the resonance, a looser one away', () => {
-    // The trade: below f0 a stroke costs less voltage nearer the resonance (|H| rises,
-    // Thomson ch. 3) but leaves less resonance margin; the utilisation rule balances the two.
-    const at = (maxV: number) => recommendOperatingPoint(synthMap([AMP8, FREQ8], rule), scenario({ ...ACT, max_voltage: maxV })).recommended!;
+  it('moves when the voltage limit changes: voltage trades against current, a tighter limit moves it towards the resonance', () => {
+    // Below f0 a stroke costs less voltage nearer the resonance (|H| rises; Thomson ch. 3)
+    // but more reactive current 2 pi f C V; with both ratings set, the most headroom moves.
+    const act = { ...ACT, max_current: 3 };
+    const at = (maxV: number) => recommendOperatingPoint(synthMap([AMP8, FREQ8], bySpeedAndStroke), scenario({ ...act, max_voltage: maxV })).recommended!;
     const base = at(100);
-    const tight = at(40);
-    const loose = at(1000);
-    expect(tight.index).not.toBe(base.index);
+    const tight = at(50);
+    const loose = at(300);
     expect(tight.frequency_Hz).toBeGreaterThan(base.frequency_Hz);
     expect(tight.voltage_V!).toBeLessThan(base.voltage_V!);
-    expect(loose.index).not.toBe(base.index);
+    expect(tight.current_A!).toBeGreaterThan(base.current_A!);
     expect(loose.frequency_Hz).toBeLessThan(base.frequency_Hz);
-    for (const [maxV, p] of [[100, base], [40, tight], [1000, loose]] as const) {
-      const bf = bruteForce(scenario({ ...ACT, max_voltage: maxV }), rule, AMP8, FREQ8)!;
+    expect(loose.current_A!).toBeLessThan(base.current_A!);
+    for (const [maxV, p] of [[100, base], [50, tight], [300, loose]] as const) {
+      const bf = bruteForce(scenario({ ...act, max_voltage: maxV }), bySpeedAndStroke, AMP8, FREQ8)!;
       expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
       expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
+      expect(p.voltage_V!).toBeLessThanOrEqual(maxV * p.utilisation! * (1 + 1e-12));
+      expect(p.current_A!).toBeLessThanOrEqual(3 * p.utilisation! * (1 + 1e-12));
     }
     // Every voltage limit from 20 V to 1 kV that leaves a point gives one of the decoupled
     // class that the actuator reaches, and its frequency never rises as the limit loosens.
     let lastF = Infinity;
     let found = 0;
     for (let maxV = 20; maxV <= 1000; maxV *= 1.25) {
-      const s = scenario({ ...ACT, max_voltage: maxV });
-      const map = synthMap([AMP8, FREQ8], rule);
+      const s = scenario({ ...act, max_voltage: maxV });
+      const map = synthMap([AMP8, FREQ8], bySpeedAndStroke);
       const p = recommendOperatingPoint(map, s).recommended;
       if (p === null) continue;
       found++;
@@ -212,6 +223,13 @@ describe('recommended operating point', () => {
       lastF = p.frequency_Hz;
     }
     expect(found).toBeGreaterThan(10);
+  });
+
+  it('a bigger amplifier never asks for a harder drive: with a voltage rating alone the point stays as the rating grows', () => {
+    // The resonance margin is a constraint, not a cost: a generous voltage rating must not
+    // pull the choice to a lower frequency at a higher voltage.
+    const points = [100, 300, 1000, 3000].map((maxV) => recommendOperatingPoint(synthMap([AMP8, FREQ8], rule), scenario({ ...ACT, max_voltage: maxV })).recommended!);
+    for (const p of points) expect([p.amplitude_m, p.frequency_Hz]).toEqual([points[0].amplitude_m, points[0].frequency_Hz]);
   });
 
   it('with a voltage limit only (no resonance, no current limit) it is the lowest-voltage point', () => {
@@ -236,7 +254,7 @@ describe('recommended operating point', () => {
     }
   });
 
-  it('without a voltage limit it is the lowest-voltage point and no utilisation is given', () => {
+  it('without a rating it is the lowest-voltage point and no utilisation is given', () => {
     const s = scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20 });
     const p = recommendOperatingPoint(synthMap([AMP, FREQ], rule), s).recommended!;
     const bf = bruteForce(s, rule)!;
@@ -245,18 +263,18 @@ describe('recommended operating point', () => {
     expect(p.reason).toMatch(/lowest peak drive voltage/);
   });
 
-  it('a current limit joins the trade: the point never draws more than the limit and leaves the most headroom', () => {
-    // With the speed rule v >= 0.3 m/s the current C v / (k_v |H|) is about 1.5-2.5 A below
-    // the resonance; a 2.2 A limit binds on part of the map.
-    const s = scenario({ ...ACT, max_current: 2.2 });
-    const map = synthMap([AMP8, FREQ8], rule);
+  it('with a current rating alone it is the point of least reactive current', () => {
+    const s = scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20, max_current: 3 });
+    const map = synthMap([AMP8, FREQ8], bySpeedAndStroke);
     const p = recommendOperatingPoint(map, s).recommended!;
-    const bf = bruteForce(s, rule, AMP8, FREQ8)!;
+    const bf = bruteForce(s, bySpeedAndStroke, AMP8, FREQ8)!;
     expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
-    expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
-    expect(p.current_A!).toBeLessThanOrEqual(2.2 * p.utilisation! * (1 + 1e-12));
-    const without = recommendOperatingPoint(map, scenario(ACT)).recommended!;
-    expect(p.index).not.toBe(without.index);
+    expect(p.limiting_key).toBe('actuator.max_current');
+    expect(p.utilisation!).toBeCloseTo(p.current_A! / 3, 12);
+    // and it draws less current than the lowest-voltage point does
+    const lowestV = recommendOperatingPoint(map, scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20 })).recommended!;
+    expect(p.current_A!).toBeLessThan(lowestV.current_A!);
+    expect(p.voltage_V!).toBeGreaterThan(lowestV.voltage_V!);
   });
 
   it('a voltage limit below the lowest-voltage point leaves none reachable, and says which limit', () => {

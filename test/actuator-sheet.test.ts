@@ -120,25 +120,30 @@ describe('actuator sheet: sine drive', () => {
     expect(reachable(s, 200e-9, 100e3)).toEqual({ ok: true, reason: 'within every actuator limit set' });
   });
 
-  it('utilisation is the largest of V / V_max, I / I_max and m_min f / f0, and names that limit', () => {
-    // Derating of a piezo drive against the amplifier's voltage and current ratings and a
-    // minimum resonance margin (common practice, no source); each ratio is computed here
-    // from the closed forms V = A / (k_v |H|) and I = 2 pi f C V (Thomson ch. 3).
+  it('utilisation is the larger of V / V_max and I / I_max, names that rating, and leaves the resonance margin out', () => {
+    // Derating of a piezo drive against the amplifier's voltage and current ratings
+    // (common practice, no source); each ratio is computed here from the closed forms
+    // V = A / (k_v |H|) and I = 2 pi f C V (Thomson ch. 3).
     const A = 200e-9;
     const f = 100e3;
     const V = A / (10e-9 * mechanicalResponse(f, 400e3, 20).magnitude);
     const I = TWO_PI * f * 50e-9 * V;
-    const limits = { ...act, max_voltage: 40, max_current: 1 };
-    const u = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, limits)))!;
-    const expected = Math.max(V / 40, I / 1, (1.5 * f) / 400e3);
-    expect(u.fraction).toBeCloseTo(expected, 12);
-    expect(u.key).toBe(['actuator.max_voltage', 'actuator.max_current', 'actuator.min_resonance_margin'][[V / 40, I / 1, (1.5 * f) / 400e3].indexOf(expected)]);
-    // a broken limit shows as a fraction above 1
-    const over = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: 2e-6, frequency: 300e3 }, limits)))!;
+    for (const [maxV, maxI] of [[40, 1], [10, 5]]) {
+      const u = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, { ...act, max_voltage: maxV, max_current: maxI })))!;
+      expect(u.fraction).toBeCloseTo(Math.max(V / maxV, I / maxI), 12);
+      expect(u.key).toBe(V / maxV > I / maxI ? 'actuator.max_voltage' : 'actuator.max_current');
+    }
+    // a rating exceeded shows as a fraction above 1
+    const over = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: 2e-6, frequency: 300e3 }, { ...act, max_voltage: 40, max_current: 1 })))!;
     expect(over.fraction).toBeGreaterThan(1);
-    // no actuator, or no limit that can be checked: no utilisation
+    // the resonance margin is checked by the sheet but is not a rating: close to the
+    // resonance with a generous amplifier, u stays small
+    const nearF0 = actuatorSheet(scenario({ waveform: 'sine', amplitude: 10e-9, frequency: 260e3 }, { ...act, max_voltage: 1000, max_current: 100 }));
+    expect(nearF0.limits.some((l) => l.key === 'actuator.min_resonance_margin')).toBe(true);
+    expect(actuatorUtilisation(nearF0)!.fraction).toBeLessThan(0.01);
+    // no actuator, or no rating set: no utilisation
     expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f })))).toBeNull();
-    expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, { stroke_per_volt: 10e-9 })))).toBeNull();
+    expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, { stroke_per_volt: 10e-9, resonance: 400e3 })))).toBeNull();
   });
 
   it('without an actuator: kinematics only, every drive reachable', () => {

@@ -79,7 +79,7 @@ export interface OperatingPointChoice {
 
 /** What one candidate point costs; compared by `cheaper`. */
 interface Cost {
-  /** fraction of the tightest actuator limit (null when ranking by voltage or stroke alone) */
+  /** fraction of the tightest amplifier rating (null when ranking by voltage or stroke alone) */
   utilisation: number | null;
   limitingKey: string | null;
   /** peak drive voltage (V), or the peak-to-peak stroke (m) without an actuator */
@@ -103,15 +103,16 @@ function cheaper(a: Cost, b: Cost): boolean {
  *    a neighbour not finished or failed does not count as decoupled;
  *  - reachable by the actuator (reachableMask; every point when there is no actuator),
  * the one that asks least of the hardware:
- *  - with an actuator and `actuator.max_voltage` set: the smallest utilisation
- *    u = max(V / V_max, I / I_max, m_min f / f0) over the limits set (actuatorUtilisation),
- *    i.e. the most headroom on the limit nearest to breaking; equal u goes to the lower
- *    voltage. With a voltage limit alone this is the lowest-voltage point; with a resonance
- *    or current limit too, the point moves as the voltage limit changes, trading drive
- *    voltage against distance from the resonance (or current);
- *  - with an actuator but no voltage limit (nothing to weigh the voltage against): the
- *    lowest peak drive voltage;
+ *  - with an amplifier rating set (`actuator.max_voltage` and/or `actuator.max_current`):
+ *    the smallest utilisation u = max(V / V_max, I / I_max) over the ratings set
+ *    (actuatorUtilisation), i.e. the most headroom on the rating nearest to being reached;
+ *    equal u goes to the lower voltage. With a voltage rating alone this is the
+ *    lowest-voltage point; with both, voltage is traded against reactive current
+ *    I = 2 pi f C V, so the point moves when either rating changes;
+ *  - with an actuator but no rating (nothing to weigh the voltage against): the lowest peak
+ *    drive voltage;
  *  - without an actuator: the lowest peak-to-peak stroke.
+ * The resonance margin is a constraint (reachability), never a cost.
  * Remaining ties go to the lower frequency, then the lower index. Other axes are searched
  * too and the best point over them is taken (the reason says so).
  * @returns the point with a reason sentence, or null and a reason naming what was missing
@@ -155,7 +156,7 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   }
 
   const hasActuator = scenario.actuator !== undefined;
-  const byUtilisation = scenario.actuator?.max_voltage !== undefined;
+  const byUtilisation = scenario.actuator !== undefined && (scenario.actuator.max_voltage !== undefined || scenario.actuator.max_current !== undefined);
   let best = -1;
   let bestCost: Cost | null = null;
   let reachableCount = 0;
@@ -207,8 +208,10 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   let cheapest: string;
   if (bestCost.utilisation !== null) {
     cheapest =
-      `most headroom on the actuator at ${where}: it uses ${(100 * bestCost.utilisation).toFixed(0)} % of its tightest limit ` +
-      `(${bestCost.limitingKey}; peak drive ${formatSI(bestCost.voltage!, 'V', 3)})`;
+      `most headroom on the amplifier at ${where}: it uses ${(100 * bestCost.utilisation).toFixed(0)} % of its tightest rating ` +
+      `(${bestCost.limitingKey}; peak drive ${formatSI(bestCost.voltage!, 'V', 3)}` +
+      (bestCost.current !== null ? `, ${formatSI(bestCost.current, 'A', 3)}` : '') +
+      ')';
   } else if (hasActuator) {
     cheapest = `lowest peak drive voltage (${formatSI(bestCost.voltage!, 'V', 3)}) at ${where}`;
   } else {

@@ -431,29 +431,31 @@ export function reachable(scenario: Scenario, amplitude_m: number, frequency_Hz:
   return { ok: false, reason: broken.join('; ') };
 }
 
-/** How much of an actuator's capacity a drive uses, and which limit binds. */
+/** How much of the drive amplifier's ratings a drive uses, and which rating binds. */
 export interface ActuatorUtilisation {
   /**
-   * Dimensionless: the largest over the limits set of value / limit ('max' limits) or
-   * limit / value ('min' limits, the resonance margin); 1 is a limit reached exactly.
+   * Dimensionless: the larger of V / max_voltage and I / max_current over the ratings the
+   * scenario sets; 1 is a rating reached exactly.
    */
   fraction: number;
-  /** the scenario key of the limit that gives `fraction`, e.g. 'actuator.max_voltage' */
+  /** the scenario key of the rating that gives `fraction`, e.g. 'actuator.max_voltage' */
   key: string;
 }
 
 /**
- * The tightest of a sheet's limit checks as one number: u = max(V / V_max, I / I_max,
- * m_min f / f0) over the limits the scenario sets, so 1 - u is the headroom left on the
- * limit nearest to being broken. Peak voltage and current against an amplifier's ratings,
- * and the resonance margin against its minimum, are the usual derating checks of a piezo
- * drive (common practice, no source).
- * @returns null when the sheet checks no limit (no actuator, or none set)
+ * The drive's use of the amplifier's ratings as one number: u = max(V / V_max, I / I_max)
+ * over the ratings set, so 1 - u is the headroom left on the rating nearest to being
+ * reached. Peak voltage and peak current against an amplifier's ratings are the usual
+ * derating figures of a capacitive (piezo) load (common practice, no source). The
+ * resonance margin is not a rating: it is a yes/no constraint (ActuatorSheet.limits) and
+ * does not enter u, so that a bigger amplifier never pulls the choice towards a harder drive.
+ * @returns null when the sheet checks neither rating (no actuator, or neither set)
  */
 export function actuatorUtilisation(sheet: Pick<ActuatorSheet, 'limits'>): ActuatorUtilisation | null {
   let best: ActuatorUtilisation | null = null;
   for (const l of sheet.limits) {
-    const fraction = l.kind === 'max' ? l.value / l.limit : l.limit / l.value;
+    if (l.kind !== 'max') continue;
+    const fraction = l.value / l.limit;
     if (best === null || fraction > best.fraction) best = { fraction, key: l.key };
   }
   return best;

@@ -360,7 +360,7 @@ function bestSection(m: SweepMap): SafeHtml {
 <tr><th>stroke</th><td class="num">${fmtSI(r.stroke_m, 'm')}</td></tr>
 <tr><th>drive voltage</th><td class="num ${isNum(r.voltage_V) ? '' : 'nc'}">${fmtSI(r.voltage_V, 'V')}</td></tr>
 ${isNum(r.current_A) ? html`<tr><th>drive current (reactive)</th><td class="num">${fmtSI(r.current_A, 'A')}</td></tr>` : ''}
-${isNum(r.utilisation) ? html`<tr><th>tightest actuator limit</th><td class="num">${(100 * r.utilisation).toFixed(0)} % of ${r.limiting_key ?? 'its limit'}</td></tr>` : ''}
+${isNum(r.utilisation) ? html`<tr><th>tightest amplifier rating</th><td class="num">${(100 * r.utilisation).toFixed(0)} % of ${r.limiting_key ?? 'its limit'}</td></tr>` : ''}
 <tr><th>class there</th><td>${classBadge(m.classes[r.index] ?? null)}</td></tr>
 <tr><th>why this point</th><td>${r.reason}</td></tr></table>`
     : html`<h3>Recommended operating point</h3><p class="note">None: ${m.recommended_reason || 'no reason recorded'}.</p>`;

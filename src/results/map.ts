@@ -27,11 +27,12 @@ export interface OperatingPoint {
   /** peak reactive current, A (null without an actuator capacitance) */
   current_A: number | null;
   /**
-   * dimensionless fraction of the actuator's tightest limit used there (peak voltage,
-   * current, resonance margin); null when the point was ranked by voltage or stroke alone
+   * dimensionless fraction of the amplifier's tightest rating used there (peak voltage over
+   * max_voltage, peak current over max_current); null when the point was ranked by voltage
+   * or stroke alone
    */
   utilisation: number | null;
-  /** the scenario key of that tightest limit, e.g. 'actuator.max_voltage' (null with utilisation) */
+  /** the scenario key of that tightest rating, e.g. 'actuator.max_voltage' (null with utilisation) */
   limiting_key: string | null;
   stroke_m: number;
   reason: string;
