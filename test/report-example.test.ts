@@ -26,6 +26,22 @@ describe('committed example sweep', () => {
     expect(map.recommended_reason).toBe(choice.recommended_reason);
   });
 
+  it('its stored classes obey the class thresholds of its own scenario', () => {
+    // A change of the class rule without a regenerated example shows here.
+    const a = scenario.analysis;
+    const m = map.metrics;
+    let decoupled = 0;
+    map.classes.forEach((c, i) => {
+      if (c !== 'decoupled') return;
+      decoupled++;
+      expect(m.incoherent_fraction[i]!, `point ${i}`).toBeGreaterThanOrEqual(a.min_incoherent_fraction);
+      expect(m.gain_over_static[i]!, `point ${i}`).toBeGreaterThanOrEqual(a.min_gain_over_static);
+      expect(m.ripple_rel[i]!, `point ${i}`).toBeLessThanOrEqual(a.ripple_limit);
+      expect(m.hops_per_period[i]!, `point ${i}`).toBeLessThanOrEqual(a.max_hops_per_period);
+    });
+    expect(decoupled).toBeGreaterThan(0);
+  });
+
   it('rebuilds its report from the saved files alone', () => {
     const dir = join(tmp, 'demo-sweep');
     cpSync(EXAMPLE, dir, { recursive: true });

@@ -18,8 +18,8 @@
  * meaningless for a user, so they come before gain; without gain the ripple is moot.
  * Comparisons are strict: a value exactly at a threshold passes that test.
  * A null hops-per-period (still mirror) skips the hop test; a null gain over static (no
- * static reference) skips the gain test, a null incoherent fraction (no external cavity)
- * the incoherent-level test; the reason says so. A ripple that is not a
+ * static reference) skips the gain test, a null incoherent fraction (no external cavity,
+ * or none of the laser's light coupled into it) the incoherent-level test; the reason says so. A ripple that is not a
  * finite number (mean external power not positive) counts as modulated.
  */
 import type { RunClass } from '../results/summary';
@@ -96,7 +96,7 @@ export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
   }
   const frac = m.incoherentFraction ?? null;
   if (frac === null || t.min_incoherent_fraction === undefined) {
-    passed.push('incoherent-level test skipped (no external cavity)');
+    passed.push('incoherent-level test skipped (no phase-averaged level: no external cavity or no coupling into it)');
   } else if (!(frac >= t.min_incoherent_fraction)) {
     return {
       class: 'no-gain',

@@ -13,8 +13,8 @@ export interface ClassStyle {
 }
 
 export const CLASS_STYLE: Record<RunClass, ClassStyle> = {
-  decoupled: { colour: '#1f7a5c', meaning: 'gains over the mirror held still, in-band ripple below the limit, no mode hops' },
-  modulated: { colour: '#c98e12', meaning: 'gains over the mirror held still, but the in-band ripple is above the limit' },
+  decoupled: { colour: '#1f7a5c', meaning: 'gains over the mirror held still and nears the phase-averaged level, in-band ripple below the limit, no mode hops' },
+  modulated: { colour: '#c98e12', meaning: 'gains over the mirror held still and nears the phase-averaged level, but the in-band ripple is above the limit' },
   hopping: { colour: '#b23a5b', meaning: 'the laser hops between modes more often than allowed' },
   'no-gain': { colour: '#7d8796', meaning: 'the drive gives too little gain over the mirror held still, or leaves the gap far below the phase-averaged level that decoupling gives' },
   'no-lasing': { colour: '#2e3350', meaning: 'the laser does not reach threshold' },
