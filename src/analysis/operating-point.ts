@@ -108,7 +108,7 @@ function cheaper(a: Cost, b: Cost): boolean {
  *    (actuatorUtilisation), i.e. the most headroom on the rating nearest to being reached;
  *    equal u goes to the lower voltage. With a voltage rating alone this is the
  *    lowest-voltage point; with both, voltage is traded against reactive current
- *    I = 2 pi f C V, so the point moves when either rating changes;
+ *    I = 2 pi f C V, so the point can move when either rating changes;
  *  - with an actuator but no rating (nothing to weigh the voltage against): the lowest peak
  *    drive voltage;
  *  - without an actuator: the lowest peak-to-peak stroke.
