@@ -81,8 +81,10 @@ export function formatNumber(value: number | null | undefined, digits = 4): stri
 
 /**
  * The terminal line for a map's recommended operating point (MODEL.md section 5): where it
- * is and why, or why there is none.
+ * is and why, or why there is none; null for a map without both drive axes, which has no
+ * operating point to speak of.
  */
-export function recommendedPointLine(map: Pick<SweepMap, 'recommended' | 'recommended_reason'>): string {
+export function recommendedPointLine(map: Pick<SweepMap, 'recommended' | 'recommended_reason' | 'amplitude_key' | 'frequency_key'>): string | null {
+  if (map.amplitude_key === null || map.frequency_key === null) return null;
   return map.recommended !== null ? `recommended operating point: ${map.recommended.reason}` : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
 }

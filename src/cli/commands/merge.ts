@@ -31,7 +31,8 @@ export function registerMerge(program: Command, ctx: CommandContext): void {
         ctx.setExit(1);
       }
       process.stdout.write(`merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`);
-      if (out.map.amplitude_key !== null && out.map.frequency_key !== null) process.stdout.write(`${recommendedPointLine(out.map)}\n`);
+      const pointLine = recommendedPointLine(out.map);
+      if (pointLine !== null) process.stdout.write(`${pointLine}\n`);
       ctx.setExit(0);
     });
 }

@@ -117,7 +117,8 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         `${label}: ${out.finished}/${out.planned} points${out.resumed > 0 ? ` (${out.resumed} resumed)` : ''}` +
           `${classes ? `: ${classes}` : ''} in ${formatDuration((Date.now() - t0) / 1000)} -> ${dir}\n`,
       );
-      if (out.map.amplitude_key !== null && out.map.frequency_key !== null) process.stdout.write(`${recommendedPointLine(out.map)}\n`);
+      const pointLine = recommendedPointLine(out.map);
+      if (pointLine !== null) process.stdout.write(`${pointLine}\n`);
       if (stop.signal.aborted) {
         process.stderr.write(`${label}: stopped; ${out.finished} finished points kept in ${dir} (continue with --resume)\n`);
         process.exit(130);
