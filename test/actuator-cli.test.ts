@@ -11,7 +11,10 @@ const ROOT = resolve(__dirname, '..');
 const DEMO = join(ROOT, 'scenarios', 'demo.yaml');
 
 function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [join(ROOT, 'bin', 'dithercav.js'), ...args], { encoding: 'utf8', cwd: ROOT });
+  const r = spawnSync(process.execPath, [join(ROOT, 'bin', 'dithercav.js'), ...args], {
+    encoding: 'utf8',
+    cwd: ROOT,
+  });
   return { code: r.status, out: r.stdout, err: r.stderr };
 }
 
@@ -27,7 +30,14 @@ describe('dithercav actuator', () => {
     const r = cli('actuator', DEMO);
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/^quantity\s+value\s+limit\s+status$/m);
-    for (const q of ['stroke (peak to peak)', 'peak speed', 'peak Doppler shift', 'peak voltage', 'peak reactive current', 'resonance margin f0 / f']) {
+    for (const q of [
+      'stroke (peak to peak)',
+      'peak speed',
+      'peak Doppler shift',
+      'peak voltage',
+      'peak reactive current',
+      'resonance margin f0 / f',
+    ]) {
       expect(r.out).toContain(q);
     }
     expect(r.out).toMatch(/peak voltage\s+\S+ V\s+<= \S+ V\s+(OK|EXCEEDED)/);

@@ -23,7 +23,14 @@ function scenario(actuator?: ScenarioInput['actuator']): Scenario {
   });
 }
 
-const ACT = { stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20, max_voltage: 100, min_resonance_margin: 1.5 };
+const ACT = {
+  stroke_per_volt: 10e-9,
+  capacitance: 50e-9,
+  resonance: 400e3,
+  quality_factor: 20,
+  max_voltage: 100,
+  min_resonance_margin: 1.5,
+};
 
 function logAxis(key: string, from: number, to: number, points: number): MapAxis {
   const values = Array.from({ length: points }, (_, i) => from * (to / from) ** (i / (points - 1)));
@@ -72,7 +79,10 @@ const FREQ = logAxis('drive.frequency', 100, 1e6, 17);
 const AMP8 = logAxis('drive.amplitude', 1e-9, 1e-5, 33);
 const FREQ8 = logAxis('drive.frequency', 100, 1e6, 33);
 /** Invented rule for the synthetic map: decoupled above a peak speed of 0.3 m/s. */
-const bySpeed = (vc: number) => (v: Record<string, number>): RunClass => (TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= vc ? 'decoupled' : 'modulated');
+const bySpeed =
+  (vc: number) =>
+  (v: Record<string, number>): RunClass =>
+    TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= vc ? 'decoupled' : 'modulated';
 /**
  * Invented rule where the stroke matters too: decoupled when the peak speed reaches 5 cm/s
  * and the stroke 2A sweeps at least half a wavelength (one external resonance per half
@@ -81,7 +91,9 @@ const bySpeed = (vc: number) => (v: Record<string, number>): RunClass => (TWO_PI
  * (lowest at low frequency).
  */
 const bySpeedAndStroke = (v: Record<string, number>): RunClass =>
-  TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= 0.05 && 2 * v['drive.amplitude'] >= 632.8e-9 / 2 ? 'decoupled' : 'modulated';
+  TWO_PI * v['drive.frequency'] * v['drive.amplitude'] >= 0.05 && 2 * v['drive.amplitude'] >= 632.8e-9 / 2
+    ? 'decoupled'
+    : 'modulated';
 
 /**
  * Brute-force expectation on a plain 2-D grid (no strides): decoupled points whose
@@ -98,12 +110,20 @@ function bruteForce(
   amp: MapAxis = AMP,
   freq: MapAxis = FREQ,
 ): { A: number; f: number; u: number | null; V: number | null } | null {
-  const grid = amp.values.map((A) => freq.values.map((f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled'));
+  const grid = amp.values.map((A) =>
+    freq.values.map((f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled'),
+  );
   let best: { A: number; f: number; u: number | null; V: number | null; key: number[] } | null = null;
   const act = s.actuator;
   for (let i = 0; i < amp.values.length; i++) {
     for (let j = 0; j < freq.values.length; j++) {
-      const nb = [grid[i][j], grid[i - 1]?.[j] ?? true, grid[i + 1]?.[j] ?? true, grid[i][j - 1] ?? true, grid[i][j + 1] ?? true];
+      const nb = [
+        grid[i][j],
+        grid[i - 1]?.[j] ?? true,
+        grid[i + 1]?.[j] ?? true,
+        grid[i][j - 1] ?? true,
+        grid[i][j + 1] ?? true,
+      ];
       if (!nb.every(Boolean)) continue;
       const A = amp.values[i];
       const f = freq.values[j];
@@ -112,11 +132,15 @@ function bruteForce(
       let u: number | null = null;
       let V: number | null = null;
       if (act) {
-        const h = act.resonance === undefined ? 1 : mechanicalResponse(f, act.resonance, act.quality_factor).magnitude;
+        const h =
+          act.resonance === undefined
+            ? 1
+            : mechanicalResponse(f, act.resonance, act.quality_factor).magnitude;
         V = A / (act.stroke_per_volt * h);
         const terms: number[] = [];
         if (act.max_voltage !== undefined) terms.push(V / act.max_voltage);
-        if (act.max_current !== undefined && act.capacitance !== undefined) terms.push((TWO_PI * f * act.capacitance * V) / act.max_current);
+        if (act.max_current !== undefined && act.capacitance !== undefined)
+          terms.push((TWO_PI * f * act.capacitance * V) / act.max_current);
         if (terms.length > 0) {
           u = Math.max(...terms);
           key = [u, V, f];
@@ -156,7 +180,10 @@ describe('recommended operating point', () => {
     expect(p.frequency_Hz).toBe(bf.f);
     // resonance margin 1.5 caps f at 267 kHz; the grid point below is 178 kHz
     expect(p.frequency_Hz).toBeCloseTo(177827.9, 0);
-    expect(p.voltage_V!).toBeCloseTo(p.amplitude_m / (10e-9 * mechanicalResponse(p.frequency_Hz, 400e3, 20).magnitude), 9);
+    expect(p.voltage_V!).toBeCloseTo(
+      p.amplitude_m / (10e-9 * mechanicalResponse(p.frequency_Hz, 400e3, 20).magnitude),
+      9,
+    );
     expect(p.current_A!).toBeCloseTo(TWO_PI * p.frequency_Hz * 50e-9 * p.voltage_V!, 12);
     expect(p.utilisation!).toBeCloseTo(p.voltage_V! / 100, 12);
     expect(p.limiting_key).toBe('actuator.max_voltage');
@@ -191,7 +218,11 @@ describe('recommended operating point', () => {
     // Below f0 a stroke costs less voltage nearer the resonance (|H| rises; Thomson ch. 3)
     // but more reactive current 2 pi f C V; with both ratings set, the most headroom moves.
     const act = { ...ACT, max_current: 3 };
-    const at = (maxV: number) => recommendOperatingPoint(synthMap([AMP8, FREQ8], bySpeedAndStroke), scenario({ ...act, max_voltage: maxV })).recommended!;
+    const at = (maxV: number) =>
+      recommendOperatingPoint(
+        synthMap([AMP8, FREQ8], bySpeedAndStroke),
+        scenario({ ...act, max_voltage: maxV }),
+      ).recommended!;
     const base = at(100);
     const tight = at(50);
     const loose = at(300);
@@ -200,7 +231,11 @@ describe('recommended operating point', () => {
     expect(tight.current_A!).toBeGreaterThan(base.current_A!);
     expect(loose.frequency_Hz).toBeLessThan(base.frequency_Hz);
     expect(loose.current_A!).toBeLessThan(base.current_A!);
-    for (const [maxV, p] of [[100, base], [50, tight], [300, loose]] as const) {
+    for (const [maxV, p] of [
+      [100, base],
+      [50, tight],
+      [300, loose],
+    ] as const) {
       const bf = bruteForce(scenario({ ...act, max_voltage: maxV }), bySpeedAndStroke, AMP8, FREQ8)!;
       expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
       expect(p.utilisation!).toBeCloseTo(bf.u!, 12);
@@ -228,8 +263,13 @@ describe('recommended operating point', () => {
   it('a bigger amplifier never asks for a harder drive: with a voltage rating alone the point stays as the rating grows', () => {
     // The resonance margin is a constraint, not a cost: a generous voltage rating must not
     // pull the choice to a lower frequency at a higher voltage.
-    const points = [100, 300, 1000, 3000].map((maxV) => recommendOperatingPoint(synthMap([AMP8, FREQ8], rule), scenario({ ...ACT, max_voltage: maxV })).recommended!);
-    for (const p of points) expect([p.amplitude_m, p.frequency_Hz]).toEqual([points[0].amplitude_m, points[0].frequency_Hz]);
+    const points = [100, 300, 1000, 3000].map(
+      (maxV) =>
+        recommendOperatingPoint(synthMap([AMP8, FREQ8], rule), scenario({ ...ACT, max_voltage: maxV }))
+          .recommended!,
+    );
+    for (const p of points)
+      expect([p.amplitude_m, p.frequency_Hz]).toEqual([points[0].amplitude_m, points[0].frequency_Hz]);
   });
 
   it('with a voltage limit only (no resonance, no current limit) it is the lowest-voltage point', () => {
@@ -243,11 +283,18 @@ describe('recommended operating point', () => {
     // no point that qualifies has a lower voltage: the smallest decoupled amplitude with margin
     const lower = AMP.values.filter((A) => A < p.amplitude_m && A / 10e-9 <= 100);
     for (const A of lower) {
-      const others = FREQ.values.filter((f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled');
+      const others = FREQ.values.filter(
+        (f) => rule({ 'drive.amplitude': A, 'drive.frequency': f }) === 'decoupled',
+      );
       const withMargin = others.filter((f) => {
         const i = AMP.values.indexOf(A);
         const j = FREQ.values.indexOf(f);
-        const cls = (ii: number, jj: number) => ii < 0 || jj < 0 || ii >= AMP.values.length || jj >= FREQ.values.length || rule({ 'drive.amplitude': AMP.values[ii], 'drive.frequency': FREQ.values[jj] }) === 'decoupled';
+        const cls = (ii: number, jj: number) =>
+          ii < 0 ||
+          jj < 0 ||
+          ii >= AMP.values.length ||
+          jj >= FREQ.values.length ||
+          rule({ 'drive.amplitude': AMP.values[ii], 'drive.frequency': FREQ.values[jj] }) === 'decoupled';
         return cls(i - 1, j) && cls(i + 1, j) && cls(i, j - 1) && cls(i, j + 1);
       });
       expect(withMargin).toEqual([]);
@@ -264,7 +311,13 @@ describe('recommended operating point', () => {
   });
 
   it('with a current rating alone it is the point of least reactive current', () => {
-    const s = scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20, max_current: 3 });
+    const s = scenario({
+      stroke_per_volt: 10e-9,
+      capacitance: 50e-9,
+      resonance: 400e3,
+      quality_factor: 20,
+      max_current: 3,
+    });
     const map = synthMap([AMP8, FREQ8], bySpeedAndStroke);
     const p = recommendOperatingPoint(map, s).recommended!;
     const bf = bruteForce(s, bySpeedAndStroke, AMP8, FREQ8)!;
@@ -272,7 +325,10 @@ describe('recommended operating point', () => {
     expect(p.limiting_key).toBe('actuator.max_current');
     expect(p.utilisation!).toBeCloseTo(p.current_A! / 3, 12);
     // and it draws less current than the lowest-voltage point does
-    const lowestV = recommendOperatingPoint(map, scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20 })).recommended!;
+    const lowestV = recommendOperatingPoint(
+      map,
+      scenario({ stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20 }),
+    ).recommended!;
     expect(p.current_A!).toBeLessThan(lowestV.current_A!);
     expect(p.voltage_V!).toBeGreaterThan(lowestV.voltage_V!);
   });
@@ -280,14 +336,29 @@ describe('recommended operating point', () => {
   it('a voltage limit below the lowest-voltage point leaves none reachable, and says which limit', () => {
     // The lowest voltage of all points with a margin, found with no voltage limit set:
     // any limit below it removes every such point.
-    const noLimit = { stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20, min_resonance_margin: 1.5 };
+    const noLimit = {
+      stroke_per_volt: 10e-9,
+      capacitance: 50e-9,
+      resonance: 400e3,
+      quality_factor: 20,
+      min_resonance_margin: 1.5,
+    };
     const lowest = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario(noLimit)).recommended!;
-    const same = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 1.01 })).recommended!;
+    const same = recommendOperatingPoint(
+      synthMap([AMP, FREQ], rule),
+      scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 1.01 }),
+    ).recommended!;
     expect(same.index).toBe(lowest.index);
-    const tight = recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 0.99 }));
+    const tight = recommendOperatingPoint(
+      synthMap([AMP, FREQ], rule),
+      scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 0.99 }),
+    );
     expect(tight.recommended).toBeNull();
     expect(tight.recommended_reason).toMatch(/actuator\.max_voltage/);
-    const mask = reachableMask(synthMap([AMP, FREQ], rule), scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 0.99 }))!;
+    const mask = reachableMask(
+      synthMap([AMP, FREQ], rule),
+      scenario({ ...noLimit, max_voltage: lowest.voltage_V! * 0.99 }),
+    )!;
     expect(mask[lowest.index]).toBe(false);
   });
 
@@ -303,13 +374,18 @@ describe('recommended operating point', () => {
   });
 
   it('no decoupled point, or none with a margin, gives null and a reason', () => {
-    const none = recommendOperatingPoint(synthMap([AMP, FREQ], () => 'hopping'), scenario(ACT));
+    const none = recommendOperatingPoint(
+      synthMap([AMP, FREQ], () => 'hopping'),
+      scenario(ACT),
+    );
     expect(none.recommended).toBeNull();
     expect(none.recommended_reason).toMatch(/none of the 289 map points is decoupled/);
     const lone = AMP.values[8];
     const f0 = FREQ.values[8];
     const isolated = recommendOperatingPoint(
-      synthMap([AMP, FREQ], (v) => (v['drive.amplitude'] === lone && v['drive.frequency'] === f0 ? 'decoupled' : 'modulated')),
+      synthMap([AMP, FREQ], (v) =>
+        v['drive.amplitude'] === lone && v['drive.frequency'] === f0 ? 'decoupled' : 'modulated',
+      ),
       scenario(ACT),
     );
     expect(isolated.recommended).toBeNull();

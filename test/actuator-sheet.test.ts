@@ -56,25 +56,41 @@ describe('second-order mechanical response', () => {
     const f0 = springMassResonance_Hz(1e6, 1e-3);
     expect(f0).toBeCloseTo(5032.92, 1);
     expect((TWO_PI * f0) ** 2 * 1e-3).toBeCloseTo(1e6, 3);
-    const r = resolveActuator(scenario({}, { stroke_per_volt: 1e-8, stiffness: 1e6, moving_mass: 1e-3 }).actuator!);
+    const r = resolveActuator(
+      scenario({}, { stroke_per_volt: 1e-8, stiffness: 1e6, moving_mass: 1e-3 }).actuator!,
+    );
     expect(r.resonance_source).toBe('stiffness and mass');
     expect(r.resonance_Hz).toBeCloseTo(f0, 9);
   });
 
   it('notes a resonance that disagrees with stiffness and mass, and completes a missing one', () => {
-    const clash = resolveActuator(scenario({}, { stroke_per_volt: 1e-8, resonance: 8e3, stiffness: 1e6, moving_mass: 1e-3 }).actuator!);
+    const clash = resolveActuator(
+      scenario({}, { stroke_per_volt: 1e-8, resonance: 8e3, stiffness: 1e6, moving_mass: 1e-3 }).actuator!,
+    );
     expect(clash.resonance_Hz).toBe(8e3);
     expect(clash.notes.join(' ')).toMatch(/disagrees/);
-    const agree = resolveActuator(scenario({}, { stroke_per_volt: 1e-8, resonance: 5033, stiffness: 1e6, moving_mass: 1e-3 }).actuator!);
+    const agree = resolveActuator(
+      scenario({}, { stroke_per_volt: 1e-8, resonance: 5033, stiffness: 1e6, moving_mass: 1e-3 }).actuator!,
+    );
     expect(agree.notes).toEqual([]);
     // k = m (2 pi f0)^2 (Thomson ch. 2): 2 g at 400 kHz -> 1.263e10 N/m
-    const fromMass = resolveActuator(scenario({}, { stroke_per_volt: 1e-8, resonance: 400e3, moving_mass: 2e-3 }).actuator!);
+    const fromMass = resolveActuator(
+      scenario({}, { stroke_per_volt: 1e-8, resonance: 400e3, moving_mass: 2e-3 }).actuator!,
+    );
     expect(fromMass.stiffness_N_m!).toBeCloseTo(2e-3 * (TWO_PI * 400e3) ** 2, -3);
   });
 });
 
 describe('actuator sheet: sine drive', () => {
-  const act = { stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20, moving_mass: 2e-3, max_voltage: 150, max_current: 10 };
+  const act = {
+    stroke_per_volt: 10e-9,
+    capacitance: 50e-9,
+    resonance: 400e3,
+    quality_factor: 20,
+    moving_mass: 2e-3,
+    max_voltage: 150,
+    max_current: 10,
+  };
   const s = scenario({ waveform: 'sine', amplitude: 200e-9, frequency: 100e3 }, act);
   const sheet = actuatorSheet(s);
 
@@ -108,9 +124,18 @@ describe('actuator sheet: sine drive', () => {
   it('flags every limit exceeded', () => {
     // 2 um at 300 kHz: V ~ 2e-6 / (1e-8 * 2.28) ~ 88 V > 50 V, I = 2 pi 3e5 5e-8 88 ~ 8 A > 1 A,
     // f0 / f = 1.33 < 1.5.
-    const bad = actuatorSheet(scenario({ waveform: 'sine', amplitude: 2e-6, frequency: 300e3 }, { ...act, max_voltage: 50, max_current: 1 }));
+    const bad = actuatorSheet(
+      scenario(
+        { waveform: 'sine', amplitude: 2e-6, frequency: 300e3 },
+        { ...act, max_voltage: 50, max_current: 1 },
+      ),
+    );
     expect(bad.ok).toBe(false);
-    expect(bad.exceeded.sort()).toEqual(['actuator.max_current', 'actuator.max_voltage', 'actuator.min_resonance_margin']);
+    expect(bad.exceeded.sort()).toEqual([
+      'actuator.max_current',
+      'actuator.max_voltage',
+      'actuator.min_resonance_margin',
+    ]);
     const above = actuatorSheet(scenario({ waveform: 'sine', amplitude: 10e-9, frequency: 500e3 }, act));
     expect(above.exceeded).toContain('above_resonance');
     expect(above.exceeded).toContain('actuator.min_resonance_margin');
@@ -128,22 +153,55 @@ describe('actuator sheet: sine drive', () => {
     const f = 100e3;
     const V = A / (10e-9 * mechanicalResponse(f, 400e3, 20).magnitude);
     const I = TWO_PI * f * 50e-9 * V;
-    for (const [maxV, maxI] of [[40, 1], [10, 5]]) {
-      const u = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, { ...act, max_voltage: maxV, max_current: maxI })))!;
+    for (const [maxV, maxI] of [
+      [40, 1],
+      [10, 5],
+    ]) {
+      const u = actuatorUtilisation(
+        actuatorSheet(
+          scenario(
+            { waveform: 'sine', amplitude: A, frequency: f },
+            { ...act, max_voltage: maxV, max_current: maxI },
+          ),
+        ),
+      )!;
       expect(u.fraction).toBeCloseTo(Math.max(V / maxV, I / maxI), 12);
       expect(u.key).toBe(V / maxV > I / maxI ? 'actuator.max_voltage' : 'actuator.max_current');
     }
     // a rating exceeded shows as a fraction above 1
-    const over = actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: 2e-6, frequency: 300e3 }, { ...act, max_voltage: 40, max_current: 1 })))!;
+    const over = actuatorUtilisation(
+      actuatorSheet(
+        scenario(
+          { waveform: 'sine', amplitude: 2e-6, frequency: 300e3 },
+          { ...act, max_voltage: 40, max_current: 1 },
+        ),
+      ),
+    )!;
     expect(over.fraction).toBeGreaterThan(1);
     // the resonance margin is checked by the sheet but is not a rating: close to the
     // resonance with a generous amplifier, u stays small
-    const nearF0 = actuatorSheet(scenario({ waveform: 'sine', amplitude: 10e-9, frequency: 260e3 }, { ...act, max_voltage: 1000, max_current: 100 }));
+    const nearF0 = actuatorSheet(
+      scenario(
+        { waveform: 'sine', amplitude: 10e-9, frequency: 260e3 },
+        { ...act, max_voltage: 1000, max_current: 100 },
+      ),
+    );
     expect(nearF0.limits.some((l) => l.key === 'actuator.min_resonance_margin')).toBe(true);
     expect(actuatorUtilisation(nearF0)!.fraction).toBeLessThan(0.01);
     // no actuator, or no rating set: no utilisation
-    expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f })))).toBeNull();
-    expect(actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }, { stroke_per_volt: 10e-9, resonance: 400e3 })))).toBeNull();
+    expect(
+      actuatorUtilisation(actuatorSheet(scenario({ waveform: 'sine', amplitude: A, frequency: f }))),
+    ).toBeNull();
+    expect(
+      actuatorUtilisation(
+        actuatorSheet(
+          scenario(
+            { waveform: 'sine', amplitude: A, frequency: f },
+            { stroke_per_volt: 10e-9, resonance: 400e3 },
+          ),
+        ),
+      ),
+    ).toBeNull();
   });
 
   it('without an actuator: kinematics only, every drive reachable', () => {
@@ -158,7 +216,18 @@ describe('actuator sheet: two-tone and triangle', () => {
   const act = { stroke_per_volt: 10e-9, capacitance: 50e-9, resonance: 400e3, quality_factor: 20 };
 
   it('two tones: voltages and currents of the tones add', () => {
-    const sheet = actuatorSheet(scenario({ waveform: 'two-tone', amplitude: 100e-9, frequency: 100e3, second_amplitude: 1e-6, second_frequency: 1e3 }, act));
+    const sheet = actuatorSheet(
+      scenario(
+        {
+          waveform: 'two-tone',
+          amplitude: 100e-9,
+          frequency: 100e3,
+          second_amplitude: 1e-6,
+          second_frequency: 1e3,
+        },
+        act,
+      ),
+    );
     const a = sheet.actuator!;
     const v1 = 100e-9 / (10e-9 * mechanicalResponse(100e3, 400e3, 20).magnitude);
     const v2 = 1e-6 / (10e-9 * mechanicalResponse(1e3, 400e3, 20).magnitude);
@@ -171,18 +240,24 @@ describe('actuator sheet: two-tone and triangle', () => {
     // Fourier series of the triangle wave: (8/pi^2) sum_{n odd} (-1)^((n-1)/2) sin(n t) / n^2
     // (Kreyszig, Advanced Engineering Mathematics, 10th ed., ch. 11, Fourier series); with |H| = 1 all
     // terms add at the turning point. f0 = 1000 f keeps |H(9f)| within 1e-4 of 1, hence 1e-3.
-    const sheet = actuatorSheet(scenario({ waveform: 'triangle', amplitude: 1e-6, frequency: 1e3 }, { ...act, resonance: 1e6 }));
+    const sheet = actuatorSheet(
+      scenario({ waveform: 'triangle', amplitude: 1e-6, frequency: 1e3 }, { ...act, resonance: 1e6 }),
+    );
     let sum = 0;
     for (const n of TRIANGLE_HARMONICS) sum += 1 / (n * n);
     const expected = (1e-6 / 10e-9) * (8 / Math.PI ** 2) * sum;
     expect(Math.abs(sheet.actuator!.voltage_peak_V / expected - 1)).toBeLessThan(1e-3);
-    expect(sheet.actuator!.components.map((c) => c.frequency_Hz)).toEqual(TRIANGLE_HARMONICS.map((n) => n * 1e3));
+    expect(sheet.actuator!.components.map((c) => c.frequency_Hz)).toEqual(
+      TRIANGLE_HARMONICS.map((n) => n * 1e3),
+    );
     expect(sheet.peak_speed_m_s).toBeCloseTo(4e-3, 15);
   });
 
   it('triangle with a harmonic near resonance: that harmonic needs Q times less voltage, and a note says the motion is not a triangle', () => {
     // f = f0 / 3: harmonic 3 sits on the resonance, |H| = Q (Thomson ch. 3).
-    const sheet = actuatorSheet(scenario({ waveform: 'triangle', amplitude: 1e-6, frequency: 400e3 / 3 }, act));
+    const sheet = actuatorSheet(
+      scenario({ waveform: 'triangle', amplitude: 1e-6, frequency: 400e3 / 3 }, act),
+    );
     const h3 = sheet.actuator!.components.find((c) => c.label === 'harmonic 3')!;
     expect(h3.response_magnitude).toBeCloseTo(20, 9);
     expect(h3.voltage_V).toBeCloseTo((1e-6 * 8) / (Math.PI ** 2 * 9) / (10e-9 * 20), 9);

@@ -4,7 +4,12 @@ import { createRng } from '../src/numerics/rng';
 
 const bw = 10e3;
 
-function runSine(k: number, samplesPerWindow: number, windows: number, phase = 0.3): ReturnType<BoxcarFilter['result']> {
+function runSine(
+  k: number,
+  samplesPerWindow: number,
+  windows: number,
+  phase = 0.3,
+): ReturnType<BoxcarFilter['result']> {
   const dt = 1 / (bw * samplesPerWindow);
   const f = k * bw;
   const box = new BoxcarFilter({ dt_s: dt, bandwidth_Hz: bw });

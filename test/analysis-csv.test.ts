@@ -48,17 +48,31 @@ describe('CSV of traces and spectra', () => {
     expect(Number(rows[2][0])).toBe(1e-9);
     expect(Number(rows[2][1])).toBe(1 / 3);
     expect(rows[3][1]).toBe(''); // NaN is an empty cell
-    expect(traceSetToCsv(ts).split('\r\n')[0]).toBe('time (s),"gap power, mode sum (W)","laser ""output"" (W)"');
+    expect(traceSetToCsv(ts).split('\r\n')[0]).toBe(
+      'time (s),"gap power, mode sum (W)","laser ""output"" (W)"',
+    );
   });
 
   it('spectra: column pairs per spectrum, shorter columns padded with empty cells', () => {
     const ss: SpectraSet = {
-      rin: { f_Hz: [10, 20, 30], values: [-120, -125.5, -130], unit: 'dB/Hz', resolution_Hz: 10, segments: 8 },
+      rin: {
+        f_Hz: [10, 20, 30],
+        values: [-120, -125.5, -130],
+        unit: 'dB/Hz',
+        resolution_Hz: 10,
+        segments: 8,
+      },
       optical: [{ f_Hz: [-5, 0, 5, 10], values: [-40, 0, -20, -60], mode: 2, unit: 'dB' }],
       drive_harmonics_Hz: [140e3, 280e3],
     };
     const rows = parse(spectraSetToCsv(ss));
-    expect(rows[0]).toEqual(['RIN frequency (Hz)', 'RIN (dB/Hz)', 'mode 2 optical offset (Hz)', 'mode 2 optical (dB)', 'drive harmonic (Hz)']);
+    expect(rows[0]).toEqual([
+      'RIN frequency (Hz)',
+      'RIN (dB/Hz)',
+      'mode 2 optical offset (Hz)',
+      'mode 2 optical (dB)',
+      'drive harmonic (Hz)',
+    ]);
     expect(rows.length).toBe(5);
     expect(rows[4]).toEqual(['', '', '10', '-60', '']);
     expect(rows[2]).toEqual(['20', '-125.5', '0', '0', '280000']);

@@ -9,7 +9,8 @@ describe('MinMaxDecimator', () => {
   it('keeps an isolated one-sample spike and dip, in order of occurrence', () => {
     const n = 100000;
     const dec = new MinMaxDecimator({ channels: [ch('p')], totalSamples: n, buckets: 100, dt_s: 1e-9 });
-    for (let i = 0; i < n; i++) dec.pushScalar(i === 54321 ? 50 : i === 54400 ? -7 : 1 + 1e-3 * Math.sin(i * 1e-3));
+    for (let i = 0; i < n; i++)
+      dec.pushScalar(i === 54321 ? 50 : i === 54400 ? -7 : 1 + 1e-3 * Math.sin(i * 1e-3));
     const r = dec.result();
     expect(r.t_s.length).toBeLessThanOrEqual(200);
     const v = r.series[0].values;
@@ -25,7 +26,13 @@ describe('MinMaxDecimator', () => {
 
   it('gives each channel its own extremes on one time axis, and the raw envelope', () => {
     const n = 1003;
-    const dec = new MinMaxDecimator({ channels: [ch('a'), ch('b')], totalSamples: n, buckets: 10, dt_s: 1, t0_s: 5 });
+    const dec = new MinMaxDecimator({
+      channels: [ch('a'), ch('b')],
+      totalSamples: n,
+      buckets: 10,
+      dt_s: 1,
+      t0_s: 5,
+    });
     expect(dec.bucketSize).toBe(101);
     expect(dec.bucketCount).toBe(10);
     const a: number[] = [];

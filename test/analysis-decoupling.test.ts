@@ -123,7 +123,9 @@ describe('Landau-Zener estimate', () => {
     expect(vLZ / ((0.01 * 0.9 * p.wavelength_m) / (2 * p.laserRoundTrip_s))).toBeCloseTo(1, 13);
     expect(landauZenerDiabaticProbability(p, vLZ)).toBeCloseTo(Math.exp(-1), 13);
     // faster passage is more diabatic
-    expect(landauZenerDiabaticProbability(p, 10 * vLZ)).toBeGreaterThan(landauZenerDiabaticProbability(p, vLZ));
+    expect(landauZenerDiabaticProbability(p, 10 * vLZ)).toBeGreaterThan(
+      landauZenerDiabaticProbability(p, vLZ),
+    );
     expect(landauZenerDiabaticProbability(p, 0)).toBe(0);
   });
 });

@@ -13,7 +13,13 @@ describe('HopDetector', () => {
   it('counts a new mode only when it stays dominant for longer than the dwell', () => {
     const det = new HopDetector({ dt_s: dt, dwell_s: 10e-9, modeCount: 3, driveFrequency_Hz: null });
     // 10 samples = exactly the dwell: not longer, no hop; 11 samples: a hop dated at its first sample
-    feed(det, [[0, 100], [1, 10], [0, 100], [1, 11], [1, 50]]);
+    feed(det, [
+      [0, 100],
+      [1, 10],
+      [0, 100],
+      [1, 11],
+      [1, 50],
+    ]);
     const r = det.result();
     expect(r.hops).toBe(1);
     expect(r.hopTimes_s[0]).toBeCloseTo(210 * dt, 18);
@@ -29,7 +35,12 @@ describe('HopDetector', () => {
     feed(det, [[0, 50]]);
     for (let i = 0; i < 500; i++) det.push(i % 2); // 0/1 alternating each sample
     for (let i = 0; i < 300; i++) det.push(i % 6 < 3 ? 1 : 2); // 1 and 2 alternating in runs of 3
-    feed(det, [[0, 4], [0, 20], [2, 6], [2, 30]]);
+    feed(det, [
+      [0, 4],
+      [0, 20],
+      [2, 6],
+      [2, 30],
+    ]);
     const r = det.result();
     expect(r.hops).toBe(1);
     expect(r.hopFrom).toEqual([0]);
@@ -39,14 +50,24 @@ describe('HopDetector', () => {
 
   it('counts no hop for the first mode to settle, even after initial chatter', () => {
     const det = new HopDetector({ dt_s: dt, dwell_s: 5e-9, modeCount: 2, driveFrequency_Hz: null });
-    feed(det, [[1, 2], [0, 3], [1, 1], [0, 100]]);
+    feed(det, [
+      [1, 2],
+      [0, 3],
+      [1, 1],
+      [0, 100],
+    ]);
     expect(det.result().hops).toBe(0);
     expect(det.result().finalMode).toBe(0);
   });
 
   it('with zero dwell every change is a hop; occupation is the raw fraction', () => {
     const det = new HopDetector({ dt_s: dt, dwell_s: 0, modeCount: 3, driveFrequency_Hz: null });
-    feed(det, [[0, 5], [1, 1], [0, 2], [2, 2]]);
+    feed(det, [
+      [0, 5],
+      [1, 1],
+      [0, 2],
+      [2, 2],
+    ]);
     const r = det.result();
     expect(r.hops).toBe(3);
     expect(r.occupation[0]).toBeCloseTo(0.7, 15);
@@ -62,7 +83,14 @@ describe('HopDetector', () => {
     const f = 1e6;
     const dt2 = 1.1e-9;
     for (const phi0 of [0, Math.PI / 3]) {
-      const det = new HopDetector({ dt_s: dt2, dwell_s: 50e-9, modeCount: 2, driveFrequency_Hz: f, drivePhase_rad: phi0, phaseBins: 24 });
+      const det = new HopDetector({
+        dt_s: dt2,
+        dwell_s: 50e-9,
+        modeCount: 2,
+        driveFrequency_Hz: f,
+        drivePhase_rad: phi0,
+        phaseBins: 24,
+      });
       const n = Math.floor(20 / f / dt2);
       for (let i = 0; i < n; i++) {
         const v = Math.cos(2 * Math.PI * f * i * dt2 + phi0);
@@ -86,7 +114,13 @@ describe('HopDetector', () => {
   });
 
   it('keeps counting beyond the stored hop times and says so', () => {
-    const det = new HopDetector({ dt_s: dt, dwell_s: 0, modeCount: 2, driveFrequency_Hz: null, maxStoredHops: 3 });
+    const det = new HopDetector({
+      dt_s: dt,
+      dwell_s: 0,
+      modeCount: 2,
+      driveFrequency_Hz: null,
+      maxStoredHops: 3,
+    });
     for (let i = 0; i < 10; i++) det.push(i % 2);
     const r = det.result();
     expect(r.hops).toBe(9);

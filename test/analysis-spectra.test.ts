@@ -1,5 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { OpticalSpectrum, WelchPsd, chooseSegmentLength, driveHarmonics, nearestBins, overlapSegments } from '../src/analysis';
+import {
+  OpticalSpectrum,
+  WelchPsd,
+  chooseSegmentLength,
+  driveHarmonics,
+  nearestBins,
+  overlapSegments,
+} from '../src/analysis';
 import { createRng } from '../src/numerics/rng';
 
 const fs = 1e6;

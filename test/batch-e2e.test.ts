@@ -17,12 +17,17 @@ const FOLDER = join('test', 'fixtures', 'sweep', 'batch');
 let tmp = '';
 
 function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1', CI: '1' } });
+  const r = spawnSync(process.execPath, [BIN, ...args], {
+    cwd: ROOT,
+    encoding: 'utf8',
+    env: { ...process.env, NO_COLOR: '1', CI: '1' },
+  });
   return { code: r.status, out: r.stdout, err: r.stderr };
 }
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
+    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
   tmp = mkdtempSync(join(tmpdir(), 'dithercav-batch-'));
 });
 afterAll(() => {
@@ -44,16 +49,30 @@ describe('batch command end to end', () => {
       join(FOLDER, 'nested', 'b-sweep.yaml'),
     ]);
     const [run, broken, sweep] = index;
-    expect(run).toMatchObject({ name: 'tiny-run', kind: 'run', status: 'ok', folder: 'tiny-run', error: null });
+    expect(run).toMatchObject({
+      name: 'tiny-run',
+      kind: 'run',
+      status: 'ok',
+      folder: 'tiny-run',
+      error: null,
+    });
     expect(typeof run.class).toBe('string');
     expect(Number.isFinite(run.enhancement)).toBe(true);
     expect(broken.status).toBe('bad-input');
     expect(broken.folder).toBeNull();
     expect(broken.error).toMatch(/c-broken\.yaml.*laser\.gain\.pump_ratoi/);
-    expect(sweep).toMatchObject({ name: 'tiny-batch-sweep', kind: 'sweep', status: 'ok', folder: 'tiny-batch-sweep', error: null });
+    expect(sweep).toMatchObject({
+      name: 'tiny-batch-sweep',
+      kind: 'sweep',
+      status: 'ok',
+      folder: 'tiny-batch-sweep',
+      error: null,
+    });
     expect(sweep.points).toMatchObject({ finished: 2, failed: 0, total: 2 });
-    for (const f of ['summary.json', 'report.html']) expect(existsSync(join(out, 'tiny-run', f)), f).toBe(true);
-    for (const f of ['points.ndjson', 'map.json', 'sweep.json']) expect(existsSync(join(out, 'tiny-batch-sweep', f)), f).toBe(true);
+    for (const f of ['summary.json', 'report.html'])
+      expect(existsSync(join(out, 'tiny-run', f)), f).toBe(true);
+    for (const f of ['points.ndjson', 'map.json', 'sweep.json'])
+      expect(existsSync(join(out, 'tiny-batch-sweep', f)), f).toBe(true);
     expect(existsSync(join(out, 'index.html'))).toBe(true);
     // The run's folder holds the run of that very file: its hash is the one `check --json` gives for it.
     const summary = JSON.parse(readFileSync(join(out, 'tiny-run', 'summary.json'), 'utf8'));

@@ -68,9 +68,17 @@ describe.skipIf(!chromium)('reports in headless Chromium', () => {
     const dirs = writeAllFixtures(root);
     for (const d of Object.values(dirs)) rebuildReport(d);
     pages.run = { file: join(dirs.run, 'report.html'), heading: 'layout-fixture-run', withPlots: true };
-    pages['run-nulls'] = { file: join(dirs.runNulls, 'report.html'), heading: 'layout-fixture-nulls', withPlots: true };
+    pages['run-nulls'] = {
+      file: join(dirs.runNulls, 'report.html'),
+      heading: 'layout-fixture-nulls',
+      withPlots: true,
+    };
     pages.sweep = { file: join(dirs.sweep, 'report.html'), heading: 'layout-fixture-sweep', withPlots: true };
-    pages['sweep-1d'] = { file: join(dirs.sweep1d, 'report.html'), heading: 'layout-fixture-sweep-1d', withPlots: true };
+    pages['sweep-1d'] = {
+      file: join(dirs.sweep1d, 'report.html'),
+      heading: 'layout-fixture-sweep-1d',
+      withPlots: true,
+    };
     pages.batch = { file: join(dirs.batch, 'index.html'), heading: 'Batch overview', withPlots: false };
     pages.injection = { file: join(dirs.batch, 'odd name', 'report.html'), heading: INJECT, withPlots: true };
     mkdirSync(outputDir, { recursive: true });
@@ -99,7 +107,10 @@ describe.skipIf(!chromium)('reports in headless Chromium', () => {
     expect(events.logErrors, 'browser log errors (a refused fetch lands here)').toEqual([]);
     expect(events.dialogs, 'dialogs (alert) opened').toEqual([]);
     // data: and blob: URLs are in-page (plotly paints heatmaps through them), not network
-    expect(events.requests.filter((u) => u !== url && !u.startsWith('data:') && !u.startsWith('blob:')), 'network requests').toEqual([]);
+    expect(
+      events.requests.filter((u) => u !== url && !u.startsWith('data:') && !u.startsWith('blob:')),
+      'network requests',
+    ).toEqual([]);
     expect(probe.resources, 'resource timing entries').toEqual([]);
     expect(probe.h1).toBe(heading);
     // the JSON block, the bundle and the start-up script, and nothing injected
@@ -117,7 +128,10 @@ describe.skipIf(!chromium)('reports in headless Chromium', () => {
 
   it('the checks are not blind: a page that fetches, logs an error and alerts is caught', async () => {
     const bad = join(root, 'control.html');
-    writeFileSync(bad, '<!DOCTYPE html><html><body><h1>control</h1><img src="http://report-test.invalid/x.png"><script>console.error("control error"); alert("control");</script></body></html>');
+    writeFileSync(
+      bad,
+      '<!DOCTYPE html><html><body><h1>control</h1><img src="http://report-test.invalid/x.png"><script>console.error("control error"); alert("control");</script></body></html>',
+    );
     const { events } = await browser.open(pathToFileURL(bad).href);
     expect(events.requests.some((u) => u.startsWith('http://report-test.invalid/'))).toBe(true);
     expect(events.consoleErrors).toContain('control error');
@@ -156,12 +170,18 @@ describe.skipIf(!chromium)('reports in headless Chromium', () => {
     const scenario = join(__dirname, 'fixtures', 'report', 'tiny-run.yaml');
     const out = join(root, 'real-run');
     const r = existsSync(join(__dirname, '..', 'dist', 'cli', 'main.js'))
-      ? spawnSync(process.execPath, [bin, 'run', scenario, '--out', out], { encoding: 'utf8', timeout: 120_000 })
+      ? spawnSync(process.execPath, [bin, 'run', scenario, '--out', out], {
+          encoding: 'utf8',
+          timeout: 120_000,
+        })
       : null;
     if (!r || r.status !== 0 || !existsSync(join(out, 'report.html'))) {
       // under CI the engine must work: no silent skip there
-      if (process.env.CI === 'true') throw new Error(`dithercav run failed: ${r ? (r.stderr || r.stdout) : 'dist/ not built'}`);
-      console.warn(`*** browser-report: \`dithercav run\` did not produce a run folder, the real-run page is SKIPPED: ${r ? (r.stderr || r.stdout).trim().split('\n')[0] : 'dist/ not built'} ***`);
+      if (process.env.CI === 'true')
+        throw new Error(`dithercav run failed: ${r ? r.stderr || r.stdout : 'dist/ not built'}`);
+      console.warn(
+        `*** browser-report: \`dithercav run\` did not produce a run folder, the real-run page is SKIPPED: ${r ? (r.stderr || r.stdout).trim().split('\n')[0] : 'dist/ not built'} ***`,
+      );
       ctx.skip();
       return;
     }

@@ -13,7 +13,11 @@ const BIN = join(ROOT, 'bin', 'dithercav.js');
 let tmp = '';
 
 function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1' } });
+  const r = spawnSync(process.execPath, [BIN, ...args], {
+    cwd: ROOT,
+    encoding: 'utf8',
+    env: { ...process.env, NO_COLOR: '1' },
+  });
   return { code: r.status, out: r.stdout, err: r.stderr };
 }
 
@@ -21,7 +25,8 @@ function cli(...args: string[]) {
 const STACK_FRAME = /^\s+at .+[(:]/m;
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
+    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
   tmp = mkdtempSync(join(tmpdir(), 'dithercav-cli-'));
 });
 afterAll(() => {
@@ -86,11 +91,20 @@ describe('dithercav check', () => {
     const syntax = join(tmp, 'syntax.yaml');
     writeFileSync(syntax, 'name: x\nlaser: {wavelength: 1 um\n');
     const sweep = join(tmp, 'sweep.yaml');
-    writeFileSync(sweep, readFileSync(join(ROOT, 'scenarios', 'demo-sweep.yaml'), 'utf8').replace('key: drive.frequency', 'key: drive.frequncy'));
+    writeFileSync(
+      sweep,
+      readFileSync(join(ROOT, 'scenarios', 'demo-sweep.yaml'), 'utf8').replace(
+        'key: drive.frequency',
+        'key: drive.frequncy',
+      ),
+    );
     for (const [args, needle] of [
       [['check', syntax], 'YAML syntax'],
       [['check', join(tmp, 'absent.yaml')], 'no such file'],
-      [['check', sweep], "sweep.axes[1].key: expected a numeric key path of the scenario (did you mean 'drive.frequency'?)"],
+      [
+        ['check', sweep],
+        "sweep.axes[1].key: expected a numeric key path of the scenario (did you mean 'drive.frequency'?)",
+      ],
     ] as [string[], string][]) {
       const r = cli(...args);
       expect(r.code, args.join(' ')).toBe(2);

@@ -4,7 +4,13 @@ import { colourAllowed, formatNumber, formatQuantity, formatTable } from '../src
 
 describe('plain-text tables', () => {
   it('columns line up, right-aligned where asked, with no trailing spaces', () => {
-    const t = formatTable([['a', '1'], ['longer', '22.5']], { header: ['name', 'value'], align: ['left', 'right'] });
+    const t = formatTable(
+      [
+        ['a', '1'],
+        ['longer', '22.5'],
+      ],
+      { header: ['name', 'value'], align: ['left', 'right'] },
+    );
     expect(t.split('\n')).toEqual(['name    value', '------  -----', 'a           1', 'longer   22.5']);
   });
 

@@ -11,7 +11,12 @@ import { loadScenarioFile } from '../src/scenario/load';
 import { withOverrides } from '../src/scenario/validate';
 import { InputError } from '../src/scenario/errors';
 import type { Scenario } from '../src/scenario/schema';
-import { compareWaveforms, planComparison, type WaveformComparison, type ComparisonRow } from '../src/simulate/compare';
+import {
+  compareWaveforms,
+  planComparison,
+  type WaveformComparison,
+  type ComparisonRow,
+} from '../src/simulate/compare';
 import { runScenario } from '../src/simulate/run';
 import { actuatorSheet } from '../src/physics/actuator';
 import { buildRunReportHtml } from '../src/report';
@@ -46,7 +51,10 @@ function row(c: WaveformComparison, w: string): ComparisonRow {
 }
 
 function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [join(ROOT, 'bin', 'dithercav.js'), ...args], { encoding: 'utf8', cwd: ROOT });
+  const r = spawnSync(process.execPath, [join(ROOT, 'bin', 'dithercav.js'), ...args], {
+    encoding: 'utf8',
+    cwd: ROOT,
+  });
   return { code: r.status, out: r.stdout, err: r.stderr };
 }
 
@@ -59,7 +67,7 @@ describe('amplitudes at equal peak voltage', () => {
   // V = A / (k_v |H(f)|) for the scenario's sine (Thomson, Theory of Vibration, ch. 3)
   const V = base.drive.amplitude / (kv * magnification(f, f0, Q));
 
-  it('takes the voltage the scenario\'s sine needs', () => {
+  it("takes the voltage the scenario's sine needs", () => {
     expect(plan.basis).toBe('equal peak voltage');
     // closed form against the same closed form in other code: only rounding differs
     expect(Math.abs(plan.voltage_peak_V! / V - 1)).toBeLessThan(1e-12);
@@ -69,7 +77,9 @@ describe('amplitudes at equal peak voltage', () => {
     for (const w of plan.waveforms) {
       for (const c of w.components) {
         // each amplitude through the response at its own frequency (Thomson ch. 3); rounding only
-        expect(Math.abs(c.amplitude_m / (kv * magnification(c.frequency_Hz, f0, Q) * c.voltage_V!) - 1)).toBeLessThan(1e-12);
+        expect(
+          Math.abs(c.amplitude_m / (kv * magnification(c.frequency_Hz, f0, Q) * c.voltage_V!) - 1),
+        ).toBeLessThan(1e-12);
       }
     }
   });
@@ -79,14 +89,19 @@ describe('amplitudes at equal peak voltage', () => {
     expect(two.second_frequency_Hz).toBe(3 * f);
     expect(plan.second_frequency_source).toBe('3 x drive.frequency');
     // the peaks of V/2 + V/2 add to V when the tones line up
-    expect(two.components.map((c) => c.voltage_V! / V)).toEqual([expect.closeTo(0.5, 12), expect.closeTo(0.5, 12)]);
-    expect(two.amplitude_m / (kv * magnification(f, f0, Q) * V / 2)).toBeCloseTo(1, 12);
-    expect(two.second_amplitude_m! / (kv * magnification(3 * f, f0, Q) * V / 2)).toBeCloseTo(1, 12);
-    const given = planComparison(base, { secondFrequencyGiven: true }).waveforms.find((w) => w.waveform === 'two-tone')!;
+    expect(two.components.map((c) => c.voltage_V! / V)).toEqual([
+      expect.closeTo(0.5, 12),
+      expect.closeTo(0.5, 12),
+    ]);
+    expect(two.amplitude_m / ((kv * magnification(f, f0, Q) * V) / 2)).toBeCloseTo(1, 12);
+    expect(two.second_amplitude_m! / ((kv * magnification(3 * f, f0, Q) * V) / 2)).toBeCloseTo(1, 12);
+    const given = planComparison(base, { secondFrequencyGiven: true }).waveforms.find(
+      (w) => w.waveform === 'two-tone',
+    )!;
     expect(given.second_frequency_Hz).toBe(base.drive.second_frequency);
   });
 
-  it('matches the triangle\'s fundamental through H(f) and carries its odd harmonics', () => {
+  it("matches the triangle's fundamental through H(f) and carries its odd harmonics", () => {
     const tri = plan.waveforms.find((w) => w.waveform === 'triangle')!;
     // a triangle of peak V has harmonics (8/pi^2) V / n^2, n odd (Fourier series of the
     // triangle wave, e.g. Kreyszig, Advanced Engineering Mathematics, ch. 11); rounding only
@@ -162,7 +177,8 @@ describe('the comparison runs', () => {
       // and 4 crossings per period the count errs by at most 4e-5
       const n = 100_000;
       let below = 0;
-      for (let i = 0; i < n; i++) if (Math.abs(s.peak_speed_m_s * Math.cos((2 * Math.PI * (i + 0.5)) / n)) < vc) below++;
+      for (let i = 0; i < n; i++)
+        if (Math.abs(s.peak_speed_m_s * Math.cos((2 * Math.PI * (i + 0.5)) / n)) < vc) below++;
       expect(Math.abs(s.fraction_below_critical! - below / n)).toBeLessThan(5e-5);
     }
   });
@@ -188,7 +204,8 @@ describe('the comparison runs', () => {
     const w1 = 2 * Math.PI * base.drive.frequency;
     const w2 = 2 * Math.PI * t.second_frequency_Hz!;
     // v = A1 w1 cos(w1 t) + A2 w2 cos(w2 t) (phases 0 in the fixture), derivative of the two sines
-    const g = (x: number) => Math.abs(t.amplitude_m * w1 * Math.cos(w1 * x) + t.second_amplitude_m! * w2 * Math.cos(w2 * x)) - vc;
+    const g = (x: number) =>
+      Math.abs(t.amplitude_m * w1 * Math.cos(w1 * x) + t.second_amplitude_m! * w2 * Math.cos(w2 * x)) - vc;
     // second method: the crossings of |v| = v_c located by bisection, the time below summed
     // exactly between them (the code samples 2e5 midpoints instead)
     const T = 1 / base.drive.frequency;
@@ -208,7 +225,8 @@ describe('the comparison runs', () => {
     }
     cuts.push(T);
     let below = 0;
-    for (let k = 0; k + 1 < cuts.length; k++) if (g(0.5 * (cuts[k] + cuts[k + 1])) < 0) below += cuts[k + 1] - cuts[k];
+    for (let k = 0; k + 1 < cuts.length; k++)
+      if (g(0.5 * (cuts[k] + cuts[k + 1])) < 0) below += cuts[k + 1] - cuts[k];
     // the fixture's v_c lies inside the speed range, so there are crossings to find
     expect(cuts.length).toBeGreaterThan(2);
     // midpoint sampling at 2e5 points errs by at most (crossings) x T / 2e5 in time
@@ -228,7 +246,10 @@ describe('the comparison runs', () => {
   it('recommends the decoupled waveform with the highest gain over static', () => {
     for (const comp of [c, noAct]) {
       const dec = comp.rows.filter((r) => r.class === 'decoupled' && r.gain_over_static !== null);
-      const best = dec.length === 0 ? null : dec.reduce((a, b) => (b.gain_over_static! > a.gain_over_static! ? b : a)).waveform;
+      const best =
+        dec.length === 0
+          ? null
+          : dec.reduce((a, b) => (b.gain_over_static! > a.gain_over_static! ? b : a)).waveform;
       expect(comp.recommendation.waveform).toBe(best);
       expect(comp.recommendation.reason.length).toBeGreaterThan(20);
     }
@@ -238,7 +259,9 @@ describe('the comparison runs', () => {
 describe('the run summary carries the actuator sheet', () => {
   const a = runScenario(base);
   it('equals actuatorSheet of the scenario, and is null without an actuator section', () => {
-    expect(JSON.parse(JSON.stringify(a.summary.actuator))).toEqual(JSON.parse(JSON.stringify(actuatorSheet(base))));
+    expect(JSON.parse(JSON.stringify(a.summary.actuator))).toEqual(
+      JSON.parse(JSON.stringify(actuatorSheet(base))),
+    );
     expect(runScenario(noActuator).summary.actuator).toBeNull();
   });
 
@@ -246,11 +269,15 @@ describe('the run summary carries the actuator sheet', () => {
     const page = buildRunReportHtml(a);
     expect(page).toContain('What the actuator has to deliver');
     const v = a.summary.actuator!.actuator!.voltage_peak_V;
-    expect(page).toContain(`<tr class=""><th>peak voltage</th><td class="num">${fmtSI(v, 'V')}</td><td class="num">≤ 400 V</td><td>OK</td></tr>`);
+    expect(page).toContain(
+      `<tr class=""><th>peak voltage</th><td class="num">${fmtSI(v, 'V')}</td><td class="num">≤ 400 V</td><td>OK</td></tr>`,
+    );
     // the same run with a voltage limit below the need: flagged (the report only reads the summary)
     const tight = withOverrides(base, { 'actuator.max_voltage': '100 V' });
     const b = { ...a, summary: { ...a.summary, actuator: actuatorSheet(tight) } };
-    expect(buildRunReportHtml(b)).toContain(`<tr class="flag"><th>peak voltage</th><td class="num">${fmtSI(v, 'V')}</td><td class="num">≤ 100 V</td><td>EXCEEDED</td></tr>`);
+    expect(buildRunReportHtml(b)).toContain(
+      `<tr class="flag"><th>peak voltage</th><td class="num">${fmtSI(v, 'V')}</td><td class="num">≤ 100 V</td><td>EXCEEDED</td></tr>`,
+    );
     const none = { ...a, summary: { ...a.summary, actuator: null } };
     expect(buildRunReportHtml(none)).not.toContain('What the actuator has to deliver');
   });
@@ -261,7 +288,9 @@ describe('dithercav compare', () => {
     const out = join(tmp, 'cli');
     const r = cli('compare', FIXTURE, '--out', out, '--quiet');
     expect(r.code).toBe(0);
-    expect(r.out).toMatch(/^waveform\s+amplitude\(s\)\s+peak speed\s+time below v_c\s+gain over static\s+ripple in band\s+hops\/period\s+class$/m);
+    expect(r.out).toMatch(
+      /^waveform\s+amplitude\(s\)\s+peak speed\s+time below v_c\s+gain over static\s+ripple in band\s+hops\/period\s+class$/m,
+    );
     expect(r.out).toMatch(/at equal peak drive voltage/);
     expect(r.out).toMatch(/^(recommended|no recommendation): /m);
     const file = join(out, 'compare.json');

@@ -26,14 +26,21 @@ describe('decoupling rule against the simulated amplitude sweep', () => {
     const refs = computeReferences(base, { engine: 'exact' });
     const f = base.drive.frequency;
     const amplitudes = [150e-9, 300e-9, 600e-9, 1200e-9];
-    const runs = amplitudes.map((a) => runScenario(withOverrides(base, { 'drive.amplitude': a }), { references: refs, engine: 'exact' }).summary);
+    const runs = amplitudes.map(
+      (a) =>
+        runScenario(withOverrides(base, { 'drive.amplitude': a }), { references: refs, engine: 'exact' })
+          .summary,
+    );
     const classes = runs.map((r) => r.driven?.class);
     const firstDecoupled = classes.findIndex((c) => c === 'decoupled');
     expect(firstDecoupled, `classes ${classes.join(', ')}`).toBeGreaterThan(0);
     // the turn lies between the last non-decoupled and the first decoupled amplitude (geometric mean)
     const aTurn = Math.sqrt(amplitudes[firstDecoupled - 1] * amplitudes[firstDecoupled]);
     // v_c of the rule, from the returned-to-laser field ratio measured in the two runs that straddle the turn
-    const vc = Math.sqrt((runs[firstDecoupled - 1].drive.critical_speed_m_s as number) * (runs[firstDecoupled].drive.critical_speed_m_s as number));
+    const vc = Math.sqrt(
+      (runs[firstDecoupled - 1].drive.critical_speed_m_s as number) *
+        (runs[firstDecoupled].drive.critical_speed_m_s as number),
+    );
     const aRule = vc / (2 * Math.PI * f);
     const ratio = aRule / aTurn;
     expect(ratio).toBeGreaterThan(1 / 3);

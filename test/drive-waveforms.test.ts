@@ -15,11 +15,28 @@ const TWO_PI = 2 * Math.PI;
 
 /** A drive spec with the schema's defaults (src/scenario/schema.ts), overridden. */
 function driveDefaults(over: Partial<DriveSpec>): DriveSpec {
-  return { waveform: 'sine', amplitude: 0, frequency: 100e3, phase: 0, offset: 0, drift: 0, second_amplitude: 0, second_frequency: 1e3, second_phase: 0, ...over };
+  return {
+    waveform: 'sine',
+    amplitude: 0,
+    frequency: 100e3,
+    phase: 0,
+    offset: 0,
+    drift: 0,
+    second_amplitude: 0,
+    second_frequency: 1e3,
+    second_phase: 0,
+    ...over,
+  };
 }
 
 describe('sine drive', () => {
-  const spec = driveDefaults({ waveform: 'sine', amplitude: 250e-9, frequency: 200e3, phase: 0.3, offset: 40e-9 });
+  const spec = driveDefaults({
+    waveform: 'sine',
+    amplitude: 250e-9,
+    frequency: 200e3,
+    phase: 0.3,
+    offset: 40e-9,
+  });
   const d = createDrive(spec, 1);
   const T = 1 / spec.frequency;
 
@@ -92,7 +109,7 @@ describe('triangle drive', () => {
     }
   });
 
-  it('has the sine\'s peak-to-peak and turning points, and crosses x0 when the sine does', () => {
+  it("has the sine's peak-to-peak and turning points, and crosses x0 when the sine does", () => {
     // Phase alignment with the sine, as MODEL.md section 1 asks.
     expect(d.position(T / 4)).toBeCloseTo(1e-6, 18);
     expect(d.position((3 * T) / 4)).toBeCloseTo(-1e-6, 18);
@@ -109,10 +126,21 @@ describe('triangle drive', () => {
 
 describe('two-tone, off, drift and vibration', () => {
   it('two-tone position is the sum of the two sines; velocity agrees with differences', () => {
-    const spec = driveDefaults({ waveform: 'two-tone', amplitude: 100e-9, frequency: 50e3, phase: 0.1, second_amplitude: 2e-6, second_frequency: 300, second_phase: 1.2 });
+    const spec = driveDefaults({
+      waveform: 'two-tone',
+      amplitude: 100e-9,
+      frequency: 50e3,
+      phase: 0.1,
+      second_amplitude: 2e-6,
+      second_frequency: 300,
+      second_phase: 1.2,
+    });
     const d = createDrive(spec, 3);
     const t = 1.234e-4;
-    expect(d.position(t)).toBeCloseTo(100e-9 * Math.sin(TWO_PI * 50e3 * t + 0.1) + 2e-6 * Math.sin(TWO_PI * 300 * t + 1.2), 20);
+    expect(d.position(t)).toBeCloseTo(
+      100e-9 * Math.sin(TWO_PI * 50e3 * t + 0.1) + 2e-6 * Math.sin(TWO_PI * 300 * t + 1.2),
+      20,
+    );
     const h = 1e-9; // (w h)^2 / 6 ~ 1.6e-8 relative for the fast tone
     const fd = (d.position(t + h) - d.position(t - h)) / (2 * h);
     expect(Math.abs(fd - d.velocity(t))).toBeLessThan(1e-6 * peakSpeed(spec));
@@ -192,7 +220,14 @@ describe('fraction of time below a speed', () => {
     // two phases (Weyl), discrepancy ~ log N / N; 4e6 samples resolve crossings to 1e-6.
     // Tolerance 2e-3 covers the finite window.
     const golden = (1 + Math.sqrt(5)) / 2;
-    const spec = driveDefaults({ waveform: 'two-tone', amplitude: 1e-6 / TWO_PI, frequency: 1e3, second_amplitude: 0.7e-6 / (TWO_PI * golden), second_frequency: 1e3 * golden, second_phase: 0.4 });
+    const spec = driveDefaults({
+      waveform: 'two-tone',
+      amplitude: 1e-6 / TWO_PI,
+      frequency: 1e3,
+      second_amplitude: 0.7e-6 / (TWO_PI * golden),
+      second_frequency: 1e3 * golden,
+      second_phase: 0.4,
+    });
     // tone speeds 1e-3 and 0.7e-3 m/s
     for (const vc of [0.2e-3, 0.8e-3, 1.5e-3]) {
       const q = fractionBelowSpeed(spec, vc);

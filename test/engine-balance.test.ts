@@ -10,7 +10,12 @@ import type { RunSummary } from '../src/results/summary';
 import { engineFrom, freeOf, laserInput, paramsOf, scenario } from './fixtures/engine/build';
 
 // Gas-like laser, three modes under a Doppler-wide line so that the balance is summed over modes.
-const LASER = laserInput({ cavity_length: '30 cm', R1: 0.999, R2: 0.99, gain: { pump_ratio: 2, inversion_lifetime: '10 ns', linewidth: '1.5 GHz', max_modes: 3 } });
+const LASER = laserInput({
+  cavity_length: '30 cm',
+  R1: 0.999,
+  R2: 0.99,
+  gain: { pump_ratio: 2, inversion_lifetime: '10 ns', linewidth: '1.5 GHz', max_modes: 3 },
+});
 
 describe('power balance of the exact engine', () => {
   const cases = [
@@ -20,14 +25,22 @@ describe('power balance of the exact engine', () => {
   const drives = [
     { name: 'mirror still', drive: { waveform: 'off' as const } },
     // peak speed 0.94 m/s
-    { name: 'mirror driven', drive: { waveform: 'sine' as const, amplitude: '300 nm', frequency: '500 kHz' } },
+    {
+      name: 'mirror driven',
+      drive: { waveform: 'sine' as const, amplitude: '300 nm', frequency: '500 kHz' },
+    },
   ];
   for (const c of cases) {
     for (const d of drives) {
       it(`each subsystem closes to 1e-4, ${c.name}, ${d.name}`, () => {
         const s = scenario({
           laser: LASER,
-          external: { length: '10 cm', return_mirror: { reflectivity: c.R3 }, feedback_efficiency: c.eta, roundtrip_efficiency: 1 },
+          external: {
+            length: '10 cm',
+            return_mirror: { reflectivity: c.R3 },
+            feedback_efficiency: c.eta,
+            roundtrip_efficiency: 1,
+          },
           drive: d.drive,
         });
         const p = paramsOf(s);
@@ -61,8 +74,18 @@ describe('step convergence and reproducibility of a run', () => {
   /** A short driven run: 2 rest offsets, 4 drive periods at 1 MHz, 16 static positions, exact engine. */
   const mk = (substeps: number) =>
     scenario({
-      laser: laserInput({ cavity_length: '30 cm', R1: 0.999, R2: 0.99, gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 } }),
-      external: { length: '30 cm', return_mirror: { reflectivity: 0.99 }, feedback_efficiency: 0.8, roundtrip_efficiency: 1 },
+      laser: laserInput({
+        cavity_length: '30 cm',
+        R1: 0.999,
+        R2: 0.99,
+        gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
+      }),
+      external: {
+        length: '30 cm',
+        return_mirror: { reflectivity: 0.99 },
+        feedback_efficiency: 0.8,
+        roundtrip_efficiency: 1,
+      },
       drive: { waveform: 'sine', amplitude: '300 nm', frequency: '1 MHz' },
       simulation: { engine: 'exact', substeps, drive_offsets: 2, periods: 4, static_positions: 16, seed: 3 },
       // a wide detection band keeps the analysed window at 4 us

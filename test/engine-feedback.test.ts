@@ -31,14 +31,25 @@ function binPowers(re: Float64Array, im: Float64Array): number[] {
 const signedBin = (k: number, N: number) => (k > N / 2 ? k - N : k);
 
 describe('laser that ignores its feedback: the bare Airy response', () => {
-  it('external over intracavity power is eta_fb T2 / (1 + R2 R3\' + 2 r2 r3\' cos phi) at every static position, and its mean the phase average', () => {
+  it("external over intracavity power is eta_fb T2 / (1 + R2 R3' + 2 r2 r3' cos phi) at every static position, and its mean the phase average", () => {
     // Gas-like laser with a 10 % coupler and a modest-finesse gap (R3 0.99, r2 r3' = 0.944,
     // finesse 54): 128 evenly spaced phases then sample the Airy curve's mean to
     // 2 (r2 r3')^128 ~ 1e-3, so the discrete mean may be compared with the integral.
     const etaFb = 0.8;
     const s = scenario({
-      laser: laserInput({ cavity_length: '30 cm', R1: 0.999, R2: 0.9, gain: { pump_ratio: 2, inversion_lifetime: '1 ns' } }),
-      external: { length: '10 cm', return_mirror: { reflectivity: 0.99 }, feedback_efficiency: etaFb, roundtrip_efficiency: 1, return_to_laser: false },
+      laser: laserInput({
+        cavity_length: '30 cm',
+        R1: 0.999,
+        R2: 0.9,
+        gain: { pump_ratio: 2, inversion_lifetime: '1 ns' },
+      }),
+      external: {
+        length: '10 cm',
+        return_mirror: { reflectivity: 0.99 },
+        feedback_efficiency: etaFb,
+        roundtrip_efficiency: 1,
+        return_to_laser: false,
+      },
     });
     const p = paramsOf(s);
     const free = freeOf(p);
@@ -88,7 +99,12 @@ describe('laser that ignores its feedback: the bare Airy response', () => {
 describe('moving return mirror, laser ignoring its feedback', () => {
   // Gas-like laser; low-reflectivity return mirror so the second bounce (relative amplitude
   // r2 r3') is weak. The engine's time step is tau_E / 2 (simulation.substeps 2).
-  const laser = laserInput({ cavity_length: '30 cm', R1: 0.999, R2: 0.99, gain: { pump_ratio: 2, inversion_lifetime: '1 ns' } });
+  const laser = laserInput({
+    cavity_length: '30 cm',
+    R1: 0.999,
+    R2: 0.99,
+    gain: { pump_ratio: 2, inversion_lifetime: '1 ns' },
+  });
 
   it('constant speed: the returned field of the lasing mode is shifted by -2 v / lambda', () => {
     // Sign: b(t) = r3' a(t - tau) e^{-i omega tau(t)} with tau(t) = 2 (L2 + x(t)) / c and
@@ -101,7 +117,13 @@ describe('moving return mirror, laser ignoring its feedback', () => {
     const A = v / (4 * f);
     const s = scenario({
       laser,
-      external: { length: '10 cm', return_mirror: { reflectivity: 0.02 }, feedback_efficiency: 1, roundtrip_efficiency: 1, return_to_laser: false },
+      external: {
+        length: '10 cm',
+        return_mirror: { reflectivity: 0.02 },
+        feedback_efficiency: 1,
+        roundtrip_efficiency: 1,
+        return_to_laser: false,
+      },
       drive: { waveform: 'triangle', amplitude: A, frequency: f },
     });
     const p = paramsOf(s);
@@ -146,7 +168,13 @@ describe('moving return mirror, laser ignoring its feedback', () => {
   /** Spectrum of b for a sinusoidal mirror of modulation index beta = 4 pi A / lambda, lines on bins. */
   function sineSpectrum(beta: number): { P: number[]; K: number } {
     // R3 1e-6: r2 r3' = 1e-3, so the second bounce moves the line powers by < 1 %
-    const ext = { length: '30 cm', return_mirror: { reflectivity: 1e-6 }, feedback_efficiency: 1, roundtrip_efficiency: 1, return_to_laser: false };
+    const ext = {
+      length: '30 cm',
+      return_mirror: { reflectivity: 1e-6 },
+      feedback_efficiency: 1,
+      roundtrip_efficiency: 1,
+      return_to_laser: false,
+    };
     const p = paramsOf(scenario({ laser, external: ext }));
     const dt = p.roundTripExternal_s / 2;
     // drive period = 1024 steps exactly (f = 0.98 MHz), 2048 samples 16 steps apart = 32 periods,
@@ -221,8 +249,18 @@ describe('weak single-bounce feedback with alpha = 4: the Lang-Kobayashi phase c
     // Class A laser (the inversion follows the field, so the steady state is reached fast):
     // 1 cm, R2 0.5, photon lifetime 96 ps, tau_N 1 ps. R3 1e-6: r2 r3' = 7e-4, single bounce.
     // The gap (3.3 m, tau_E = 22 ns) makes C = 0.68.
-    const laser = laserInput({ cavity_length: '1 cm', R1: 0.999, R2: 0.5, gain: { pump_ratio: 2, inversion_lifetime: '1 ps', alpha } });
-    const external = { length: '3.3 m', return_mirror: { reflectivity: 1e-6 }, feedback_efficiency: 1, roundtrip_efficiency: 1 };
+    const laser = laserInput({
+      cavity_length: '1 cm',
+      R1: 0.999,
+      R2: 0.5,
+      gain: { pump_ratio: 2, inversion_lifetime: '1 ps', alpha },
+    });
+    const external = {
+      length: '3.3 m',
+      return_mirror: { reflectivity: 1e-6 },
+      feedback_efficiency: 1,
+      roundtrip_efficiency: 1,
+    };
     const p = paramsOf(scenario({ laser, external }));
     expect(p.classA).toBe(true);
     const tau = p.roundTripExternal_s;
@@ -246,7 +284,10 @@ describe('weak single-bounce feedback with alpha = 4: the Lang-Kobayashi phase c
       eng.advance(measure, (en) => {
         for (let l = 0; l < en.L; l++) {
           // arg(E_k conj E_{k-1}): the phase turned in one step (~0.1 rad, no wrapping)
-          acc[l] += Math.atan2(en.Ei[l] * prevR[l] - en.Er[l] * prevI[l], en.Er[l] * prevR[l] + en.Ei[l] * prevI[l]);
+          acc[l] += Math.atan2(
+            en.Ei[l] * prevR[l] - en.Er[l] * prevI[l],
+            en.Er[l] * prevR[l] + en.Ei[l] * prevI[l],
+          );
           prevR[l] = en.Er[l];
           prevI[l] = en.Ei[l];
         }

@@ -19,7 +19,17 @@ describe('threshold and homogeneous single-mode steady state', () => {
   for (const tauN of ['10 ns', '1 us']) {
     for (const pump of [1.5, 3]) {
       it(`|E|^2 = P_sat (p f - 1) at p = ${pump}, tau_N = ${tauN}`, () => {
-        const s = scenario({ laser: laserInput({ ...GAS, gain: { pump_ratio: pump, inversion_lifetime: tauN, saturation_power: '1 mW', spontaneous_power: 1e-15 } }) });
+        const s = scenario({
+          laser: laserInput({
+            ...GAS,
+            gain: {
+              pump_ratio: pump,
+              inversion_lifetime: tauN,
+              saturation_power: '1 mW',
+              spontaneous_power: 1e-15,
+            },
+          }),
+        });
         const p = paramsOf(s);
         expect(p.M).toBe(1);
         expect(p.classA).toBe(tauN === '10 ns');
@@ -38,7 +48,12 @@ describe('threshold and homogeneous single-mode steady state', () => {
 
   it('no lasing below threshold (p = 0.9): the power stays at the spontaneous level P_sp / (1 - p f)', () => {
     const Psp = 1e-15;
-    const s = scenario({ laser: laserInput({ ...GAS, gain: { pump_ratio: 0.9, inversion_lifetime: '10 ns', spontaneous_power: Psp } }) });
+    const s = scenario({
+      laser: laserInput({
+        ...GAS,
+        gain: { pump_ratio: 0.9, inversion_lifetime: '10 ns', spontaneous_power: Psp },
+      }),
+    });
     const p = paramsOf(s);
     // long settle: the average over the last fifth then spans ~80 field correlation times
     const free = freeOf(p, 3, 4000 / p.gammaC);
@@ -61,7 +76,19 @@ describe('class B relaxation oscillation', () => {
     // instead of 100 us keeps it well underdamped (omega_R / Gamma = 26) while the transient
     // dies ten times sooner, which keeps the test short.
     const pump = 1.5;
-    const s = scenario({ laser: laserInput({ cavity_length: '10 cm', R1: 0.999, R2: 0.95, gain: { pump_ratio: pump, inversion_lifetime: '10 us', saturation_power: '1 W', spontaneous_power: 1e-15 } }) });
+    const s = scenario({
+      laser: laserInput({
+        cavity_length: '10 cm',
+        R1: 0.999,
+        R2: 0.95,
+        gain: {
+          pump_ratio: pump,
+          inversion_lifetime: '10 us',
+          saturation_power: '1 W',
+          spontaneous_power: 1e-15,
+        },
+      }),
+    });
     const p = paramsOf(s);
     expect(p.classA).toBe(false);
     const pf = pump * p.gainRel[0];
@@ -85,7 +112,8 @@ describe('class B relaxation oscillation', () => {
     const samples = new Float64Array(Math.floor(total / every));
     let k = 0;
     e.advance(total, (en) => {
-      if (k % every === 0 && k / every < samples.length) samples[k / every] = en.Er[0] * en.Er[0] + en.Ei[0] * en.Ei[0] - Pss;
+      if (k % every === 0 && k / every < samples.length)
+        samples[k / every] = en.Er[0] * en.Er[0] + en.Ei[0] * en.Ei[0] - Pss;
       k++;
     });
     // Linear regime: after the first sample from which |P - P_ss| stays below 5 % of P_ss
@@ -115,10 +143,26 @@ describe('inhomogeneous gain: the Lamb dip', () => {
     // Doppler-broadened gas laser, one mode kept (max_modes 1); 10 cm so the one mode can be
     // tuned +-600 MHz (FSR 1.5 GHz) across the 1.5 GHz line; class A (tau_N 10 ns).
     const base = {
-      broadening: 'inhomogeneous' as const, shape: 'gaussian' as const, linewidth: '1.5 GHz', homogeneous_width: '100 MHz',
-      pump_ratio: 2, saturation_power: '1 mW', inversion_lifetime: '10 ns', spontaneous_power: 1e-15,
+      broadening: 'inhomogeneous' as const,
+      shape: 'gaussian' as const,
+      linewidth: '1.5 GHz',
+      homogeneous_width: '100 MHz',
+      pump_ratio: 2,
+      saturation_power: '1 mW',
+      inversion_lifetime: '10 ns',
+      spontaneous_power: 1e-15,
     };
-    const mk = (offset_Hz: number) => paramsOf(scenario({ laser: laserInput({ cavity_length: '10 cm', R1: 0.999, R2: 0.99, gain: { ...base, center_offset: offset_Hz } }) }));
+    const mk = (offset_Hz: number) =>
+      paramsOf(
+        scenario({
+          laser: laserInput({
+            cavity_length: '10 cm',
+            R1: 0.999,
+            R2: 0.99,
+            gain: { ...base, center_offset: offset_Hz },
+          }),
+        }),
+      );
     const d0 = mk(0).modes.detuning_Hz[0]; // mode minus c / lambda at zero offset
     const targets = [-450e6, -300e6, -150e6, -75e6, 0, 75e6, 150e6, 300e6, 450e6];
     const power: number[] = [];
@@ -134,7 +178,7 @@ describe('inhomogeneous gain: the Lamb dip', () => {
       // steady state is |E|^2 = P_sat (p f(d) - 1) / (1 + L(2 d)).
       const f = p.gainRel[0];
       const L2d = 1 / (1 + ((2 * d) / 100e6) ** 2);
-      const expected = 1e-3 * (2 * f - 1) / (1 + L2d);
+      const expected = (1e-3 * (2 * f - 1)) / (1 + L2d);
       // 1e-5: as for the homogeneous steady state (the same settle, class A)
       expect(Math.abs(P - expected) / expected).toBeLessThan(1e-5);
     }
@@ -147,7 +191,9 @@ describe('inhomogeneous gain: the Lamb dip', () => {
 describe('output coupler ratio', () => {
   it('with a 1 % output coupler the one-way intracavity power is about 100 times the output', () => {
     // common practice, no source: P_out = T2 P_intracavity for the one-way power at M2
-    const s = scenario({ laser: laserInput({ ...GAS, gain: { pump_ratio: 2, inversion_lifetime: '10 ns' } }) });
+    const s = scenario({
+      laser: laserInput({ ...GAS, gain: { pump_ratio: 2, inversion_lifetime: '10 ns' } }),
+    });
     const fr = runScenario(s).summary.free_running;
     expect(fr.intracavity_W).toBeGreaterThan(0);
     // 1e-9: a ratio of two numbers the run computes from the same field; 1 - R2 = 0.01 exactly

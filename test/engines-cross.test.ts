@@ -54,7 +54,11 @@ const CASES: Case[] = [
   {
     // the gap swept through two resonances per stroke, slowly (0.019 m/s peak)
     name: 'a slow drive, 10 kHz x 300 nm (own laser)',
-    s: () => ownCase({ drive: { waveform: 'sine', amplitude: '300 nm', frequency: '10 kHz' }, analysis: { detection_bandwidth: '100 kHz' } }),
+    s: () =>
+      ownCase({
+        drive: { waveform: 'sine', amplitude: '300 nm', frequency: '10 kHz' },
+        analysis: { detection_bandwidth: '100 kHz' },
+      }),
   },
   {
     name: 'a fast drive, 1 MHz x 5 nm (own laser)',
@@ -79,7 +83,11 @@ const CASES: Case[] = [
   },
   {
     name: 'a laser ignoring its feedback (return_to_laser false), 100 kHz x 30 nm',
-    s: () => ownCase({ returnToLaser: false, drive: { waveform: 'sine', amplitude: '30 nm', frequency: '100 kHz' } }),
+    s: () =>
+      ownCase({
+        returnToLaser: false,
+        drive: { waveform: 'sine', amplitude: '30 nm', frequency: '100 kHz' },
+      }),
   },
   {
     // tau_N 2 ns against a photon lifetime of 157 ns: class A (inversion adiabatic)
@@ -121,7 +129,11 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
     // round trip (tens of resonance widths). Measured: -1.5 % (plain mean field in the
     // driven run, static reference at the pulled frequency); at 300 nm (fraction 0.014,
     // outside the 0.01 limit) the plain mean field was 3-4 % low.
-    const s = demoWith({ amplitude: '200 nm', frequency: '10 kHz' }, { settle: '100 us', drive_offsets: 4, periods: 2 }, { detection_bandwidth: '100 kHz' });
+    const s = demoWith(
+      { amplitude: '200 nm', frequency: '10 kHz' },
+      { settle: '100 us', drive_offsets: 4, periods: 2 },
+      { detection_bandwidth: '100 kHz' },
+    );
     const plan = planOf(s);
     expect(phaseFraction(plan)).toBeLessThanOrEqual(FAST_VALID_FRACTION);
     const exact = runWith(s, 'exact');
@@ -133,7 +145,7 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
 });
 
 describe('static steady states of the strongly coupled demo', () => {
-  it('the mean field at the pulled lasing frequency settles to the delay line\'s state at every position', () => {
+  it("the mean field at the pulled lasing frequency settles to the delay line's state at every position", () => {
     // MODEL.md 3.4: the steady state of the mean field equals the exact model's for any
     // round-trip phase; with feedback the lasing frequency is pulled off the cold mode, and
     // the mean field's round-trip factor is taken at that frequency (fast.ts) so the
@@ -143,7 +155,16 @@ describe('static steady states of the strongly coupled demo', () => {
     const p = paramsOf(s);
     const free = freeRunning(p, createRng(1).fork(1));
     const run = (engine: 'exact' | 'fast', dt: number) =>
-      staticReference(p, { positions: 32, settle_s: 8e-6, dt, engine, halfWavelength_m: s.laser.wavelength / 2, rest_m: 0, initial: free, rng: createRng(1).fork(2) });
+      staticReference(p, {
+        positions: 32,
+        settle_s: 8e-6,
+        dt,
+        engine,
+        halfWavelength_m: s.laser.wavelength / 2,
+        rest_m: 0,
+        initial: free,
+        rng: createRng(1).fork(2),
+      });
     const ex = run('exact', p.roundTripExternal_s / 2);
     const fa = run('fast', fastLaserStep(p));
     let worst = 0;
@@ -201,7 +222,11 @@ describe('why the validity rule exists', () => {
     // 0.0138 -0.97 %: the error grows as the square of the phase fraction. Within one
     // resonance crossing the mean field needs many round trips (1 / fraction of them); at
     // 0.19 there are five, and the ringing of the exact delay line is lost.
-    const s = ownCase({ tauN: '2 ns', returnToLaser: false, drive: { waveform: 'sine', amplitude: '100 nm', frequency: '1 MHz' } });
+    const s = ownCase({
+      tauN: '2 ns',
+      returnToLaser: false,
+      drive: { waveform: 'sine', amplitude: '100 nm', frequency: '1 MHz' },
+    });
     const plan = planOf(s);
     expect(phaseFraction(plan)).toBeGreaterThan(5 * FAST_VALID_FRACTION);
     expect(plan.driven.kind).toBe('exact');

@@ -32,7 +32,15 @@ describe('Dormand-Prince 5(4) with adaptive steps', () => {
   it('Van der Pol (mu = 1) over t = 10 against a fine RK4 reference: error within 20x the tolerance', () => {
     // reference: RK4 with h = 1e-4; its own error is ~1e-13 (it changes by < 2e-13 when h is
     // halved), far below the smallest tolerance checked here
-    const ref = integrateFixed(createRk4(2), vanDerPol, 0, Float64Array.of(2, 0), 10, 100000, new Float64Array(2));
+    const ref = integrateFixed(
+      createRk4(2),
+      vanDerPol,
+      0,
+      Float64Array.of(2, 0),
+      10,
+      100000,
+      new Float64Array(2),
+    );
     const errs: number[] = [];
     for (const tol of TOLS) {
       const r = dopri5(vanDerPol, 0, Float64Array.of(2, 0), 10, { rtol: tol, atol: tol });
@@ -104,7 +112,7 @@ describe('Dormand-Prince 5(4) with adaptive steps', () => {
     expect(maxErr).toBeLessThan(1e-13);
   });
 
-  it('integrates backwards when t1 < t0: y\' = -y from y(1) = 1 gives y(0) = e', () => {
+  it("integrates backwards when t1 < t0: y' = -y from y(1) = 1 gives y(0) = e", () => {
     // closed form y(0) = y(1) e^{1}; tolerance 1e-8 relative with rtol 1e-10 (as above)
     const decay: OdeRhs = (_t, y, dy) => {
       dy[0] = -y[0];
@@ -132,7 +140,7 @@ describe('Dormand-Prince 5(4) with adaptive steps', () => {
     expect(r.message).toMatch(/20 attempted steps/);
   });
 
-  it('returns status step-too-small at a finite-time blow-up: y\' = y^2, y(0) = 1 explodes at t = 1', () => {
+  it("returns status step-too-small at a finite-time blow-up: y' = y^2, y(0) = 1 explodes at t = 1", () => {
     // closed form y = 1/(1 - t); the integrator must stop at the singularity. The computed
     // solution carries a relative error ~ rtol, which moves its own blow-up by about that
     // much, so t is checked to 1e-6 around 1
@@ -162,7 +170,9 @@ describe('Dormand-Prince 5(4) with adaptive steps', () => {
     expect(r.y).not.toBe(y0);
     expect(r.nFev).toBe(0);
     expect(() => dopri5(oscillator, 0, y0, 1, { rtol: 0, atol: 0 })).toThrow(RangeError);
-    expect(() => dopri5(oscillator, 0, y0, 1, { atol: Float64Array.of(1e-6) })).toThrow(/length 1, expected 2/);
+    expect(() => dopri5(oscillator, 0, y0, 1, { atol: Float64Array.of(1e-6) })).toThrow(
+      /length 1, expected 2/,
+    );
     expect(() => dopri5(oscillator, 0, y0, 1, { minFactor: 2 })).toThrow(RangeError);
   });
 });

@@ -10,10 +10,12 @@ function naiveDft(x: ArrayLike<number>): number[] {
   const n = x.length / 2;
   const out = new Array<number>(2 * n).fill(0);
   for (let k = 0; k < n; k++) {
-    let re = 0, im = 0;
+    let re = 0,
+      im = 0;
     for (let j = 0; j < n; j++) {
       const ang = (-2 * Math.PI * ((k * j) % n)) / n;
-      const c = Math.cos(ang), s = Math.sin(ang);
+      const c = Math.cos(ang),
+        s = Math.sin(ang);
       re += x[2 * j] * c - x[2 * j + 1] * s;
       im += x[2 * j] * s + x[2 * j + 1] * c;
     }
@@ -52,7 +54,8 @@ describe('FFT wrapper (fft.js)', () => {
     const n = 1024;
     const x = randomArray(n, 1);
     const X = fftReal(x);
-    let ex = 0, eX = 0;
+    let ex = 0,
+      eX = 0;
     for (let i = 0; i < n; i++) ex += x[i] * x[i];
     for (let k = 0; k < n; k++) eX += X[2 * k] ** 2 + X[2 * k + 1] ** 2;
     expect(Math.abs(eX / n / ex - 1)).toBeLessThan(1e-12);
@@ -61,10 +64,14 @@ describe('FFT wrapper (fft.js)', () => {
   it('a pure tone A cos(2 pi k0 n / N + phi) on a bin gives |X_k0| = A N / 2 with phase phi, nothing elsewhere', () => {
     // DFT of a sampled cosine with an integer number of periods: (A N / 2) e^{i phi} at k0 and
     // its conjugate at N - k0 (orthogonality of the DFT basis, Oppenheim & Schafer ch. 8)
-    const n = 256, k0 = 17, A = 0.8, phi = 0.6;
+    const n = 256,
+      k0 = 17,
+      A = 0.8,
+      phi = 0.6;
     const x = Array.from({ length: n }, (_, j) => A * Math.cos((2 * Math.PI * k0 * j) / n + phi));
     const X = fftReal(x);
-    let peak = 0, peakBin = -1;
+    let peak = 0,
+      peakBin = -1;
     for (let k = 0; k < n / 2; k++) {
       const mag = Math.hypot(X[2 * k], X[2 * k + 1]);
       if (mag > peak) {
@@ -128,7 +135,9 @@ describe('periodic Hann window', () => {
   it('a windowed on-bin tone has peak |X_k0| = A S1 / 2 (coherent gain); 50 %-overlapped copies sum to 1', () => {
     // amplitude normalisation of windowed DFTs (Heinzel et al. 2002, power spectrum scaling by
     // S1^2); 1e-12 relative: only rounding remains
-    const n = 512, k0 = 40, A = 1.3;
+    const n = 512,
+      k0 = 40,
+      A = 1.3;
     const win = hannPeriodic(n);
     const x = Array.from({ length: n }, (_, j) => win.w[j] * A * Math.sin((2 * Math.PI * k0 * j) / n));
     const X = fftReal(x);

@@ -28,11 +28,14 @@ describe('Lagrange and ring-buffer interpolation', () => {
     // the sine reaches it, so "< 1e-4" needs 25 samples/period (bound 9.3e-5) away from the ends
     for (const samplesPerPeriod of [20, 25]) {
       const dx = (2 * Math.PI) / samplesPerPeriod;
-      const central = ((9 / 16) * dx ** 4) / 24, shifted = dx ** 4 / 24;
-      const len = 64, newest = 10;
+      const central = ((9 / 16) * dx ** 4) / 24,
+        shifted = dx ** 4 / 24;
+      const len = 64,
+        newest = 10;
       const f = (t: number): number => Math.sin(t + 0.3);
       const buf = fillRing(len, newest, f, dx);
-      let worstCentral = 0, worstEnds = 0;
+      let worstCentral = 0,
+        worstEnds = 0;
       for (let back = 0; back <= len - 1; back += 0.01) {
         const e = Math.abs(ringCubic(buf, len, newest, back) - f(-back * dx));
         if (back >= 1 && back <= len - 2) worstCentral = Math.max(worstCentral, e);
@@ -47,7 +50,8 @@ describe('Lagrange and ring-buffer interpolation', () => {
   it('ringCubic converges with order 4 and ringLinear with order 2 when the spacing is halved', () => {
     // remainder terms O(dx^4) and O(dx^2) (Abramowitz & Stegun section 25.2); 0.2 tolerance on the order
     const errFor = (dx: number, cubic: boolean): number => {
-      const len = 400, newest = 123;
+      const len = 400,
+        newest = 123;
       const f = (t: number): number => Math.cos(3 * t) + 0.2 * t;
       const buf = fillRing(len, newest, f, dx);
       let worst = 0;
@@ -57,7 +61,10 @@ describe('Lagrange and ring-buffer interpolation', () => {
       }
       return worst;
     };
-    for (const [cubic, p] of [[true, 4], [false, 2]] as [boolean, number][]) {
+    for (const [cubic, p] of [
+      [true, 4],
+      [false, 2],
+    ] as [boolean, number][]) {
       for (const dx of [0.04, 0.02, 0.01]) {
         expect(Math.abs(Math.log2(errFor(dx, cubic) / errFor(dx / 2, cubic)) - p)).toBeLessThan(0.2);
       }
@@ -86,7 +93,8 @@ describe('Lagrange and ring-buffer interpolation', () => {
   });
 
   it('extrapolates up to one sample past the newest, and rejects reads outside [-1, len-1]', () => {
-    const len = 8, newest = 2;
+    const len = 8,
+      newest = 2;
     const buf = fillRing(len, newest, (t) => t * t * t - t, 0.5); // cubic: extrapolation exact (A&S 25.2)
     const f = (t: number): number => t * t * t - t;
     expect(ringCubic(buf, len, newest, -0.5)).toBeCloseTo(f(0.25), 12);
@@ -100,7 +108,9 @@ describe('ComplexRing (delay-line storage)', () => {
   it('after wrap-around, cubic and linear reads of e^{i w t} match the closed form within the remainder bounds', () => {
     // bounds as above with |f''''| = w^4 and |f''| = w^2 per component (A&S section 25.2):
     // cubic (9/16) (w dt)^4 / 24 inside, (w dt)^4 / 24 on the end intervals; linear (w dt)^2 / 8
-    const cap = 50, dt = 0.01, w = 20;
+    const cap = 50,
+      dt = 0.01,
+      w = 20;
     const ring = new ComplexRing(cap);
     const nPush = 137; // wraps the ring more than twice
     for (let k = 0; k < nPush; k++) ring.push(Math.cos(w * k * dt), Math.sin(w * k * dt));

@@ -1,5 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { createEuler, createHeun, createRk4, integrateFixed, type FixedStepper, type OdeRhs } from '../src/numerics';
+import {
+  createEuler,
+  createHeun,
+  createRk4,
+  integrateFixed,
+  type FixedStepper,
+  type OdeRhs,
+} from '../src/numerics';
 
 // y' = -y, y(0) = 1: y(t) = e^{-t}
 const decay: OdeRhs = (_t, y, dy) => {
@@ -32,12 +39,12 @@ function observedOrders(err: (n: number) => number, n0: number, levels: number):
 }
 
 describe('fixed-step Runge-Kutta steppers', () => {
-  it('RK4 on y\' = -y has the global error t e^{-t} h^4/120 predicted by its stability function', () => {
+  it("RK4 on y' = -y has the global error t e^{-t} h^4/120 predicted by its stability function", () => {
     // for y' = lambda y one RK4 step multiplies by R(z) = 1 + z + z^2/2 + z^3/6 + z^4/24,
     // z = lambda h, and e^z - R(z) = z^5/120 + O(z^6) (Hairer & Wanner, Solving ODEs II, section IV.2,
     // stability function of RK4); N = t/h steps give |y_N - y(t)| ~ t e^{-t} h^4/120.
     // h = 0.01, t = 1: 3.07e-11; 5 % allows the O(h^5) remainder
-    const predicted = Math.exp(-1) * 1e-8 / 120;
+    const predicted = (Math.exp(-1) * 1e-8) / 120;
     const e = errorDecay(createRk4(1), 100);
     expect(Math.abs(e / predicted - 1)).toBeLessThan(0.05);
   });
@@ -45,7 +52,7 @@ describe('fixed-step Runge-Kutta steppers', () => {
   it('RK4 on the harmonic oscillator tracks (cos t, -sin t) with the predicted phase error t h^4/120', () => {
     // same expansion with z = i h: |e^{ih} - R(ih)| = h^5/120 + O(h^7) per step, |y| = 1;
     // t = 2, h = 0.02: 2.67e-9, 5 % tolerance as above
-    const predicted = 2 * 0.02 ** 4 / 120;
+    const predicted = (2 * 0.02 ** 4) / 120;
     const e = errorOscillator(createRk4(2), 100);
     expect(Math.abs(e / predicted - 1)).toBeLessThan(0.05);
   });
@@ -59,8 +66,10 @@ describe('fixed-step Runge-Kutta steppers', () => {
       [createEuler(1), createEuler(2), 1],
     ];
     for (const [s1, s2, p] of cases) {
-      for (const q of observedOrders((n) => errorDecay(s1, n), 10, 4)) expect(Math.abs(q - p)).toBeLessThan(0.2);
-      for (const q of observedOrders((n) => errorOscillator(s2, n), 20, 4)) expect(Math.abs(q - p)).toBeLessThan(0.2);
+      for (const q of observedOrders((n) => errorDecay(s1, n), 10, 4))
+        expect(Math.abs(q - p)).toBeLessThan(0.2);
+      for (const q of observedOrders((n) => errorOscillator(s2, n), 20, 4))
+        expect(Math.abs(q - p)).toBeLessThan(0.2);
       expect(s1.order).toBe(p);
     }
   });
@@ -75,7 +84,7 @@ describe('fixed-step Runge-Kutta steppers', () => {
     expect(Array.from(y)).toEqual(Array.from(separate));
   });
 
-  it('time-dependent right-hand side: y\' = cos t integrates to sin t with RK4 (Simpson weights)', () => {
+  it("time-dependent right-hand side: y' = cos t integrates to sin t with RK4 (Simpson weights)", () => {
     // for y' = g(t) RK4 reduces to Simpson's rule, error h^4/2880 max|g''''| per unit time
     // (Abramowitz & Stegun 25.4.5); h = 0.1 over [0, 3] gives < 1e-7
     const f: OdeRhs = (t, _y, dy) => {
@@ -87,6 +96,8 @@ describe('fixed-step Runge-Kutta steppers', () => {
 
   it('rejects a non-positive dimension and a short array', () => {
     expect(() => createRk4(0)).toThrow(RangeError);
-    expect(() => createRk4(2).step(oscillator, 0, new Float64Array(1), 0.1, new Float64Array(2))).toThrow(/dimension 2/);
+    expect(() => createRk4(2).step(oscillator, 0, new Float64Array(1), 0.1, new Float64Array(2))).toThrow(
+      /dimension 2/,
+    );
   });
 });

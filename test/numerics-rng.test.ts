@@ -11,7 +11,8 @@ const N = 1_000_000;
  * words from two SplitMix64 outputs (Steele, Lea & Flood 2014) of the key, low word first.
  */
 function referenceXoshiro(key: bigint, count: number): number[] {
-  const M32 = 0xffffffffn, M64 = (1n << 64n) - 1n;
+  const M32 = 0xffffffffn,
+    M64 = (1n << 64n) - 1n;
   let x = key;
   const split = (): bigint => {
     x = (x + 0x9e3779b97f4a7c15n) & M64;
@@ -20,12 +21,13 @@ function referenceXoshiro(key: bigint, count: number): number[] {
     z = ((z ^ (z >> 27n)) * 0x94d049bb133111ebn) & M64;
     return z ^ (z >> 31n);
   };
-  const p = split(), q = split();
+  const p = split(),
+    q = split();
   const s = [p & M32, p >> 32n, q & M32, q >> 32n];
   const rotl = (v: bigint, k: bigint): bigint => ((v << k) | (v >> (32n - k))) & M32;
   const outs: number[] = [];
   for (let i = 0; i < count; i++) {
-    outs.push(Number(rotl((s[1] * 5n) & M32, 7n) * 9n & M32));
+    outs.push(Number((rotl((s[1] * 5n) & M32, 7n) * 9n) & M32));
     const t = (s[1] << 9n) & M32;
     s[2] ^= s[0];
     s[3] ^= s[1];
@@ -38,7 +40,9 @@ function referenceXoshiro(key: bigint, count: number): number[] {
 }
 
 function moments(draw: () => number, n: number): { mean: number; variance: number; m4: number } {
-  let s1 = 0, s2 = 0, s4 = 0;
+  let s1 = 0,
+    s2 = 0,
+    s4 = 0;
   for (let i = 0; i < n; i++) {
     const v = draw();
     s1 += v;
@@ -60,11 +64,14 @@ describe('seeded random numbers (xoshiro128**)', () => {
   });
 
   it('same seed gives the same sequence; different seeds and streams differ', () => {
-    const a = createRng(7), b = createRng(7), c = createRng(8);
+    const a = createRng(7),
+      b = createRng(7),
+      c = createRng(8);
     const sa = Array.from({ length: 100 }, () => a.uniform());
     expect(Array.from({ length: 100 }, () => b.uniform())).toEqual(sa);
     expect(Array.from({ length: 100 }, () => c.uniform())).not.toEqual(sa);
-    const f1 = createRng(7).fork(1), f2 = createRng(7).fork(2);
+    const f1 = createRng(7).fork(1),
+      f2 = createRng(7).fork(2);
     const s1 = Array.from({ length: 100 }, () => f1.nextUint32());
     const s2 = Array.from({ length: 100 }, () => f2.nextUint32());
     expect(s1).not.toEqual(s2);
@@ -77,7 +84,9 @@ describe('seeded random numbers (xoshiro128**)', () => {
     for (let i = 0; i < 1000; i++) used.normal();
     const late = used.fork(5);
     expect(late.keyHex).toBe(fresh.keyHex);
-    expect(Array.from({ length: 50 }, () => late.uniform())).toEqual(Array.from({ length: 50 }, () => fresh.uniform()));
+    expect(Array.from({ length: 50 }, () => late.uniform())).toEqual(
+      Array.from({ length: 50 }, () => fresh.uniform()),
+    );
   });
 
   it('forked streams are uncorrelated: |sample correlation| < 5/sqrt(N) over 1e5 pairs', () => {
@@ -86,8 +95,13 @@ describe('seeded random numbers (xoshiro128**)', () => {
     // Processes, ch. 7); 5 sigma makes a false failure ~6e-7 likely
     const n = 100_000;
     const root = createRng(3);
-    for (const [i, j] of [[0, 1], [1, 2], [10, 11]]) {
-      const a = root.fork(i), b = root.fork(j);
+    for (const [i, j] of [
+      [0, 1],
+      [1, 2],
+      [10, 11],
+    ]) {
+      const a = root.fork(i),
+        b = root.fork(j);
       let sab = 0;
       for (let k = 0; k < n; k++) sab += (a.uniform() - 0.5) * (b.uniform() - 0.5);
       const corr = sab / n / (1 / 12);
@@ -100,7 +114,8 @@ describe('seeded random numbers (xoshiro128**)', () => {
     // sqrt((mu4 - sigma^4)/N) = sqrt((1/80 - 1/144)/N) = sqrt(1/(180 N)) (Papoulis, ch. 7)
     for (const which of ['uniform', 'uniform32'] as const) {
       const rng = createRng(2024);
-      let lo = 1, hi = 0;
+      let lo = 1,
+        hi = 0;
       const m = moments(() => {
         const v = which === 'uniform' ? rng.uniform() : rng.uniform32();
         if (v < lo) lo = v;
@@ -143,7 +158,11 @@ describe('seeded random numbers (xoshiro128**)', () => {
     const rng = createRng(12);
     const v = 3.7e-3;
     const out = new Float64Array(2);
-    let s2 = 0, sr = 0, si = 0, qr = 0, qi = 0;
+    let s2 = 0,
+      sr = 0,
+      si = 0,
+      qr = 0,
+      qi = 0;
     for (let i = 0; i < N; i++) {
       rng.complexGaussian(v, out);
       s2 += out[0] * out[0] + out[1] * out[1];

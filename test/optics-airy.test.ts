@@ -70,7 +70,9 @@ describe('Airy response of the external cavity', () => {
     expect(circulatingPowerRatio(r2, t2, r3p, Math.PI)).toBeCloseTo(0.1 / (1 - rho) ** 2, 10);
     expect(circulatingPowerRatio(r2, t2, r3p, 0)).toBeCloseTo(0.1 / (1 + rho) ** 2, 12);
     // resonance is the maximum: neighbouring phases are lower
-    expect(circulatingPowerRatio(r2, t2, r3p, Math.PI + 1e-3)).toBeLessThan(circulatingPowerRatio(r2, t2, r3p, Math.PI));
+    expect(circulatingPowerRatio(r2, t2, r3p, Math.PI + 1e-3)).toBeLessThan(
+      circulatingPowerRatio(r2, t2, r3p, Math.PI),
+    );
     // |a|^2 from circulatingField agrees with circulatingPowerRatio (same quantity, two forms), to round-off
     const a = circulatingField(r2, t2, r3p, 1.234);
     expect(a.re * a.re + a.im * a.im).toBeCloseTo(circulatingPowerRatio(r2, t2, r3p, 1.234), 12);
@@ -87,7 +89,9 @@ describe('Airy response of the external cavity', () => {
       for (const delta of [0.01, 0.5, 2]) {
         const expected = peak / (1 + F * Math.sin(delta / 2) ** 2);
         // relative 1e-12: the two forms differ only by round-off
-        expect(Math.abs(circulatingPowerRatio(r2, t2, r3p, Math.PI + delta) / expected - 1)).toBeLessThan(1e-12);
+        expect(Math.abs(circulatingPowerRatio(r2, t2, r3p, Math.PI + delta) / expected - 1)).toBeLessThan(
+          1e-12,
+        );
       }
     }
   });
@@ -201,7 +205,10 @@ describe('Airy response of the external cavity', () => {
     expect(freeSpectralRange_Hz(0.3, 1.5)).toBeCloseTo(299792458 / 0.9, 3);
     expect(roundTripTime_s(0.3) * freeSpectralRange_Hz(0.3)).toBeCloseTo(1, 14);
     const r = Math.sqrt(0.99);
-    expect(linewidth_Hz(freeSpectralRange_Hz(0.3), finesse(r, r))).toBeCloseTo(freeSpectralRange_Hz(0.3) / finesse(r, r), 6);
+    expect(linewidth_Hz(freeSpectralRange_Hz(0.3), finesse(r, r))).toBeCloseTo(
+      freeSpectralRange_Hz(0.3) / finesse(r, r),
+      6,
+    );
   });
 
   it("effective back reflection r3' = r3 T_gap sqrt(eta_rt)", () => {

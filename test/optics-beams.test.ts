@@ -19,7 +19,13 @@ function scenario(over: { laser?: Record<string, unknown>; external?: Record<str
     },
     ...(over.external === null
       ? {}
-      : { external: { length: 0.3, return_mirror: { reflectivity: 0.99, radius: 1 }, ...(over.external ?? {}) } }),
+      : {
+          external: {
+            length: 0.3,
+            return_mirror: { reflectivity: 0.99, radius: 1 },
+            ...(over.external ?? {}),
+          },
+        }),
   } as ScenarioInput;
   return scenarioSchema.parse(input);
 }
@@ -47,7 +53,9 @@ describe('beams of the three-mirror system', () => {
     expect(res.roundtripSource).toBe('geometry');
     // beam sizes: waist on M2, w(L2) = w0 sqrt(1 + (L2/zR)^2) on M3 (Siegman ch. 17)
     expect(res.beams.radius_at_M2_m!).toBeCloseTo(w0, 12);
-    expect(Math.abs(res.beams.radius_at_M3_m! / (w0 * Math.sqrt(1 + (0.3 / zR) ** 2)) - 1)).toBeLessThan(1e-10);
+    expect(Math.abs(res.beams.radius_at_M3_m! / (w0 * Math.sqrt(1 + (0.3 / zR) ** 2)) - 1)).toBeLessThan(
+      1e-10,
+    );
     // gap waist on M2 itself, peak intensity 2/(pi w0^2) per watt (TEM00 peak, Siegman ch. 17)
     expect(res.beams.gap_waist_position_m).toBe(0);
     expect(Math.abs(res.beams.gap_waist_m! / w0 - 1)).toBeLessThan(1e-10);
@@ -59,7 +67,9 @@ describe('beams of the three-mirror system', () => {
   it('eta_fb < 1 for any other M3; with a flat M3 it is the overlap of the beam with itself after 2 L2', () => {
     // flat M3 returns the beam unchanged after 2 L2 of free space: Kogelnik (1965) formula with d = 2 L2
     const w0 = flatOcWaist(0.2, 1);
-    const flat = computeBeams(scenario({ external: { return_mirror: { reflectivity: 0.99, radius: 'flat' } } }));
+    const flat = computeBeams(
+      scenario({ external: { return_mirror: { reflectivity: 0.99, radius: 'flat' } } }),
+    );
     expect(Math.abs(flat.feedbackEfficiency - waistOverlap(w0, w0, 0.6, LAMBDA))).toBeLessThan(1e-12);
     expect(flat.feedbackEfficiency).toBeLessThan(1);
     // flat/flat external cavity: no eigenmode, eta_rt from one round trip, the same beam after 2 L2 here
@@ -103,7 +113,7 @@ describe('beams of the three-mirror system', () => {
     const probe = computeBeams(base);
     expect(probe.beams.laser_stable).toBe(true);
     // Kogelnik & Li symmetric resonator, g = 0.8: w at the mirrors^2 = (lambda L/pi)/sqrt(1 - g^2)
-    const wM = Math.sqrt(((LAMBDA * 0.2) / Math.PI) / Math.sqrt(1 - 0.64));
+    const wM = Math.sqrt((LAMBDA * 0.2) / Math.PI / Math.sqrt(1 - 0.64));
     expect(Math.abs(probe.beams.radius_at_M2_m! / wM - 1)).toBeLessThan(1e-10);
     // beam leaving the substrate: wavefront 1/R = 1/1 m + (n_sub - 1)/1 m = 1.5/m (R = R2/n_sub), w = wM;
     // free propagation to M3 by the waist formulas (Siegman ch. 17)
@@ -118,10 +128,12 @@ describe('beams of the three-mirror system', () => {
     expect(b).toBeLessThan(zR); // the diverging substrate lens shrinks the Rayleigh range
     const zAt3 = z + 0.3;
     const R3 = zAt3 * (1 + (b / zAt3) ** 2);
-    const res = computeBeams(scenario({
-      laser: { output_coupler: { reflectivity: 0.9, radius: 1 } },
-      external: { return_mirror: { reflectivity: 0.99, radius: R3 } },
-    }));
+    const res = computeBeams(
+      scenario({
+        laser: { output_coupler: { reflectivity: 0.9, radius: 1 } },
+        external: { return_mirror: { reflectivity: 0.99, radius: R3 } },
+      }),
+    );
     expect(Math.abs(res.feedbackEfficiency - 1)).toBeLessThan(1e-9);
     expect(res.beams.external_stable).toBe(true);
     // g2 for M2 seen from the gap: 1 - L2/(-R2/n_sub) = 1 + 1.5 * 0.3
@@ -157,7 +169,9 @@ describe('beams of the three-mirror system', () => {
 
   it('unstable laser (g1 g2 < 0): feedback 0 with a note', () => {
     // M1 concave 0.15 m, flat M2, L1 = 0.2 m: g1 = -1/3, g2 = 1, outside 0 < g1 g2 < 1 (Kogelnik & Li 1966)
-    const unstable = computeBeams(scenario({ laser: { rear_mirror: { reflectivity: 0.999, radius: 0.15 } } }));
+    const unstable = computeBeams(
+      scenario({ laser: { rear_mirror: { reflectivity: 0.999, radius: 0.15 } } }),
+    );
     expect(unstable.beams.laser_stable).toBe(false);
     expect(unstable.feedbackEfficiency).toBe(0);
     expect(unstable.beams.notes.join(' ')).toMatch(/unstable/);
@@ -178,7 +192,9 @@ describe('beams of the three-mirror system', () => {
 
   it('scenario numbers replace the computed efficiencies (source scenario)', () => {
     // MODEL.md section 2 / schema: external.feedback_efficiency and roundtrip_efficiency override 'auto'
-    const res = computeBeams(scenario({ external: { feedback_efficiency: 0.42, roundtrip_efficiency: 0.9 } }));
+    const res = computeBeams(
+      scenario({ external: { feedback_efficiency: 0.42, roundtrip_efficiency: 0.9 } }),
+    );
     expect(res.feedbackEfficiency).toBe(0.42);
     expect(res.roundtripEfficiency).toBe(0.9);
     expect(res.feedbackSource).toBe('scenario');

@@ -79,7 +79,11 @@ describe('Gaussian beam propagation (ABCD law)', () => {
     // (Siegman, Lasers, ch. 15, refraction at a flat interface scales slopes by n1/n2)
     const R = 0.75;
     const n = 1.5;
-    const explicit = cascade({ A: 1, B: 0, C: 0, D: 1 / n }, { A: 1, B: 0, C: 2 / R, D: 1 }, { A: 1, B: 0, C: 0, D: n });
+    const explicit = cascade(
+      { A: 1, B: 0, C: 0, D: 1 / n },
+      { A: 1, B: 0, C: 2 / R, D: 1 },
+      { A: 1, B: 0, C: 0, D: n },
+    );
     expect(curvedMirror(backsideMirrorRadius_m(R, n)).C).toBeCloseTo(explicit.C, 12);
     // transmission: the coated face refracts with power (n - 1)/(-R) (Hecht, Optics, sec. 5.2), flat exit face none
     expect(substrateFocalLength_m(R, n)).toBeCloseTo(-R / (n - 1), 12);

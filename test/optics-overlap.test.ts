@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { beamRadius_m, gaussianOverlap, qFromWaist, waistOverlap, wavefrontRadius_m } from '../src/physics/optics';
+import {
+  beamRadius_m,
+  gaussianOverlap,
+  qFromWaist,
+  waistOverlap,
+  wavefrontRadius_m,
+} from '../src/physics/optics';
 import type { Complex } from '../src/physics/optics';
 
 const LAMBDA = 780e-9;

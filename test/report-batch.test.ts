@@ -29,9 +29,14 @@ describe('batch index page', () => {
   });
 
   it('shows class and key figures, and a dash for a figure not computed', () => {
-    const alpha = page.slice(page.indexOf('alpha/report.html'), page.indexOf('</tr>', page.indexOf('alpha/report.html')));
+    const alpha = page.slice(
+      page.indexOf('alpha/report.html'),
+      page.indexOf('</tr>', page.indexOf('alpha/report.html')),
+    );
     expect(alpha).toContain('>decoupled</span>');
-    expect(alpha).toContain('<td class="num">2.3x</td><td class="num">3.1x</td><td class="num">4 %</td><td class="num">0</td>');
+    expect(alpha).toContain(
+      '<td class="num">2.3x</td><td class="num">3.1x</td><td class="num">4 %</td><td class="num">0</td>',
+    );
     const odd = page.slice(page.indexOf('odd%20name'), page.indexOf('</tr>', page.indexOf('odd%20name')));
     expect(odd).toContain('<td class="num nc">—</td>'); // gain_over_static: null
   });

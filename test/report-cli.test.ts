@@ -7,7 +7,13 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { registerReport } from '../src/cli/commands/report';
 import { detectResultFolder, rebuildReport } from '../src/report';
 import { InputError } from '../src/scenario/errors';
-import { makeRunArtifacts, makeSweepMap, writeBatchFolder, writeRunFolder, writeSweepFolder } from './fixtures/report/make-fixtures';
+import {
+  makeRunArtifacts,
+  makeSweepMap,
+  writeBatchFolder,
+  writeRunFolder,
+  writeSweepFolder,
+} from './fixtures/report/make-fixtures';
 
 const root = mkdtempSync(join(tmpdir(), 'dithercav-report-cli-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -32,21 +38,36 @@ describe('report folder detection and rebuild', () => {
   it('rebuilds a batch: index.html and the report of every finished member folder', () => {
     const r = rebuildReport(batchDir);
     expect(r.kind).toBe('batch');
-    expect(r.written).toEqual([join(batchDir, 'index.html'), join(batchDir, 'alpha', 'report.html'), join(batchDir, 'odd name', 'report.html'), join(batchDir, 'map-beta', 'report.html')]);
+    expect(r.written).toEqual([
+      join(batchDir, 'index.html'),
+      join(batchDir, 'alpha', 'report.html'),
+      join(batchDir, 'odd name', 'report.html'),
+      join(batchDir, 'map-beta', 'report.html'),
+    ]);
     for (const f of r.written) expect(statSync(f).size).toBeGreaterThan(1000);
   });
 
   it('a folder with none of the result files is bad input naming the folder and what was expected', () => {
     expect(() => rebuildReport(emptyDir)).toThrow(InputError);
-    expect(() => rebuildReport(emptyDir)).toThrow(`${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json), found none of these files`);
-    expect(() => rebuildReport(join(root, 'missing'))).toThrow(/missing: expected a result folder .*found no such folder/);
+    expect(() => rebuildReport(emptyDir)).toThrow(
+      `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json), found none of these files`,
+    );
+    expect(() => rebuildReport(join(root, 'missing'))).toThrow(
+      /missing: expected a result folder .*found no such folder/,
+    );
   });
 
   it('the report command registers on a program and rebuilds a run folder', async () => {
     let code = -1;
     const program = new Command().exitOverride();
-    registerReport(program, { setExit: (c) => { code = c; } });
-    const before = existsSync(join(runDir, 'report.html')) ? statSync(join(runDir, 'report.html')).mtimeMs : 0;
+    registerReport(program, {
+      setExit: (c) => {
+        code = c;
+      },
+    });
+    const before = existsSync(join(runDir, 'report.html'))
+      ? statSync(join(runDir, 'report.html')).mtimeMs
+      : 0;
     await program.parseAsync(['node', 'dithercav', 'report', runDir]);
     expect(code).toBe(0);
     expect(statSync(join(runDir, 'report.html')).mtimeMs).toBeGreaterThanOrEqual(before);
@@ -57,10 +78,12 @@ describe('report folder detection and rebuild', () => {
 // The real binary, as users run it (needs the compiled dist/, which `npm test` builds first).
 const bin = join(__dirname, '..', 'bin', 'dithercav.js');
 const built = existsSync(join(__dirname, '..', 'dist', 'cli', 'main.js'));
-if (!built) console.warn('report-cli: dist/ is not built, the binary tests are skipped (run `npm run build`)');
+if (!built)
+  console.warn('report-cli: dist/ is not built, the binary tests are skipped (run `npm run build`)');
 
 describe.skipIf(!built && process.env.CI !== 'true')('dithercav report (binary)', () => {
-  const run = (dir: string) => spawnSync(process.execPath, [bin, 'report', dir], { encoding: 'utf8', timeout: 60_000 });
+  const run = (dir: string) =>
+    spawnSync(process.execPath, [bin, 'report', dir], { encoding: 'utf8', timeout: 60_000 });
 
   it('rebuilds a sweep report without simulating, exit 0', () => {
     rmSync(join(sweepDir, 'report.html'), { force: true });
@@ -74,7 +97,9 @@ describe.skipIf(!built && process.env.CI !== 'true')('dithercav report (binary)'
   it('exits 2 with a message naming the folder for a folder that holds no results', () => {
     const r = run(emptyDir);
     expect(r.status).toBe(2);
-    expect(r.stderr).toContain(`${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json)`);
+    expect(r.stderr).toContain(
+      `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json)`,
+    );
     expect(r.stderr).not.toMatch(/\n\s+at /); // no stack trace
   });
 });

@@ -1,5 +1,13 @@
 import { describe, expect, it } from 'vitest';
-import { escapeHtml, html, jsonForScript, plotlyBundle, renderPage, cautionBox, rawHtml } from '../src/report';
+import {
+  escapeHtml,
+  html,
+  jsonForScript,
+  plotlyBundle,
+  renderPage,
+  cautionBox,
+  rawHtml,
+} from '../src/report';
 
 const INJECT = '<script>alert(1)</script>';
 
@@ -16,7 +24,9 @@ describe('escaping of strings from scenarios and results', () => {
 
   it('nested html`` fragments are inserted once, not escaped twice; arrays are joined', () => {
     const inner = html`<b>${'a<b'}</b>`;
-    expect(html`<i>${[inner, 'c>d', null, undefined, false, 3]}</i>`.text).toBe('<i><b>a&lt;b</b>c&gt;d3</i>');
+    expect(html`<i>${[inner, 'c>d', null, undefined, false, 3]}</i>`.text).toBe(
+      '<i><b>a&lt;b</b>c&gt;d3</i>',
+    );
   });
 
   it('escapeHtml leaves text without special characters alone', () => {
@@ -24,7 +34,12 @@ describe('escaping of strings from scenarios and results', () => {
   });
 
   it('jsonForScript writes no "<" (so no value can close the script block) and parses back to the same value', () => {
-    const value = { name: `${INJECT}</script><!--`, sep: 'a\u2028b\u2029c', amp: 'x & y > z', n: [1.5e-9, null, -3] };
+    const value = {
+      name: `${INJECT}</script><!--`,
+      sep: 'a\u2028b\u2029c',
+      amp: 'x & y > z',
+      n: [1.5e-9, null, -3],
+    };
     const text = jsonForScript(value);
     expect(text).not.toMatch(/[<>&\u2028\u2029]/);
     // independent expectation: the browser's JSON.parse of the block text must give the value back
@@ -71,7 +86,15 @@ describe('page skeleton', () => {
   });
 
   it('a page without plots carries no script at all', () => {
-    const p = renderPage({ kind: 'batch', title: 't', heading: 'h', subheading: 's', body: rawHtml(''), plots: [], footer: '' });
+    const p = renderPage({
+      kind: 'batch',
+      title: 't',
+      heading: 'h',
+      subheading: 's',
+      body: rawHtml(''),
+      plots: [],
+      footer: '',
+    });
     expect(p).not.toMatch(/<script/i);
   });
 });
@@ -79,14 +102,30 @@ describe('page skeleton', () => {
 describe('laser-safety caution (MODEL.md section 6)', () => {
   it('names watts in the gap against a milliwatt output, the labelled class, IEC 60825, the laser safety officer and high voltage', () => {
     const t = cautionBox().text;
-    for (const phrase of ['reach watts', 'milliwatts', 'labelled hazard class', 'IEC 60825', 'laser safety officer', 'high voltage', 'does not replace local codes']) {
+    for (const phrase of [
+      'reach watts',
+      'milliwatts',
+      'labelled hazard class',
+      'IEC 60825',
+      'laser safety officer',
+      'high voltage',
+      'does not replace local codes',
+    ]) {
       expect(t).toContain(phrase);
     }
   });
 
   it('is on every kind of page', () => {
     for (const kind of ['run', 'sweep', 'batch'] as const) {
-      const p = renderPage({ kind, title: 't', heading: 'h', subheading: 's', body: rawHtml(''), plots: [], footer: '' });
+      const p = renderPage({
+        kind,
+        title: 't',
+        heading: 'h',
+        subheading: 's',
+        body: rawHtml(''),
+        plots: [],
+        footer: '',
+      });
       expect(p).toContain('class="caution"');
     }
   });

@@ -2,7 +2,14 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync, mkdirSync } from 'nod
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { buildRunReportHtml, groupSeries, plotlyBundle, scenarioRows, writeRunReport, INTERFACE_MISMATCH_LIMIT } from '../src/report';
+import {
+  buildRunReportHtml,
+  groupSeries,
+  plotlyBundle,
+  scenarioRows,
+  writeRunReport,
+  INTERFACE_MISMATCH_LIMIT,
+} from '../src/report';
 import { InputError } from '../src/scenario/errors';
 import { formatSI } from '../src/scenario/units';
 import { makeRunArtifacts, writeRunFolder } from './fixtures/report/make-fixtures';
@@ -101,18 +108,26 @@ describe('run report', () => {
 
   it('draws one optical spectrum per saved mode, the mode occupation and the hop phase histogram', () => {
     expect(plots.find((x) => x.id === 'plot-optical')!.data).toHaveLength(a.spectra!.optical.length);
-    expect(plots.find((x) => x.id === 'plot-occupation')!.data[0].y).toEqual(a.summary.driven!.mode_occupation.map((m) => m.fraction));
-    expect(plots.find((x) => x.id === 'plot-hop-phase')!.data[0].y).toEqual(a.summary.driven!.hop_phase_histogram);
+    expect(plots.find((x) => x.id === 'plot-occupation')!.data[0].y).toEqual(
+      a.summary.driven!.mode_occupation.map((m) => m.fraction),
+    );
+    expect(plots.find((x) => x.id === 'plot-hop-phase')!.data[0].y).toEqual(
+      a.summary.driven!.hop_phase_histogram,
+    );
   });
 
   it(`highlights an interface mismatch above ${INTERFACE_MISMATCH_LIMIT * 100} % and lists the warnings`, () => {
-    expect(text).toMatch(/<tr class="flag"><th>mismatch at the output coupler[^<]*<\/th><td class="num">8 %<\/td>/);
+    expect(text).toMatch(
+      /<tr class="flag"><th>mismatch at the output coupler[^<]*<\/th><td class="num">8 %<\/td>/,
+    );
     expect(text).toContain('<code>layout-fixture</code>');
   });
 
   it('renders the actuator table generically, with a limit exceeded flagged', () => {
     expect(text).toContain('What the actuator has to deliver');
-    expect(text).toMatch(/<tr class="flag"><th>reactive current<\/th><td class="num">700 mA<\/td><td class="num">500 mA<\/td><td>NO<\/td>/);
+    expect(text).toMatch(
+      /<tr class="flag"><th>reactive current<\/th><td class="num">700 mA<\/td><td class="num">500 mA<\/td><td>NO<\/td>/,
+    );
   });
 });
 
@@ -161,13 +176,17 @@ describe('run report from hostile or broken files', () => {
     const d = join(root, 'empty');
     mkdirSync(d, { recursive: true });
     expect(() => writeRunReport(d)).toThrow(InputError);
-    expect(() => writeRunReport(d)).toThrow(/summary\.json: expected the summary of a run, found no such file/);
+    expect(() => writeRunReport(d)).toThrow(
+      /summary\.json: expected the summary of a run, found no such file/,
+    );
   });
 
   it('a summary that is not JSON is bad input naming the file', () => {
     const d = join(root, 'broken');
     mkdirSync(d, { recursive: true });
     writeFileSync(join(d, 'summary.json'), '{"version": 1,');
-    expect(() => writeRunReport(d)).toThrow(/broken[\\/]summary\.json: expected the summary of a run as JSON/);
+    expect(() => writeRunReport(d)).toThrow(
+      /broken[\\/]summary\.json: expected the summary of a run as JSON/,
+    );
   });
 });

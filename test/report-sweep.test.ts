@@ -2,10 +2,23 @@ import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'nod
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { bestPoints, buildSweepReportHtml, grid, mapAxes, plotlyBundle, writeSweepReport } from '../src/report';
+import {
+  bestPoints,
+  buildSweepReportHtml,
+  grid,
+  mapAxes,
+  plotlyBundle,
+  writeSweepReport,
+} from '../src/report';
 import { RUN_CLASSES } from '../src/results/summary';
 import { InputError } from '../src/scenario/errors';
-import { layoutClass, layoutMetric, makeSweepMap, METRICS, writeSweepFolder } from './fixtures/report/make-fixtures';
+import {
+  layoutClass,
+  layoutMetric,
+  makeSweepMap,
+  METRICS,
+  writeSweepFolder,
+} from './fixtures/report/make-fixtures';
 
 // Layout fixtures: the map's values come from closed-form formulas in the generator, so
 // each heatmap cell can be checked against the formula at the cell's own axis values.
@@ -33,17 +46,27 @@ describe('sweep report, amplitude x frequency', () => {
         // log axes: cell edges at the geometric means of neighbouring values, one more edge than values
         expect(hm.x).toHaveLength(freqs.length + 1);
         expect(hm.y).toHaveLength(amps.length + 1);
-        for (let i = 0; i + 1 < freqs.length; i++) expect(hm.x[i + 1]).toBeCloseTo(Math.sqrt(freqs[i] * freqs[i + 1]), 6);
-        for (let i = 0; i + 1 < amps.length; i++) expect(hm.y[i + 1] / Math.sqrt(amps[i] * amps[i + 1])).toBeCloseTo(1, 12);
+        for (let i = 0; i + 1 < freqs.length; i++)
+          expect(hm.x[i + 1]).toBeCloseTo(Math.sqrt(freqs[i] * freqs[i + 1]), 6);
+        for (let i = 0; i + 1 < amps.length; i++)
+          expect(hm.y[i + 1] / Math.sqrt(amps[i] * amps[i + 1])).toBeCloseTo(1, 12);
         // which metric is it? match it against the formula at one cell, then check every cell
-        const metric = METRICS.find((name) => Math.abs(layoutMetric(name, amps[1], freqs[2]) - hm.z[1][2]) < 1e-12 && Math.abs(layoutMetric(name, amps[5], freqs[0]) - hm.z[5][0]) < 1e-12)!;
+        const metric = METRICS.find(
+          (name) =>
+            Math.abs(layoutMetric(name, amps[1], freqs[2]) - hm.z[1][2]) < 1e-12 &&
+            Math.abs(layoutMetric(name, amps[5], freqs[0]) - hm.z[5][0]) < 1e-12,
+        )!;
         expect(metric).toBeDefined();
-        for (let iy = 0; iy < amps.length; iy++) for (let ix = 0; ix < freqs.length; ix++) expect(hm.z[iy][ix]).toBeCloseTo(layoutMetric(metric, amps[iy], freqs[ix]), 12);
+        for (let iy = 0; iy < amps.length; iy++)
+          for (let ix = 0; ix < freqs.length; ix++)
+            expect(hm.z[iy][ix]).toBeCloseTo(layoutMetric(metric, amps[iy], freqs[ix]), 12);
       }
       const cls = plots.find((p) => p.id === 'map-class')!.data[0];
       const amps = m.axes.find((a) => a.key === 'drive.amplitude')!.values;
       const freqs = m.axes.find((a) => a.key === 'drive.frequency')!.values;
-      for (let iy = 0; iy < amps.length; iy++) for (let ix = 0; ix < freqs.length; ix++) expect(RUN_CLASSES[cls.z[iy][ix]]).toBe(layoutClass(amps[iy], freqs[ix]));
+      for (let iy = 0; iy < amps.length; iy++)
+        for (let ix = 0; ix < freqs.length; ix++)
+          expect(RUN_CLASSES[cls.z[iy][ix]]).toBe(layoutClass(amps[iy], freqs[ix]));
     });
   }
 
@@ -68,7 +91,15 @@ describe('sweep report, amplitude x frequency', () => {
   it('draws the speed rule A = v_c/(2 pi f), the onset, the boundary, the reachable outline and the recommended point on every map', () => {
     for (const p of plots) {
       const names = p.data.map((d) => d.name);
-      expect(names).toEqual(expect.arrayContaining(['speed rule A = v_c/(2πf)', 'hopping onset (measured)', 'decoupling boundary (measured)', 'reachable by the actuator', 'recommended operating point']));
+      expect(names).toEqual(
+        expect.arrayContaining([
+          'speed rule A = v_c/(2πf)',
+          'hopping onset (measured)',
+          'decoupling boundary (measured)',
+          'reachable by the actuator',
+          'recommended operating point',
+        ]),
+      );
       const rule = p.data.find((d) => d.name === 'speed rule A = v_c/(2πf)')!;
       expect(rule.x).toEqual(m.critical_curve!.map((c) => c.frequency_Hz));
       expect(rule.y).toEqual(m.critical_curve!.map((c) => c.amplitude_m));
@@ -106,7 +137,7 @@ describe('sweep report, amplitude x frequency', () => {
     const best = bestPoints(m, 10);
     const g = m.metrics.gain_over_static;
     const all = m.classes.map((c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
-    const expected = [...all].sort((a, b) => (g[b]! - g[a]!) || a - b).slice(0, 10);
+    const expected = [...all].sort((a, b) => g[b]! - g[a]! || a - b).slice(0, 10);
     expect(best).toEqual(expected);
     expect(best.length).toBeGreaterThan(0);
   });
@@ -142,6 +173,8 @@ describe('sweep report files', () => {
     mkdirSync(d, { recursive: true });
     writeFileSync(join(d, 'map.json'), JSON.stringify({ name: 'x', metrics: {} }));
     expect(() => writeSweepReport(d)).toThrow(InputError);
-    expect(() => writeSweepReport(d)).toThrow(/map\.json: axes: expected a list of at least one axis\n.*classes: expected a list/);
+    expect(() => writeSweepReport(d)).toThrow(
+      /map\.json: axes: expected a list of at least one axis\n.*classes: expected a list/,
+    );
   });
 });

@@ -13,9 +13,20 @@ import { laserInput, scenario } from './fixtures/engine/build';
 describe('incoherent fraction of a driven run', () => {
   const mk = (frequency: string) =>
     scenario({
-      laser: laserInput({ cavity_length: '30 cm', R1: 0.999, R2: 0.99, gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 } }),
+      laser: laserInput({
+        cavity_length: '30 cm',
+        R1: 0.999,
+        R2: 0.99,
+        gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
+      }),
       // R3 0.9: an external photon lifetime of about 18 ns, short against the drive period
-      external: { length: '30 cm', return_mirror: { reflectivity: 0.9 }, feedback_efficiency: 0.8, roundtrip_efficiency: 1, return_to_laser: false },
+      external: {
+        length: '30 cm',
+        return_mirror: { reflectivity: 0.9 },
+        feedback_efficiency: 0.8,
+        roundtrip_efficiency: 1,
+        return_to_laser: false,
+      },
       // Triangle (constant speed) with a stroke 2A of exactly one wavelength: each half period
       // sweeps the round-trip phase 2 k x through exactly 4 pi at a uniform rate, so the
       // time average of any function of that phase is its phase average, whatever the
@@ -33,7 +44,10 @@ describe('incoherent fraction of a driven run', () => {
       expect(r.status).toBe('ok');
       const d = r.driven!;
       // the definition: mean gap power over incoherent_enhancement x free-running intracavity power
-      expect(d.incoherent_fraction!).toBeCloseTo(d.external_mean_W / (r.derived.incoherent_enhancement * r.free_running.intracavity_W), 12);
+      expect(d.incoherent_fraction!).toBeCloseTo(
+        d.external_mean_W / (r.derived.incoherent_enhancement * r.free_running.intracavity_W),
+        12,
+      );
     }
     // eta_fb T2 / (1 - R2 R3) with the scenario's mirrors (no losses, empty gap)
     expect(slow.derived.incoherent_enhancement).toBeCloseTo((0.8 * 0.01) / (1 - 0.99 * 0.9), 9);
@@ -49,12 +63,24 @@ describe('incoherent fraction of a driven run', () => {
     expect(dFast).toBeGreaterThan(dSlow);
   });
 
-  it('with a lossy gap and a lossy return mirror the level follows R3\' = R3 T_gap^2 eta_rt, and the fraction stays 1', () => {
+  it("with a lossy gap and a lossy return mirror the level follows R3' = R3 T_gap^2 eta_rt, and the fraction stays 1", () => {
     // r3' = r3 T_gap sqrt(eta_rt) (MODEL.md section 2): the power kept per round trip is
     // R3 T_gap^2 eta_rt, so the phase average is eta_fb T2 / (1 - R2 R3 T_gap^2 eta_rt).
     const s = scenario({
-      laser: laserInput({ cavity_length: '30 cm', R1: 0.999, R2: 0.99, gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 } }),
-      external: { length: '30 cm', return_mirror: { reflectivity: 0.95, loss: 0.02 }, gap_transmission: 0.97, feedback_efficiency: 0.8, roundtrip_efficiency: 0.9, return_to_laser: false },
+      laser: laserInput({
+        cavity_length: '30 cm',
+        R1: 0.999,
+        R2: 0.99,
+        gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
+      }),
+      external: {
+        length: '30 cm',
+        return_mirror: { reflectivity: 0.95, loss: 0.02 },
+        gap_transmission: 0.97,
+        feedback_efficiency: 0.8,
+        roundtrip_efficiency: 0.9,
+        return_to_laser: false,
+      },
       drive: { waveform: 'triangle', amplitude: 632.8e-9 / 2, frequency: '100 kHz' },
       simulation: { engine: 'exact', drive_offsets: 4, periods: 4, static_positions: 16, seed: 3 },
       analysis: { detection_bandwidth: '1 MHz' },

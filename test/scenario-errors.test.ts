@@ -102,14 +102,16 @@ describe('scenario errors name the key path, the line and what was expected', ()
   it('a unit of the wrong kind', () => {
     const text = BASE.replace('saturation_power: 1 W', 'saturation_power: 1 kHz');
     const p = find(problemsOf(text), 'laser.gain.saturation_power');
-    expect(p.message).toBe("expected a power such as '0.3 W' or 0.3 (watts), found '1 kHz' (unit of another kind)");
+    expect(p.message).toBe(
+      "expected a power such as '0.3 W' or 0.3 (watts), found '1 kHz' (unit of another kind)",
+    );
     expect(p.line).toBe(lineOf(text, 'saturation_power'));
   });
 
   it('a negative length', () => {
     const text = BASE.replace('length: 4 cm', 'length: -4 cm');
     const p = find(problemsOf(text), 'external.length');
-    expect(p.message).toBe("expected a value > 0, found \"-4 cm\"");
+    expect(p.message).toBe('expected a value > 0, found "-4 cm"');
     expect(p.line).toBe(lineOf(text, 'length: -4 cm'));
   });
 
@@ -139,7 +141,9 @@ describe('scenario errors name the key path, the line and what was expected', ()
   it('reflectivity + transmission + loss above 1', () => {
     const text = BASE.replace('    loss: 0.001\n', '    loss: 0.001\n    transmission: 0.05\n');
     const p = find(problemsOf(text), 'laser.output_coupler.loss');
-    expect(p.message).toMatch(/^expected reflectivity \+ transmission \+ loss <= 1, found 0\.97 \+ 0\.05\d* \+ 0\.001$/);
+    expect(p.message).toMatch(
+      /^expected reflectivity \+ transmission \+ loss <= 1, found 0\.97 \+ 0\.05\d* \+ 0\.001$/,
+    );
     expect(p.line).toBe(lineOf(text, 'loss: 0.001'));
   });
 
@@ -153,7 +157,9 @@ describe('scenario errors name the key path, the line and what was expected', ()
   it('a sweep axis naming a key that does not exist, with the nearest numeric key', () => {
     const text = BASE.replace('key: drive.amplitude', 'key: drive.amplitud');
     const p = find(problemsOf(text), 'sweep.axes[0].key');
-    expect(p.message).toBe("expected a numeric key path of the scenario (did you mean 'drive.amplitude'?), found 'drive.amplitud'");
+    expect(p.message).toBe(
+      "expected a numeric key path of the scenario (did you mean 'drive.amplitude'?), found 'drive.amplitud'",
+    );
     expect(p.line).toBe(lineOf(text, 'drive.amplitud'));
   });
 
@@ -183,14 +189,20 @@ describe('scenario errors name the key path, the line and what was expected', ()
   });
 
   it('a list where a mapping belongs', () => {
-    const text = BASE.replace('  rear_mirror:\n    reflectivity: 0.998\n    radius: 50 cm\n', '  rear_mirror: [0.998, 0, 0.5]\n');
+    const text = BASE.replace(
+      '  rear_mirror:\n    reflectivity: 0.998\n    radius: 50 cm\n',
+      '  rear_mirror: [0.998, 0, 0.5]\n',
+    );
     const p = find(problemsOf(text), 'laser.rear_mirror');
     expect(p.message).toBe('expected a mapping, found a list');
     expect(p.line).toBe(lineOf(text, 'rear_mirror'));
   });
 
   it('an external cavity shorter than 1 mm is refused, saying why', () => {
-    const text = BASE.replace('length: 4 cm', 'length: 0.5 mm').replace('amplitude: 200 nm', 'amplitude: 20 nm');
+    const text = BASE.replace('length: 4 cm', 'length: 0.5 mm').replace(
+      'amplitude: 200 nm',
+      'amplitude: 20 nm',
+    );
     const p = find(problemsOf(text), 'external.length');
     expect(p.message).toMatch(/^expected an external length > 1 mm, found 500 um/);
     expect(p.line).toBe(lineOf(text, 'length: 0.5 mm'));
@@ -198,30 +210,47 @@ describe('scenario errors name the key path, the line and what was expected', ()
 
   it('a laser cavity longer than 100 m is refused (a unit slip)', () => {
     const text = BASE.replace('cavity_length: 15 cm', 'cavity_length: 150');
-    expect(find(problemsOf(text), 'laser.cavity_length').message).toMatch(/^expected a cavity length <= 100 m, found 150 m/);
+    expect(find(problemsOf(text), 'laser.cavity_length').message).toMatch(
+      /^expected a cavity length <= 100 m, found 150 m/,
+    );
   });
 
   it('a stroke that would push the return mirror into the output coupler', () => {
     const text = BASE.replace('amplitude: 200 nm', 'amplitude: 5 cm');
-    expect(find(problemsOf(text), 'drive.amplitude').message).toMatch(/^expected the return mirror to stay clear/);
+    expect(find(problemsOf(text), 'drive.amplitude').message).toMatch(
+      /^expected the return mirror to stay clear/,
+    );
   });
 
   it('an unknown enum value and a wrong type', () => {
-    const text = BASE.replace('  gain:\n', '  gain:\n    shape: triangular\n').replace('name: test-bench', 'name: [a]');
+    const text = BASE.replace('  gain:\n', '  gain:\n    shape: triangular\n').replace(
+      'name: test-bench',
+      'name: [a]',
+    );
     const ps = problemsOf(text);
-    expect(find(ps, 'laser.gain.shape').message).toBe("expected one of gaussian, lorentzian, parabolic, found 'triangular'");
+    expect(find(ps, 'laser.gain.shape').message).toBe(
+      "expected one of gaussian, lorentzian, parabolic, found 'triangular'",
+    );
     expect(find(ps, 'name').message).toBe('expected a name (text), found a list');
   });
 
   it("'auto' or a number: a bad value names both", () => {
     const text = BASE.replace('    radius: 30 cm\n', '    radius: 30 cm\n  feedback_efficiency: lots\n');
-    expect(find(problemsOf(text), 'external.feedback_efficiency').message).toBe("expected 'auto' or a number >= 0 and <= 1, found 'lots'");
+    expect(find(problemsOf(text), 'external.feedback_efficiency').message).toBe(
+      "expected 'auto' or a number >= 0 and <= 1, found 'lots'",
+    );
   });
 
   it('all problems of a file are reported at once, in file order', () => {
-    const text = BASE.replace('reflectivity: 0.97', 'reflectivity: 1.2').replace('periods: 10', 'periods: 2.5').replace('key: drive.amplitude', 'key: drive.amplitud');
+    const text = BASE.replace('reflectivity: 0.97', 'reflectivity: 1.2')
+      .replace('periods: 10', 'periods: 2.5')
+      .replace('key: drive.amplitude', 'key: drive.amplitud');
     const ps = problemsOf(text);
-    expect(ps.map((p) => p.path)).toEqual(['laser.output_coupler.reflectivity', 'simulation.periods', 'sweep.axes[0].key']);
+    expect(ps.map((p) => p.path)).toEqual([
+      'laser.output_coupler.reflectivity',
+      'simulation.periods',
+      'sweep.axes[0].key',
+    ]);
     const lines = ps.map((p) => p.line ?? 0);
     expect(lines).toEqual([...lines].sort((a, b) => a - b));
   });
@@ -232,7 +261,10 @@ describe('scenario errors name the key path, the line and what was expected', ()
   });
 
   it('JSON files: problems carry lines too, and strict JSON is required of *.json', () => {
-    const json = JSON.stringify(parseScenarioText(BASE, 'b.yaml').raw, null, 2).replace('"reflectivity": 0.97', '"reflectivity": 1.2');
+    const json = JSON.stringify(parseScenarioText(BASE, 'b.yaml').raw, null, 2).replace(
+      '"reflectivity": 0.97',
+      '"reflectivity": 1.2',
+    );
     const p = find(problemsOf(json, 'bad.json'), 'laser.output_coupler.reflectivity');
     expect(p.line).toBe(lineOf(json, '"reflectivity": 1.2'));
     const trailing = problemsOf('{"name": "x",}', 'bad.json');
@@ -253,9 +285,13 @@ describe('canonical form and overrides', () => {
     const a = parseScenarioText(BASE, 'a.yaml');
     const again = scenarioSchema.parse(normaliseScenarioForJson(a.scenario));
     expect(again).toEqual(a.scenario);
-    expect(normaliseScenarioForJson(a.scenario)).toMatchObject({ laser: { output_coupler: { radius: 'flat' } } });
+    expect(normaliseScenarioForJson(a.scenario)).toMatchObject({
+      laser: { output_coupler: { radius: 'flat' } },
+    });
     // same content, top-level sections in another order, units written differently
-    const reordered = BASE.replace(/^simulation:\n  periods: 10\n/m, '').replace('name: test-bench\n', 'simulation:\n  periods: 10\nname: test-bench\n').replace('15 cm', '150 mm');
+    const reordered = BASE.replace(/^simulation:\n  periods: 10\n/m, '')
+      .replace('name: test-bench\n', 'simulation:\n  periods: 10\nname: test-bench\n')
+      .replace('15 cm', '150 mm');
     const b = parseScenarioText(reordered, 'b.yaml');
     expect(b.sha256).toBe(a.sha256);
     expect(a.sha256).toMatch(/^[0-9a-f]{64}$/);
@@ -265,7 +301,11 @@ describe('canonical form and overrides', () => {
   it('withOverrides returns a new validated scenario and leaves the base alone', () => {
     const base = parseScenarioText(BASE, 'a.yaml').scenario;
     const before = JSON.stringify(normaliseScenarioForJson(base));
-    const s = withOverrides(base, { 'drive.amplitude': '80 nm', 'laser.gain.pump_ratio': 1.5, 'actuator.stroke_per_volt': '10 nm/V' });
+    const s = withOverrides(base, {
+      'drive.amplitude': '80 nm',
+      'laser.gain.pump_ratio': 1.5,
+      'actuator.stroke_per_volt': '10 nm/V',
+    });
     expect(s.drive.amplitude).toBeCloseTo(80e-9, 20);
     expect(s.laser.gain.pump_ratio).toBe(1.5);
     expect(s.actuator?.stroke_per_volt).toBeCloseTo(1e-8, 20);
@@ -285,18 +325,37 @@ describe('canonical form and overrides', () => {
       }
       throw new Error('expected a refusal');
     };
-    expect(problems({ 'drive.amplitud': 1e-7 })).toEqual([{ path: 'drive.amplitud', message: "unknown key 'amplitud' (did you mean 'amplitude'?)" }]);
+    expect(problems({ 'drive.amplitud': 1e-7 })).toEqual([
+      { path: 'drive.amplitud', message: "unknown key 'amplitud' (did you mean 'amplitude'?)" },
+    ]);
     expect(problems({ 'laser.cavity_length': '3 kHz' })[0].path).toBe('laser.cavity_length');
-    expect(problems({ 'laser.cavity_length.x': 1 })[0].message).toMatch(/^expected laser\.cavity_length to be a mapping/);
+    expect(problems({ 'laser.cavity_length.x': 1 })[0].message).toMatch(
+      /^expected laser\.cavity_length to be a mapping/,
+    );
     expect(problems({ 'laser..x': 1 })[0].message).toMatch(/^expected a key path/);
   });
 
   it('numericKeyPaths lists the numeric keys of the schema and nothing else', () => {
     const keys = numericKeyPaths();
-    for (const k of ['drive.amplitude', 'drive.frequency', 'laser.cavity_length', 'laser.output_coupler.reflectivity', 'simulation.periods', 'external.feedback_efficiency', 'actuator.resonance']) {
+    for (const k of [
+      'drive.amplitude',
+      'drive.frequency',
+      'laser.cavity_length',
+      'laser.output_coupler.reflectivity',
+      'simulation.periods',
+      'external.feedback_efficiency',
+      'actuator.resonance',
+    ]) {
       expect(keys).toContain(k);
     }
-    for (const k of ['name', 'drive.waveform', 'laser.gain.shape', 'external.return_to_laser', 'sweep.axes', 'laser.gain']) {
+    for (const k of [
+      'name',
+      'drive.waveform',
+      'laser.gain.shape',
+      'external.return_to_laser',
+      'sweep.axes',
+      'laser.gain',
+    ]) {
       expect(keys).not.toContain(k);
     }
     // a listed key really takes a number through withOverrides

@@ -7,7 +7,15 @@
  */
 import { spawn, spawnSync } from 'node:child_process';
 import type { ChildProcess } from 'node:child_process';
-import { appendFileSync, cpSync, existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import {
+  appendFileSync,
+  cpSync,
+  existsSync,
+  mkdtempSync,
+  readFileSync,
+  rmSync,
+  writeFileSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -29,17 +37,29 @@ interface Result {
 }
 
 function cliSync(args: string[], env: NodeJS.ProcessEnv = {}): Result {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1', CI: '1', ...env } });
+  const r = spawnSync(process.execPath, [BIN, ...args], {
+    cwd: ROOT,
+    encoding: 'utf8',
+    env: { ...process.env, NO_COLOR: '1', CI: '1', ...env },
+  });
   return { code: r.status, signal: r.signal, out: r.stdout, err: r.stderr };
 }
 
-function cliAsync(args: string[], env: NodeJS.ProcessEnv = {}): { child: ChildProcess; done: Promise<Result> } {
-  const child = spawn(process.execPath, [BIN, ...args], { cwd: ROOT, env: { ...process.env, NO_COLOR: '1', CI: '1', ...env } });
+function cliAsync(
+  args: string[],
+  env: NodeJS.ProcessEnv = {},
+): { child: ChildProcess; done: Promise<Result> } {
+  const child = spawn(process.execPath, [BIN, ...args], {
+    cwd: ROOT,
+    env: { ...process.env, NO_COLOR: '1', CI: '1', ...env },
+  });
   let out = '';
   let err = '';
   child.stdout!.on('data', (d) => (out += d));
   child.stderr!.on('data', (d) => (err += d));
-  const done = new Promise<Result>((res) => child.on('close', (code, signal) => res({ code, signal, out, err })));
+  const done = new Promise<Result>((res) =>
+    child.on('close', (code, signal) => res({ code, signal, out, err })),
+  );
   return { child, done };
 }
 
@@ -57,13 +77,18 @@ function pointsOf(dir: string): Map<number, string> {
 }
 
 function lineCount(file: string): number {
-  return existsSync(file) ? readFileSync(file, 'utf8').split('\n').filter((l) => l !== '').length : 0;
+  return existsSync(file)
+    ? readFileSync(file, 'utf8')
+        .split('\n')
+        .filter((l) => l !== '').length
+    : 0;
 }
 
 async function waitForLines(file: string, n: number, timeout_ms = 60_000): Promise<void> {
   const t0 = Date.now();
   while (lineCount(file) < n) {
-    if (Date.now() - t0 > timeout_ms) throw new Error(`${file}: fewer than ${n} lines after ${timeout_ms} ms`);
+    if (Date.now() - t0 > timeout_ms)
+      throw new Error(`${file}: fewer than ${n} lines after ${timeout_ms} ms`);
     await new Promise((r) => setTimeout(r, 50));
   }
 }
@@ -74,7 +99,8 @@ function expectSameAsReference(points: Map<number, string>) {
 }
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
+    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
   tmp = mkdtempSync(join(tmpdir(), 'dithercav-sweep-'));
   const r = cliSync(['sweep', TINY, '--out', join(tmp, 'ref'), '--jobs', '2', '--quiet']);
   expect(r.code, r.err).toBe(0);
@@ -99,7 +125,9 @@ describe('sweep command end to end', () => {
     expect(header.total_points).toBe(TOTAL);
     expect(header.axes.map((a: { key: string }) => a.key)).toEqual(['drive.amplitude', 'drive.frequency']);
     // the terminal names the same recommended point (or the same reason for none) as map.json
-    const line = map.recommended ? `recommended operating point: ${map.recommended.reason}` : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
+    const line = map.recommended
+      ? `recommended operating point: ${map.recommended.reason}`
+      : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
     expect(referenceOut).toContain(`${line}\n`);
   });
 
@@ -111,11 +139,19 @@ describe('sweep command end to end', () => {
 
   it('runSweep on the calling thread (no pool) gives the same points as the binary with a pool', async () => {
     // The compiled modules, so that both sides run the same build of the engine.
-    const { runSweep } = require(join(ROOT, 'dist', 'sweep', 'run-sweep.js')) as typeof import('../src/sweep/run-sweep');
-    const { loadScenarioFile } = require(join(ROOT, 'dist', 'scenario', 'load.js')) as typeof import('../src/scenario/load');
+    const { runSweep } = require(
+      join(ROOT, 'dist', 'sweep', 'run-sweep.js'),
+    ) as typeof import('../src/sweep/run-sweep');
+    const { loadScenarioFile } = require(
+      join(ROOT, 'dist', 'scenario', 'load.js'),
+    ) as typeof import('../src/scenario/load');
     const dir = join(tmp, 'inproc');
     const seen: number[] = [];
-    const out = await runSweep(loadScenarioFile(TINY).scenario, { outDir: dir, inProcess: true, onProgress: (d) => seen.push(d) });
+    const out = await runSweep(loadScenarioFile(TINY).scenario, {
+      outDir: dir,
+      inProcess: true,
+      onProgress: (d) => seen.push(d),
+    });
     expect(out.finished).toBe(TOTAL);
     expect(out.interrupted).toBe(false);
     expect(seen.at(-1)).toBe(TOTAL);
@@ -162,7 +198,11 @@ describe('sweep command end to end', () => {
     const runs = [
       cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet', '--shard', '1/3']),
       // SLURM_ARRAY_TASK_ID 11 of an array 10-12: I = 11 - 10 + 1 = 2, N = 3
-      cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet'], { SLURM_ARRAY_TASK_ID: '11', SLURM_ARRAY_TASK_MIN: '10', SLURM_ARRAY_TASK_COUNT: '3' }),
+      cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet'], {
+        SLURM_ARRAY_TASK_ID: '11',
+        SLURM_ARRAY_TASK_MIN: '10',
+        SLURM_ARRAY_TASK_COUNT: '3',
+      }),
       cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet', '--shard', '3/3']),
     ];
     const results = await Promise.all(runs.map((r) => r.done));
@@ -196,7 +236,10 @@ describe('sweep command end to end', () => {
     const dir = join(tmp, 'fail');
     const r = cliSync(['sweep', FAIL, '--out', dir, '--jobs', '1', '--quiet']);
     expect(r.code).toBe(1);
-    const lines = readFileSync(join(dir, 'points.ndjson'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+    const lines = readFileSync(join(dir, 'points.ndjson'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
     const byIndex = new Map(lines.map((l) => [l.index, l]));
     expect(byIndex.get(0).summary.class).toBe('numerical-failure');
     expect(byIndex.get(0).summary.message).toMatch(/max_steps/);

@@ -19,14 +19,22 @@ const laser = {
 const external = { length: '9 cm', return_mirror: { reflectivity: 0.9995, radius: '10 cm' } };
 
 function scenario(axes: unknown[]): Scenario {
-  return scenarioSchema.parse({ name: 'grid-test', laser, external, drive: { amplitude: '80 nm', frequency: '140 kHz' }, sweep: { axes } });
+  return scenarioSchema.parse({
+    name: 'grid-test',
+    laser,
+    external,
+    drive: { amplitude: '80 nm', frequency: '140 kHz' },
+    sweep: { axes },
+  });
 }
 
 // Floating-point exp/log round trips lose a few ulps; 1e-12 relative is far above that and far below any meaningful difference.
 const REL = 1e-12;
 function expectClose(actual: number[], expected: number[]) {
   expect(actual.length).toBe(expected.length);
-  actual.forEach((v, i) => expect(Math.abs(v - expected[i])).toBeLessThanOrEqual(REL * Math.abs(expected[i])));
+  actual.forEach((v, i) =>
+    expect(Math.abs(v - expected[i])).toBeLessThanOrEqual(REL * Math.abs(expected[i])),
+  );
 }
 
 describe('sweep grid', () => {
@@ -38,7 +46,9 @@ describe('sweep grid', () => {
   });
 
   it('a log axis of 3 points from 10 nm to 1 um is 10 nm, 100 nm, 1 um (one decade per step), end points exact', () => {
-    const g = expandGrid(scenario([{ key: 'drive.amplitude', from: '10 nm', to: '1 um', points: 3, scale: 'log' }]));
+    const g = expandGrid(
+      scenario([{ key: 'drive.amplitude', from: '10 nm', to: '1 um', points: 3, scale: 'log' }]),
+    );
     expectClose(g.axes[0].values, [1e-8, 1e-7, 1e-6]);
     expect(g.axes[0].values[0]).toBe(1e-8);
     expect(g.axes[0].values[2]).toBe(1e-6);
@@ -63,7 +73,14 @@ describe('sweep grid', () => {
     );
     expect(g.total).toBe(6);
     const seen = [0, 1, 2, 3, 4, 5].map((i) => gridIndices(g.axes, i));
-    expect(seen).toEqual([[0, 0], [0, 1], [1, 0], [1, 1], [2, 0], [2, 1]]);
+    expect(seen).toEqual([
+      [0, 0],
+      [0, 1],
+      [1, 0],
+      [1, 1],
+      [2, 0],
+      [2, 1],
+    ]);
     const p5 = gridPoint(g, 5).axes;
     expect(p5['drive.amplitude']).toBeCloseTo(3e-9, 20);
     expect(p5['drive.frequency']).toBe(2000);
@@ -71,7 +88,10 @@ describe('sweep grid', () => {
   });
 
   it("a point's scenario is a validated copy with the axis values set and no sweep; the base is not changed", () => {
-    const s = scenario([{ key: 'drive.amplitude', values: ['1 nm', '2 nm'] }, { key: 'laser.gain.pump_ratio', values: [1.5, 2.5] }]);
+    const s = scenario([
+      { key: 'drive.amplitude', values: ['1 nm', '2 nm'] },
+      { key: 'laser.gain.pump_ratio', values: [1.5, 2.5] },
+    ]);
     const g = expandGrid(s);
     const p = pointScenario(g, 3);
     expect(p.sweep).toBeUndefined();
@@ -108,9 +128,16 @@ describe('sweep grid', () => {
   });
 
   it('refuses a log axis through zero and a key given twice', () => {
-    expect(() => expandGrid(scenario([{ key: 'drive.offset', from: 0, to: '1 nm', points: 3, scale: 'log' }]))).toThrow(/log axis/);
     expect(() =>
-      expandGrid(scenario([{ key: 'drive.amplitude', values: [1e-9] }, { key: 'drive.amplitude', values: [2e-9] }])),
+      expandGrid(scenario([{ key: 'drive.offset', from: 0, to: '1 nm', points: 3, scale: 'log' }])),
+    ).toThrow(/log axis/);
+    expect(() =>
+      expandGrid(
+        scenario([
+          { key: 'drive.amplitude', values: [1e-9] },
+          { key: 'drive.amplitude', values: [2e-9] },
+        ]),
+      ),
     ).toThrow(/again/);
   });
 });

@@ -10,14 +10,31 @@ import type { PointRecord, PointSummary } from '../src/sweep/persist';
 import type { MapAxis } from '../src/results/map';
 import type { RunClass } from '../src/results/summary';
 
-function okPoint(index: number, axes: Record<string, number>, cls: RunClass, hopsPerPeriod: number, vc: number | null): PointRecord {
+function okPoint(
+  index: number,
+  axes: Record<string, number>,
+  cls: RunClass,
+  hopsPerPeriod: number,
+  vc: number | null,
+): PointRecord {
   const summary = {
     ...failedPointSummary(''),
     status: 'ok',
     message: null,
     class: cls,
     class_reason: `synthetic ${cls}`,
-    driven: { enhancement: 10 + index, gain_over_static: 2, ripple_rel: 0.05, ripple_full_band_rel: 0.5, hops_per_s: hopsPerPeriod * 1000, hops_per_period: hopsPerPeriod, external_mean_W: 1, laser_output_mean_W: 0.01, class: cls, class_reason: '' },
+    driven: {
+      enhancement: 10 + index,
+      gain_over_static: 2,
+      ripple_rel: 0.05,
+      ripple_full_band_rel: 0.5,
+      hops_per_s: hopsPerPeriod * 1000,
+      hops_per_period: hopsPerPeriod,
+      external_mean_W: 1,
+      laser_output_mean_W: 0.01,
+      class: cls,
+      class_reason: '',
+    },
     drive: { critical_speed_m_s: vc, peak_speed_m_s: 1 },
   } as unknown as PointSummary;
   return { index, axes, summary, wall_s: 0 };
@@ -29,11 +46,31 @@ const REL = 1e-12;
 describe('sweep map', () => {
   it('interpolates an onset as the geometric mean of the last clear and first positive amplitude', () => {
     // sqrt(1e-8 * 1e-7) = 10^-7.5 = 3.16227766e-8
-    const a = firstOnset([[1e-7, true], [1e-9, false], [1e-8, false], [1e-6, true]]);
+    const a = firstOnset([
+      [1e-7, true],
+      [1e-9, false],
+      [1e-8, false],
+      [1e-6, true],
+    ]);
     expect(Math.abs(a! - 10 ** -7.5)).toBeLessThan(REL * 10 ** -7.5);
-    expect(firstOnset([[1e-9, false], [1e-8, false]])).toBeNull();
-    expect(firstOnset([[1e-9, true], [1e-8, true]])).toBe(1e-9); // at or below the grid: its first amplitude
-    expect(firstOnset([[0, false], [2e-9, true]])).toBe(1e-9); // log undefined at 0: arithmetic mean
+    expect(
+      firstOnset([
+        [1e-9, false],
+        [1e-8, false],
+      ]),
+    ).toBeNull();
+    expect(
+      firstOnset([
+        [1e-9, true],
+        [1e-8, true],
+      ]),
+    ).toBe(1e-9); // at or below the grid: its first amplitude
+    expect(
+      firstOnset([
+        [0, false],
+        [2e-9, true],
+      ]),
+    ).toBe(1e-9); // log undefined at 0: arithmetic mean
   });
 
   it('takes the median of an odd and an even count', () => {
@@ -51,15 +88,21 @@ describe('sweep map', () => {
     ];
     // Column f = 1 kHz: modulated, hopping, hopping, decoupled. Column f = 100 kHz: modulated, modulated, decoupled, decoupled.
     const plan: [RunClass, number][] = [
-      ['modulated', 0], ['modulated', 0],
-      ['hopping', 3], ['modulated', 0],
-      ['hopping', 2], ['decoupled', 0],
-      ['decoupled', 0], ['decoupled', 0],
+      ['modulated', 0],
+      ['modulated', 0],
+      ['hopping', 3],
+      ['modulated', 0],
+      ['hopping', 2],
+      ['decoupled', 0],
+      ['decoupled', 0],
+      ['decoupled', 0],
     ];
     const vcs = [1.0, 1.2, 1.4, 1.6, 1.1, 1.3, 1.5]; // point 7 failed; median of these 7 = 1.3
-    const records: PointRecord[] = plan.slice(0, 7).map(([c, h], i) =>
-      okPoint(i, { 'drive.amplitude': A[i >> 1], 'drive.frequency': F[i & 1] }, c, h, vcs[i]),
-    );
+    const records: PointRecord[] = plan
+      .slice(0, 7)
+      .map(([c, h], i) =>
+        okPoint(i, { 'drive.amplitude': A[i >> 1], 'drive.frequency': F[i & 1] }, c, h, vcs[i]),
+      );
     records.push({ index: 7, axes: {}, summary: failedPointSummary('diverged'), wall_s: 0 });
     const m = buildSweepMap({ name: 't', scenario_sha256: 'x', axes, records, scenario: null });
     expect(m.total_points).toBe(8);
@@ -73,8 +116,12 @@ describe('sweep map', () => {
     expect(Math.abs(m.onset_curve![0].amplitude_m! - Math.sqrt(1e-17))).toBeLessThan(REL * Math.sqrt(1e-17));
     expect(m.onset_curve![1].amplitude_m).toBeNull();
     // Decoupling: 1 kHz between 100 nm and 1 um; 100 kHz between 10 nm and 100 nm (point 7 failed, so not counted).
-    expect(Math.abs(m.decoupling_boundary![0].amplitude_m! - Math.sqrt(1e-13))).toBeLessThan(REL * Math.sqrt(1e-13));
-    expect(Math.abs(m.decoupling_boundary![1].amplitude_m! - Math.sqrt(1e-15))).toBeLessThan(REL * Math.sqrt(1e-15));
+    expect(Math.abs(m.decoupling_boundary![0].amplitude_m! - Math.sqrt(1e-13))).toBeLessThan(
+      REL * Math.sqrt(1e-13),
+    );
+    expect(Math.abs(m.decoupling_boundary![1].amplitude_m! - Math.sqrt(1e-15))).toBeLessThan(
+      REL * Math.sqrt(1e-15),
+    );
     // Critical curve: A = v_c / (2 pi f) with v_c = 1.3 m/s.
     expect(Math.abs(m.critical_curve![0].amplitude_m! - 1.3 / (2 * Math.PI * 1e3))).toBeLessThan(REL * 2e-4);
     expect(Math.abs(m.critical_curve![1].amplitude_m! - 1.3 / (2 * Math.PI * 1e5))).toBeLessThan(REL * 2e-6);
@@ -97,7 +144,13 @@ describe('sweep map', () => {
   });
 
   it('has no curves without both drive axes', () => {
-    const m = buildSweepMap({ name: 't', scenario_sha256: 'x', axes: [{ key: 'drive.amplitude', values: [1e-9], scale: 'linear' }], records: [], scenario: null });
+    const m = buildSweepMap({
+      name: 't',
+      scenario_sha256: 'x',
+      axes: [{ key: 'drive.amplitude', values: [1e-9], scale: 'linear' }],
+      records: [],
+      scenario: null,
+    });
     expect(m.onset_curve).toBeNull();
     expect(m.critical_curve).toBeNull();
     expect(m.amplitude_key).toBeNull();

@@ -26,13 +26,35 @@ afterAll(() => {
 const AXES = [{ key: 'drive.amplitude', values: [1e-9, 2e-9, 3e-9, 4e-9, 5e-9], scale: 'linear' as const }];
 
 function rec(index: number, note = ''): PointRecord {
-  return { index, axes: { 'drive.amplitude': AXES[0].values[index] }, summary: failedPointSummary(`point ${index}${note}`), wall_s: Math.random() };
+  return {
+    index,
+    axes: { 'drive.amplitude': AXES[0].values[index] },
+    summary: failedPointSummary(`point ${index}${note}`),
+    wall_s: Math.random(),
+  };
 }
 
-function shardDir(name: string, sha: string, shard: { index: number; count: number } | null, indices: number[], note = ''): string {
+function shardDir(
+  name: string,
+  sha: string,
+  shard: { index: number; count: number } | null,
+  indices: number[],
+  note = '',
+): string {
   const d = join(tmp, name);
   mkdirSync(d, { recursive: true });
-  writeHeader(d, makeHeader({ name: 'merge-test', scenario_sha256: sha, scenario: {}, source: null, axes: AXES, total_points: 5, shard }));
+  writeHeader(
+    d,
+    makeHeader({
+      name: 'merge-test',
+      scenario_sha256: sha,
+      scenario: {},
+      source: null,
+      axes: AXES,
+      total_points: 5,
+      shard,
+    }),
+  );
   const w = new PointWriter(join(d, 'points.ndjson'));
   for (const i of indices) w.write(rec(i, note));
   w.close();
@@ -51,7 +73,9 @@ describe('merge', () => {
     expect(out.records.map((r) => r.index)).toEqual([0, 1, 2, 3, 4]);
     expect(out.duplicates).toBe(1);
     expect(out.missing).toBe(0);
-    expect(readPoints(join(tmp, 'merged', 'points.ndjson')).records.map((r) => r.index)).toEqual([0, 1, 2, 3, 4]);
+    expect(readPoints(join(tmp, 'merged', 'points.ndjson')).records.map((r) => r.index)).toEqual([
+      0, 1, 2, 3, 4,
+    ]);
     const header = JSON.parse(readFileSync(join(tmp, 'merged', 'sweep.json'), 'utf8'));
     expect(header.shard).toBeNull();
     expect(header.scenario_sha256).toBe(SHA_A);
@@ -87,15 +111,20 @@ describe('merge', () => {
   });
 
   it('the merge command exits 2 with a clear message for mixed scenarios, and 0 for one scenario', () => {
-    if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+    if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
+      throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
     const a = shardDir('x1', SHA_A, { index: 1, count: 2 }, [0]);
     const b = shardDir('x2', SHA_B, { index: 2, count: 2 }, [1]);
-    const bad = spawnSync(process.execPath, [BIN, 'merge', a, b, '--out', join(tmp, 'xm')], { encoding: 'utf8' });
+    const bad = spawnSync(process.execPath, [BIN, 'merge', a, b, '--out', join(tmp, 'xm')], {
+      encoding: 'utf8',
+    });
     expect(bad.status).toBe(2);
     expect(bad.stderr).toMatch(/refusing to merge shards of different scenarios/);
     expect(bad.stderr).not.toMatch(/^\s+at .+[(:]/m); // no stack trace
     const c = shardDir('x3', SHA_A, { index: 2, count: 2 }, [1, 3]);
-    const good = spawnSync(process.execPath, [BIN, 'merge', a, c, '--out', join(tmp, 'xg')], { encoding: 'utf8' });
+    const good = spawnSync(process.execPath, [BIN, 'merge', a, c, '--out', join(tmp, 'xg')], {
+      encoding: 'utf8',
+    });
     expect(good.status).toBe(0);
     expect(good.stdout).toMatch(/3\/5 points/);
   });

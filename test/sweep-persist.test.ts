@@ -8,7 +8,15 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { InputError } from '../src/scenario/errors';
 import {
-  assertSameSweep, failedPointSummary, formatPointLine, makeHeader, PointWriter, readHeader, readPoints, repairPoints, writeHeader,
+  assertSameSweep,
+  failedPointSummary,
+  formatPointLine,
+  makeHeader,
+  PointWriter,
+  readHeader,
+  readPoints,
+  repairPoints,
+  writeHeader,
 } from '../src/sweep/persist';
 import type { PointRecord } from '../src/sweep/persist';
 
@@ -21,7 +29,12 @@ afterAll(() => {
 });
 
 function rec(index: number, a: number): PointRecord {
-  return { index, axes: { 'drive.amplitude': a }, summary: failedPointSummary(`synthetic ${index}`), wall_s: 0.01 };
+  return {
+    index,
+    axes: { 'drive.amplitude': a },
+    summary: failedPointSummary(`synthetic ${index}`),
+    wall_s: 0.01,
+  };
 }
 
 describe('points.ndjson', () => {
@@ -59,9 +72,19 @@ describe('points.ndjson', () => {
 
   it('drops an unparsable line, a line that is not a point, and a repeated index (the first one wins)', () => {
     const f = join(tmp, 'c.ndjson');
-    writeFileSync(f, formatPointLine(rec(0, 1e-9)) + '{"index": 1, "axes": {}, "summ\n' + '{"hello": 1}\n' + formatPointLine(rec(0, 9e-9)) + formatPointLine(rec(1, 2e-9)));
+    writeFileSync(
+      f,
+      formatPointLine(rec(0, 1e-9)) +
+        '{"index": 1, "axes": {}, "summ\n' +
+        '{"hello": 1}\n' +
+        formatPointLine(rec(0, 9e-9)) +
+        formatPointLine(rec(1, 2e-9)),
+    );
     const r = readPoints(f);
-    expect(r.records.map((x) => [x.index, x.axes['drive.amplitude']])).toEqual([[0, 1e-9], [1, 2e-9]]);
+    expect(r.records.map((x) => [x.index, x.axes['drive.amplitude']])).toEqual([
+      [0, 1e-9],
+      [1, 2e-9],
+    ]);
     expect(r.dropped.map((d) => d.line)).toEqual([2, 3, 4]);
   });
 
@@ -72,7 +95,15 @@ describe('points.ndjson', () => {
 
 describe('sweep.json', () => {
   const h = (sha: string, shard: { index: number; count: number } | null = null) =>
-    makeHeader({ name: 'x', scenario_sha256: sha, scenario: {}, source: null, axes: [{ key: 'drive.amplitude', values: [1, 2], scale: 'linear' }], total_points: 2, shard });
+    makeHeader({
+      name: 'x',
+      scenario_sha256: sha,
+      scenario: {},
+      source: null,
+      axes: [{ key: 'drive.amplitude', values: [1, 2], scale: 'linear' }],
+      total_points: 2,
+      shard,
+    });
 
   it('round-trips and accepts the same sweep', () => {
     const d = join(tmp, 'h1');
@@ -87,7 +118,11 @@ describe('sweep.json', () => {
     const d = join(tmp, 'h2');
     expect(() => assertSameSweep(d, h('a'.repeat(64)), h('b'.repeat(64)))).toThrow(/another scenario/);
     try {
-      assertSameSweep(d, h('a'.repeat(64), { index: 1, count: 2 }), h('a'.repeat(64), { index: 2, count: 2 }));
+      assertSameSweep(
+        d,
+        h('a'.repeat(64), { index: 1, count: 2 }),
+        h('a'.repeat(64), { index: 2, count: 2 }),
+      );
       throw new Error('no error');
     } catch (err) {
       expect(err).toBeInstanceOf(InputError);

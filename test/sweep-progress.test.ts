@@ -7,7 +7,13 @@ import { createProgress, createRunProgress, formatDuration, formatProgressLine }
 
 function sink() {
   const lines: string[] = [];
-  const stream = { write: (s: string) => { lines.push(...s.split('\n').filter((x) => x !== '')); return true; }, isTTY: false } as unknown as NodeJS.WriteStream;
+  const stream = {
+    write: (s: string) => {
+      lines.push(...s.split('\n').filter((x) => x !== ''));
+      return true;
+    },
+    isTTY: false,
+  } as unknown as NodeJS.WriteStream;
   return { lines, stream };
 }
 
@@ -16,7 +22,9 @@ describe('progress', () => {
     expect(formatDuration(45)).toBe('45s');
     expect(formatDuration(90)).toBe('1m30s');
     expect(formatDuration(3 * 3600 + 5 * 60)).toBe('3h05m');
-    expect(formatProgressLine('sweep demo', 64, 256, 2.1)).toBe('sweep demo: 64/256 points, 2.1 points/s, ETA 1m31s');
+    expect(formatProgressLine('sweep demo', 64, 256, 2.1)).toBe(
+      'sweep demo: 64/256 points, 2.1 points/s, ETA 1m31s',
+    );
     expect(formatProgressLine('sweep demo', 0, 256, 0)).toBe('sweep demo: 0/256 points');
   });
 

@@ -32,10 +32,19 @@ describe('sweep shards', () => {
   });
 
   it('takes I = TASK_ID - TASK_MIN + 1 and N = TASK_COUNT from a SLURM array', () => {
-    expect(shardFromSlurm({ SLURM_ARRAY_TASK_ID: '5', SLURM_ARRAY_TASK_MIN: '3', SLURM_ARRAY_TASK_COUNT: '4' })).toEqual({ index: 3, count: 4 });
-    expect(shardFromSlurm({ SLURM_ARRAY_TASK_ID: '0', SLURM_ARRAY_TASK_COUNT: '8' })).toEqual({ index: 1, count: 8 });
-    expect(shardFromSlurm({ SLURM_ARRAY_TASK_ID: '8', SLURM_ARRAY_TASK_MIN: '1', SLURM_ARRAY_TASK_COUNT: '8' })).toEqual({ index: 8, count: 8 });
+    expect(
+      shardFromSlurm({ SLURM_ARRAY_TASK_ID: '5', SLURM_ARRAY_TASK_MIN: '3', SLURM_ARRAY_TASK_COUNT: '4' }),
+    ).toEqual({ index: 3, count: 4 });
+    expect(shardFromSlurm({ SLURM_ARRAY_TASK_ID: '0', SLURM_ARRAY_TASK_COUNT: '8' })).toEqual({
+      index: 1,
+      count: 8,
+    });
+    expect(
+      shardFromSlurm({ SLURM_ARRAY_TASK_ID: '8', SLURM_ARRAY_TASK_MIN: '1', SLURM_ARRAY_TASK_COUNT: '8' }),
+    ).toEqual({ index: 8, count: 8 });
     expect(shardFromSlurm({})).toBeNull();
-    expect(() => shardFromSlurm({ SLURM_ARRAY_TASK_ID: '2', SLURM_ARRAY_TASK_COUNT: '4', SLURM_ARRAY_TASK_STEP: '2' })).toThrow(/step/);
+    expect(() =>
+      shardFromSlurm({ SLURM_ARRAY_TASK_ID: '2', SLURM_ARRAY_TASK_COUNT: '4', SLURM_ARRAY_TASK_STEP: '2' }),
+    ).toThrow(/step/);
   });
 });

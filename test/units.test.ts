@@ -61,9 +61,19 @@ describe('quantity parsing', () => {
   it('a unit of another kind is refused for every kind, naming what was expected', () => {
     // one foreign unit per kind, each of a different dimension from the kind's SI unit
     const foreign: Record<string, string> = {
-      length: '22 kHz', time: '3 m', frequency: '20 ns', power: '5 V', voltage: '2 W', current: '50 nF',
-      capacitance: '5 mA', mass: '10 nm/V', speed: '1 Hz', stroke_per_volt: '10 nm', stiffness: '2 N',
-      force: '5 N/m', angle: '1 s',
+      length: '22 kHz',
+      time: '3 m',
+      frequency: '20 ns',
+      power: '5 V',
+      voltage: '2 W',
+      current: '50 nF',
+      capacitance: '5 mA',
+      mass: '10 nm/V',
+      speed: '1 Hz',
+      stroke_per_volt: '10 nm',
+      stiffness: '2 N',
+      force: '5 N/m',
+      angle: '1 s',
     };
     for (const [kind] of dimensioned) {
       const p = parseQuantity(foreign[kind], kind);

@@ -77,8 +77,10 @@ export class BoxcarFilter {
   constructor(opts: BoxcarOptions) {
     const { dt_s, bandwidth_Hz } = opts;
     const minBlocks = opts.minBlocks ?? 64;
-    if (!(dt_s > 0) || !Number.isFinite(dt_s)) throw new RangeError(`BoxcarFilter: dt_s must be positive, found ${dt_s}`);
-    if (!(bandwidth_Hz > 0) || !Number.isFinite(bandwidth_Hz)) throw new RangeError(`BoxcarFilter: bandwidth_Hz must be positive, found ${bandwidth_Hz}`);
+    if (!(dt_s > 0) || !Number.isFinite(dt_s))
+      throw new RangeError(`BoxcarFilter: dt_s must be positive, found ${dt_s}`);
+    if (!(bandwidth_Hz > 0) || !Number.isFinite(bandwidth_Hz))
+      throw new RangeError(`BoxcarFilter: bandwidth_Hz must be positive, found ${bandwidth_Hz}`);
     if (!(minBlocks >= 1)) throw new RangeError(`BoxcarFilter: minBlocks must be >= 1, found ${minBlocks}`);
     const windowSamples = 1 / (bandwidth_Hz * dt_s);
     const B = Math.max(1, Math.floor(windowSamples / minBlocks));

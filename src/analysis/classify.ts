@@ -67,46 +67,69 @@ function fmt(x: number): string {
   if (x === 0) return '0';
   const a = Math.abs(x);
   if (a >= 1e-3 && a < 1e6) return String(Number(x.toPrecision(3)));
-  return x.toExponential(2).replace(/\.?0+e/, 'e').replace('e+', 'e');
+  return x
+    .toExponential(2)
+    .replace(/\.?0+e/, 'e')
+    .replace('e+', 'e');
 }
 
 /** The run's class and a reason in words with the numbers that decided it; see the file comment. */
 export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
   if (m.status === 'numerical-failure') {
-    return { class: 'numerical-failure', reason: m.message !== undefined && m.message !== null && m.message !== '' ? m.message : 'numerical failure' };
+    return {
+      class: 'numerical-failure',
+      reason:
+        m.message !== undefined && m.message !== null && m.message !== '' ? m.message : 'numerical failure',
+    };
   }
   const p = m.freeRunningIntracavity_W;
   if (!(p >= t.lasing_power)) {
-    return { class: 'no-lasing', reason: `free-running intracavity power ${fmt(p)} W < lasing threshold ${fmt(t.lasing_power)} W` };
+    return {
+      class: 'no-lasing',
+      reason: `free-running intracavity power ${fmt(p)} W < lasing threshold ${fmt(t.lasing_power)} W`,
+    };
   }
   const passed: string[] = [`free-running intracavity power ${fmt(p)} W >= ${fmt(t.lasing_power)} W`];
   if (m.hopsPerPeriod === null) {
     passed.push('hop test skipped (still mirror)');
   } else if (!(m.hopsPerPeriod <= t.max_hops_per_period)) {
-    return { class: 'hopping', reason: `hops per period ${fmt(m.hopsPerPeriod)} > limit ${fmt(t.max_hops_per_period)}` };
+    return {
+      class: 'hopping',
+      reason: `hops per period ${fmt(m.hopsPerPeriod)} > limit ${fmt(t.max_hops_per_period)}`,
+    };
   } else {
     passed.push(`hops per period ${fmt(m.hopsPerPeriod)} <= limit ${fmt(t.max_hops_per_period)}`);
   }
   if (m.gainOverStatic === null) {
     passed.push('gain test skipped (no static reference)');
   } else if (!(m.gainOverStatic >= t.min_gain_over_static)) {
-    return { class: 'no-gain', reason: `gain over static ${fmt(m.gainOverStatic)} < minimum ${fmt(t.min_gain_over_static)}` };
+    return {
+      class: 'no-gain',
+      reason: `gain over static ${fmt(m.gainOverStatic)} < minimum ${fmt(t.min_gain_over_static)}`,
+    };
   } else {
     passed.push(`gain over static ${fmt(m.gainOverStatic)} >= minimum ${fmt(t.min_gain_over_static)}`);
   }
   const frac = m.incoherentFraction ?? null;
   if (frac === null || t.min_incoherent_fraction === undefined) {
-    passed.push('incoherent-level test skipped (no phase-averaged level: no external cavity or no coupling into it)');
+    passed.push(
+      'incoherent-level test skipped (no phase-averaged level: no external cavity or no coupling into it)',
+    );
   } else if (!(frac >= t.min_incoherent_fraction)) {
     return {
       class: 'no-gain',
       reason: `gap power ${fmt(frac)} of the phase-averaged (decoupled) level < minimum ${fmt(t.min_incoherent_fraction)}: the dither does not decouple`,
     };
   } else {
-    passed.push(`gap power ${fmt(frac)} of the phase-averaged level >= minimum ${fmt(t.min_incoherent_fraction)}`);
+    passed.push(
+      `gap power ${fmt(frac)} of the phase-averaged level >= minimum ${fmt(t.min_incoherent_fraction)}`,
+    );
   }
   if (!Number.isFinite(m.rippleRel)) {
-    return { class: 'modulated', reason: `ripple undefined (${fmt(m.rippleRel)}; mean external power not positive)` };
+    return {
+      class: 'modulated',
+      reason: `ripple undefined (${fmt(m.rippleRel)}; mean external power not positive)`,
+    };
   }
   if (m.rippleRel > t.ripple_limit) {
     return { class: 'modulated', reason: `ripple ${fmt(m.rippleRel)} > limit ${fmt(t.ripple_limit)}` };

@@ -22,7 +22,8 @@ function table(header: string[], columns: ArrayLike<number>[]): string {
   const lines: string[] = [header.map(cell).join(',')];
   for (let i = 0; i < rows; i++) {
     const parts: string[] = new Array<string>(columns.length);
-    for (let c = 0; c < columns.length; c++) parts[c] = num(i < columns[c].length ? columns[c][i] : undefined);
+    for (let c = 0; c < columns.length; c++)
+      parts[c] = num(i < columns[c].length ? columns[c][i] : undefined);
     lines.push(parts.join(','));
   }
   return lines.join('\r\n') + '\r\n';

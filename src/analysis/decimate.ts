@@ -51,8 +51,10 @@ export class MinMaxDecimator {
   constructor(opts: MinMaxDecimatorOptions) {
     const { totalSamples, buckets } = opts;
     if (opts.channels.length === 0) throw new RangeError('MinMaxDecimator: at least one channel is needed');
-    if (!(Number.isInteger(totalSamples) && totalSamples >= 1)) throw new RangeError(`MinMaxDecimator: totalSamples must be a positive integer, found ${totalSamples}`);
-    if (!(Number.isInteger(buckets) && buckets >= 1)) throw new RangeError(`MinMaxDecimator: buckets must be a positive integer, found ${buckets}`);
+    if (!(Number.isInteger(totalSamples) && totalSamples >= 1))
+      throw new RangeError(`MinMaxDecimator: totalSamples must be a positive integer, found ${totalSamples}`);
+    if (!(Number.isInteger(buckets) && buckets >= 1))
+      throw new RangeError(`MinMaxDecimator: buckets must be a positive integer, found ${buckets}`);
     if (!(opts.dt_s > 0)) throw new RangeError(`MinMaxDecimator: dt_s must be positive, found ${opts.dt_s}`);
     this.channels = opts.channels.slice();
     this.nc = opts.channels.length;
@@ -71,7 +73,8 @@ export class MinMaxDecimator {
   /** Adds one sample of every channel (values[c] for channel c). Throws past totalSamples. */
   push(values: ArrayLike<number>): void {
     const i = this.n;
-    if (i >= this.totalSamples) throw new RangeError(`MinMaxDecimator: more than the announced ${this.totalSamples} samples`);
+    if (i >= this.totalSamples)
+      throw new RangeError(`MinMaxDecimator: more than the announced ${this.totalSamples} samples`);
     this.n = i + 1;
     const base = Math.floor(i / this.bucketSize) * this.nc;
     for (let c = 0; c < this.nc; c++) this.keepExtreme(base + c, values[c], i);
@@ -80,7 +83,8 @@ export class MinMaxDecimator {
   /** Adds one sample of a one-channel decimator. */
   pushScalar(v: number): void {
     const i = this.n;
-    if (i >= this.totalSamples) throw new RangeError(`MinMaxDecimator: more than the announced ${this.totalSamples} samples`);
+    if (i >= this.totalSamples)
+      throw new RangeError(`MinMaxDecimator: more than the announced ${this.totalSamples} samples`);
     if (this.nc !== 1) throw new RangeError('MinMaxDecimator: pushScalar needs exactly one channel');
     this.n = i + 1;
     this.keepExtreme(Math.floor(i / this.bucketSize), v, i);
@@ -133,7 +137,12 @@ export class MinMaxDecimator {
         }
       }
     }
-    const series: TraceSeries[] = this.channels.map((ch, c) => ({ key: ch.key, label: ch.label, unit: ch.unit, values: cols[c] }));
+    const series: TraceSeries[] = this.channels.map((ch, c) => ({
+      key: ch.key,
+      label: ch.label,
+      unit: ch.unit,
+      values: cols[c],
+    }));
     return { t_s: t, series, drive_period_s: drivePeriod_s };
   }
 }

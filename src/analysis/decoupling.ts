@@ -145,12 +145,29 @@ export function designRule(x: DesignRuleInput): DesignRuleResult {
   const peakDoppler = dopplerShift_Hz(x.peakSpeed_m_s, x.wavelength_m);
   const vLZ = landauZenerCriticalSpeed_m_s(x);
   if (x.fieldRatio === null || !Number.isFinite(x.fieldRatio)) {
-    return { injectionRate_per_s: null, lockingHalfWidth_Hz: null, criticalSpeed_m_s: null, criticalSpeedLandauZener_m_s: vLZ, peakDoppler_Hz: peakDoppler, fractionBelowCritical: null };
+    return {
+      injectionRate_per_s: null,
+      lockingHalfWidth_Hz: null,
+      criticalSpeed_m_s: null,
+      criticalSpeedLandauZener_m_s: vLZ,
+      peakDoppler_Hz: peakDoppler,
+      fractionBelowCritical: null,
+    };
   }
   const kappa = injectionRate_per_s(x, x.fieldRatio);
   const lock = lockingHalfWidth_Hz(kappa, x.alpha);
   const vc = criticalSpeed_m_s(lock, x.wavelength_m);
   const vPeak = x.waveform === 'off' ? 0 : x.peakSpeed_m_s;
-  const frac = x.waveform === 'triangle' ? fractionBelowCriticalTriangle(vc, vPeak) : fractionBelowCriticalSine(vc, vPeak);
-  return { injectionRate_per_s: kappa, lockingHalfWidth_Hz: lock, criticalSpeed_m_s: vc, criticalSpeedLandauZener_m_s: vLZ, peakDoppler_Hz: peakDoppler, fractionBelowCritical: frac };
+  const frac =
+    x.waveform === 'triangle'
+      ? fractionBelowCriticalTriangle(vc, vPeak)
+      : fractionBelowCriticalSine(vc, vPeak);
+  return {
+    injectionRate_per_s: kappa,
+    lockingHalfWidth_Hz: lock,
+    criticalSpeed_m_s: vc,
+    criticalSpeedLandauZener_m_s: vLZ,
+    peakDoppler_Hz: peakDoppler,
+    fractionBelowCritical: frac,
+  };
 }

@@ -9,7 +9,11 @@
  * Nyquist frequency fs / 2), at most maxCount (default 1000) of them. Empty for a still
  * mirror (f <= 0 or not finite).
  */
-export function driveHarmonics(driveFrequency_Hz: number, maxFrequency_Hz: number, maxCount = 1000): number[] {
+export function driveHarmonics(
+  driveFrequency_Hz: number,
+  maxFrequency_Hz: number,
+  maxCount = 1000,
+): number[] {
   const out: number[] = [];
   if (!(driveFrequency_Hz > 0) || !Number.isFinite(driveFrequency_Hz)) return out;
   // A relative slack keeps the harmonic that sits exactly at the limit despite rounding.

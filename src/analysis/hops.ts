@@ -71,8 +71,10 @@ export class HopDetector {
 
   constructor(opts: HopDetectorOptions) {
     if (!(opts.dt_s > 0)) throw new RangeError(`HopDetector: dt_s must be positive, found ${opts.dt_s}`);
-    if (!(opts.dwell_s >= 0)) throw new RangeError(`HopDetector: dwell_s must be >= 0, found ${opts.dwell_s}`);
-    if (!(Number.isInteger(opts.modeCount) && opts.modeCount >= 1)) throw new RangeError(`HopDetector: modeCount must be a positive integer, found ${opts.modeCount}`);
+    if (!(opts.dwell_s >= 0))
+      throw new RangeError(`HopDetector: dwell_s must be >= 0, found ${opts.dwell_s}`);
+    if (!(Number.isInteger(opts.modeCount) && opts.modeCount >= 1))
+      throw new RangeError(`HopDetector: modeCount must be a positive integer, found ${opts.modeCount}`);
     this.dt = opts.dt_s;
     // "longer than the dwell": a run of k samples lasts k dt; it qualifies when k dt > dwell.
     this.dwellSamples = Math.floor(opts.dwell_s / opts.dt_s + 1e-9) + 1;
@@ -89,7 +91,8 @@ export class HopDetector {
 
   /** Adds the dominant mode index of the next sample (an out-of-range index throws). */
   push(mode: number): void {
-    if (!(mode >= 0 && mode < this.occ.length)) throw new RangeError(`HopDetector: mode index ${mode} outside 0..${this.occ.length - 1}`);
+    if (!(mode >= 0 && mode < this.occ.length))
+      throw new RangeError(`HopDetector: mode index ${mode} outside 0..${this.occ.length - 1}`);
     const i = this.n++;
     this.occ[mode]++;
     if (mode === this.current) {

@@ -45,7 +45,8 @@ function axisValues(map: SweepMap, st: number[], index: number): Record<string, 
  */
 function pointScenario(scenario: Scenario, values: Record<string, number>): Scenario {
   const drive: Record<string, unknown> = { ...scenario.drive };
-  const act: Record<string, unknown> | undefined = scenario.actuator === undefined ? undefined : { ...scenario.actuator };
+  const act: Record<string, unknown> | undefined =
+    scenario.actuator === undefined ? undefined : { ...scenario.actuator };
   for (const [key, v] of Object.entries(values)) {
     const [head, field, ...rest] = key.split('.');
     if (rest.length > 0 || field === undefined) continue;
@@ -91,7 +92,8 @@ interface Cost {
 
 /** Lexicographic order: utilisation (when ranked by it), then voltage or stroke, then frequency. */
 function cheaper(a: Cost, b: Cost): boolean {
-  if (a.utilisation !== null && b.utilisation !== null && a.utilisation !== b.utilisation) return a.utilisation < b.utilisation;
+  if (a.utilisation !== null && b.utilisation !== null && a.utilisation !== b.utilisation)
+    return a.utilisation < b.utilisation;
   if (a.primary !== b.primary) return a.primary < b.primary;
   return a.frequency < b.frequency;
 }
@@ -123,7 +125,10 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   const ai = map.axes.findIndex((a) => a.key === ampKey);
   const fi = map.axes.findIndex((a) => a.key === freqKey);
   if (ai < 0 || fi < 0) {
-    return { recommended: null, recommended_reason: `no operating point: the map needs both ${ampKey} and ${freqKey} axes` };
+    return {
+      recommended: null,
+      recommended_reason: `no operating point: the map needs both ${ampKey} and ${freqKey} axes`,
+    };
   }
   const st = strides(map);
   const n = pointCount(map);
@@ -146,7 +151,10 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
     if (ok) withMargin.push(i);
   }
   if (decoupledCount === 0) {
-    return { recommended: null, recommended_reason: `no operating point: none of the ${n} map points is decoupled` };
+    return {
+      recommended: null,
+      recommended_reason: `no operating point: none of the ${n} map points is decoupled`,
+    };
   }
   if (withMargin.length === 0) {
     return {
@@ -156,7 +164,9 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   }
 
   const hasActuator = scenario.actuator !== undefined;
-  const byUtilisation = scenario.actuator !== undefined && (scenario.actuator.max_voltage !== undefined || scenario.actuator.max_current !== undefined);
+  const byUtilisation =
+    scenario.actuator !== undefined &&
+    (scenario.actuator.max_voltage !== undefined || scenario.actuator.max_current !== undefined);
   let best = -1;
   let bestCost: Cost | null = null;
   let reachableCount = 0;
@@ -182,7 +192,14 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
         frequency: values[freqKey],
       };
     } else {
-      cost = { utilisation: null, limitingKey: null, primary: strokePeakToPeak(s.drive), voltage: null, current: null, frequency: values[freqKey] };
+      cost = {
+        utilisation: null,
+        limitingKey: null,
+        primary: strokePeakToPeak(s.drive),
+        voltage: null,
+        current: null,
+        frequency: values[freqKey],
+      };
     }
     reachableCount++;
     if (bestCost === null || cheaper(cost, bestCost)) {

@@ -63,11 +63,16 @@ export function overlapSegments(total: number, n: number): number {
  * averaged spectrum, checked in one place so that every spectrum refuses the same input;
  * `owner` names the spectrum in the RangeError.
  */
-export function segmentSetup(owner: string, o: { dt_s: number; segmentLength: number; decimation?: number }): { n: number; d: number; sampleRate_Hz: number } {
+export function segmentSetup(
+  owner: string,
+  o: { dt_s: number; segmentLength: number; decimation?: number },
+): { n: number; d: number; sampleRate_Hz: number } {
   const n = o.segmentLength;
   const d = o.decimation ?? 1;
-  if (!isPowerOfTwo(n) || n < 8) throw new RangeError(`${owner}: segmentLength must be a power of two >= 8, found ${n}`);
-  if (!(Number.isInteger(d) && d >= 1)) throw new RangeError(`${owner}: decimation must be a positive integer, found ${d}`);
+  if (!isPowerOfTwo(n) || n < 8)
+    throw new RangeError(`${owner}: segmentLength must be a power of two >= 8, found ${n}`);
+  if (!(Number.isInteger(d) && d >= 1))
+    throw new RangeError(`${owner}: decimation must be a positive integer, found ${d}`);
   if (!(o.dt_s > 0)) throw new RangeError(`${owner}: dt_s must be positive, found ${o.dt_s}`);
   return { n, d, sampleRate_Hz: 1 / (d * o.dt_s) };
 }

@@ -142,7 +142,14 @@ export class WelchPsd {
       f[k] = (k * fs) / n;
       psd[k] = this.acc[k] * scale * (k === 0 || k === half ? 1 : 2);
     }
-    return { f_Hz: f, psd, resolution_Hz: fs / n, enbw_Hz: (1.5 * fs) / n, segments: this.nSeg, sampleRate_Hz: fs };
+    return {
+      f_Hz: f,
+      psd,
+      resolution_Hz: fs / n,
+      enbw_Hz: (1.5 * fs) / n,
+      segments: this.nSeg,
+      sampleRate_Hz: fs,
+    };
   }
 
   /**
@@ -160,7 +167,13 @@ export class WelchPsd {
       const rel = r.psd[k] / m2;
       values[k - 1] = rel > 0 ? Math.max(DB_FLOOR, 10 * Math.log10(rel)) : DB_FLOOR;
     }
-    return { f_Hz: r.f_Hz.slice(1), values, unit: 'dB/Hz', resolution_Hz: r.resolution_Hz, segments: r.segments };
+    return {
+      f_Hz: r.f_Hz.slice(1),
+      values,
+      unit: 'dB/Hz',
+      resolution_Hz: r.resolution_Hz,
+      segments: r.segments,
+    };
   }
 }
 

@@ -182,7 +182,15 @@ export class WeightedRunningStats {
   /** Snapshot; sampleVariance equals variance here (frequency weights). */
   result(): StatsResult {
     const v = this.variance;
-    return { count: this.n, mean: this.mean, variance: v, sampleVariance: v, std: Math.sqrt(v), min: this.lo, max: this.hi };
+    return {
+      count: this.n,
+      mean: this.mean,
+      variance: v,
+      sampleVariance: v,
+      std: Math.sqrt(v),
+      min: this.lo,
+      max: this.hi,
+    };
   }
 }
 

@@ -68,7 +68,12 @@ export function xoshiroState(seed: number): Int32Array {
   const p = mix64(x);
   x = (x + GOLDEN64) & MASK64;
   const q = mix64(x);
-  const s = Int32Array.of(Number(p & 0xffffffffn) | 0, Number(p >> 32n) | 0, Number(q & 0xffffffffn) | 0, Number(q >> 32n) | 0);
+  const s = Int32Array.of(
+    Number(p & 0xffffffffn) | 0,
+    Number(p >> 32n) | 0,
+    Number(q & 0xffffffffn) | 0,
+    Number(q >> 32n) | 0,
+  );
   if ((s[0] | s[1] | s[2] | s[3]) === 0) s[0] = 1;
   return s;
 }
@@ -79,11 +84,19 @@ export function xoshiroState(seed: number): Int32Array {
  * it), timing the last `steps` with process.hrtime. Returns the final state, the energy
  * sums and the timed wall time. Units as in the engine (fields sqrt(W), time s).
  */
-export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; Ei: ArrayLike<number>; N: ArrayLike<number> }, warmupSteps: number, steps: number): BareLoopResult {
+export function runBareLoop(
+  cfg: BareLoopConfig,
+  init: { Er: ArrayLike<number>; Ei: ArrayLike<number>; N: ArrayLike<number> },
+  warmupSteps: number,
+  steps: number,
+): BareLoopResult {
   const p = cfg.p;
   const M = p.M;
-  if (!p.hasExternal || p.classA || M < 2) throw new Error('bare loop: written for an external cavity, a class-B laser and at least two modes');
-  for (let m = 1; m < M; m++) if (p.modes.order[m] - p.modes.order[m - 1] !== 1) throw new Error('bare loop: written for equally spaced modes');
+  if (!p.hasExternal || p.classA || M < 2)
+    throw new Error('bare loop: written for an external cavity, a class-B laser and at least two modes');
+  for (let m = 1; m < M; m++)
+    if (p.modes.order[m] - p.modes.order[m - 1] !== 1)
+      throw new Error('bare loop: written for equally spaced modes');
   const L = cfg.laneOffsets_m.length;
   const LM = L * M;
   const dt = cfg.dt;
@@ -130,12 +143,22 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
   const aDel2 = new Float64Array(LM);
   const ringRe = new Float64Array(LM * cap);
   const ringIm = new Float64Array(LM * cap);
-  const e0r = new Float64Array(M), e0i = new Float64Array(M), n0 = new Float64Array(M);
-  const sr = new Float64Array(M), si = new Float64Array(M), sn = new Float64Array(M);
-  const accR = new Float64Array(M), accI = new Float64Array(M), accN = new Float64Array(M);
-  const kr = new Float64Array(M), ki = new Float64Array(M), kn = new Float64Array(M);
-  const bhr = new Float64Array(M), bhi = new Float64Array(M);
-  const b1r = new Float64Array(M), b1i = new Float64Array(M);
+  const e0r = new Float64Array(M),
+    e0i = new Float64Array(M),
+    n0 = new Float64Array(M);
+  const sr = new Float64Array(M),
+    si = new Float64Array(M),
+    sn = new Float64Array(M);
+  const accR = new Float64Array(M),
+    accI = new Float64Array(M),
+    accN = new Float64Array(M);
+  const kr = new Float64Array(M),
+    ki = new Float64Array(M),
+    kn = new Float64Array(M);
+  const bhr = new Float64Array(M),
+    bhi = new Float64Array(M);
+  const b1r = new Float64Array(M),
+    b1i = new Float64Array(M);
   const ad1 = new Float64Array(M);
   const sat = new Float64Array(M);
   const en = new Float64Array(L * 9);
@@ -153,7 +176,10 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
       ringIm[j * cap + head] = ai[j];
     }
   }
-  let s0 = cfg.rngState[0] | 0, s1 = cfg.rngState[1] | 0, s2 = cfg.rngState[2] | 0, s3 = cfg.rngState[3] | 0;
+  let s0 = cfg.rngState[0] | 0,
+    s1 = cfg.rngState[1] | 0,
+    s2 = cfg.rngState[2] | 0,
+    s3 = cfg.rngState[3] | 0;
   let hasSpare = false;
   let spare = 0;
   let noiseCount = 0;
@@ -186,23 +212,43 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
           let mm = Math.imul(s1, 5);
           let out = Math.imul((mm << 7) | (mm >>> 25), 9);
           let tt = s1 << 9;
-          s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= tt; s3 = (s3 << 11) | (s3 >>> 21);
+          s2 ^= s0;
+          s3 ^= s1;
+          s1 ^= s2;
+          s0 ^= s3;
+          s2 ^= tt;
+          s3 = (s3 << 11) | (s3 >>> 21);
           const a1 = (out >>> 0) >>> 5;
           mm = Math.imul(s1, 5);
           out = Math.imul((mm << 7) | (mm >>> 25), 9);
           tt = s1 << 9;
-          s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= tt; s3 = (s3 << 11) | (s3 >>> 21);
+          s2 ^= s0;
+          s3 ^= s1;
+          s1 ^= s2;
+          s0 ^= s3;
+          s2 ^= tt;
+          s3 = (s3 << 11) | (s3 >>> 21);
           const b1 = (out >>> 0) >>> 6;
           v1 = 2 * ((a1 * 67108864 + b1) * (1 / 9007199254740992)) - 1;
           mm = Math.imul(s1, 5);
           out = Math.imul((mm << 7) | (mm >>> 25), 9);
           tt = s1 << 9;
-          s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= tt; s3 = (s3 << 11) | (s3 >>> 21);
+          s2 ^= s0;
+          s3 ^= s1;
+          s1 ^= s2;
+          s0 ^= s3;
+          s2 ^= tt;
+          s3 = (s3 << 11) | (s3 >>> 21);
           const a2 = (out >>> 0) >>> 5;
           mm = Math.imul(s1, 5);
           out = Math.imul((mm << 7) | (mm >>> 25), 9);
           tt = s1 << 9;
-          s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= tt; s3 = (s3 << 11) | (s3 >>> 21);
+          s2 ^= s0;
+          s3 ^= s1;
+          s1 ^= s2;
+          s0 ^= s3;
+          s2 ^= tt;
+          s3 = (s3 << 11) | (s3 >>> 21);
           const b2 = (out >>> 0) >>> 6;
           v2 = 2 * ((a2 * 67108864 + b2) * (1 / 9007199254740992)) - 1;
           ss = v1 * v1 + v2 * v2;
@@ -228,7 +274,10 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
         const w2 = (-u * (u - 1) * (u - 3)) / 2;
         const w3 = (u * (u - 1) * (u - 2)) / 6;
         const h = head - start;
-        const o0 = h & mask, o1 = (h - 1) & mask, o2 = (h - 2) & mask, o3 = (h - 3) & mask;
+        const o0 = h & mask,
+          o1 = (h - 1) & mask,
+          o2 = (h - 2) & mask,
+          o3 = (h - 3) & mask;
         const ph = ph00 + ppm0 * x;
         let c = Math.cos(ph);
         let s = Math.sin(ph);
@@ -261,7 +310,9 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
       }
       // ---- four RK4 stages; stage k reads the state in (sr, si, sn) and the returned field
       // b(t) (stage 0), b(t + dt/2) (stages 1, 2) or b(t + dt) (stage 3)
-      let gainI = 0, lossI = 0, injI = 0;
+      let gainI = 0,
+        lossI = 0,
+        injI = 0;
       for (let stage = 0; stage < 4; stage++) {
         for (let m = 0; m < M; m++) {
           let sum = 0;
@@ -269,7 +320,9 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
           for (let k = 0; k < M; k++) sum += C[row + k] * (sr[k] * sr[k] + si[k] * si[k]);
           sat[m] = sum * invPsat;
         }
-        let gainP = 0, lossP = 0, injP = 0;
+        let gainP = 0,
+          lossP = 0,
+          injP = 0;
         for (let m = 0; m < M; m++) {
           const bR = stage === 0 ? br[off + m] : stage === 3 ? b1r[m] : bhr[m];
           const bI = stage === 0 ? bi[off + m] : stage === 3 ? b1i[m] : bhi[m];
@@ -313,7 +366,12 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
       en[eo] += w6 * gainI * tauL;
       en[eo + 1] += w6 * lossI * tauL;
       en[eo + 2] += w6 * injI * tauL;
-      let noiseE = 0, extIn = 0, extLost = 0, extScale = 0, mis = 0, misScale = 0;
+      let noiseE = 0,
+        extIn = 0,
+        extLost = 0,
+        extScale = 0,
+        mis = 0,
+        misScale = 0;
       for (let m = 0; m < M; m++) {
         const j = off + m;
         let re = e0r[m] + w6 * (accR[m] + kr[m]);
@@ -325,7 +383,10 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
           im += sigma * kick[2 * j + 1];
           noiseE += re * re + im * im - before;
         }
-        if (re * re + im * im < 1e-150) { re = 0; im = 0; }
+        if (re * re + im * im < 1e-150) {
+          re = 0;
+          im = 0;
+        }
         if (!(Number.isFinite(re) && Number.isFinite(im) && Number.isFinite(nn))) {
           throw new Error(`bare loop: non-finite field at step ${step}`);
         }
@@ -337,7 +398,10 @@ export function runBareLoop(cfg: BareLoopConfig, init: { Er: ArrayLike<number>; 
         const c1i = b1i[m];
         const a1r = cpl * re - r2 * c1r;
         const a1i = cpl * im - r2 * c1i;
-        const a0r = ar[j], a0i = ai[j], c0r = br[j], c0i = bi[j];
+        const a0r = ar[j],
+          a0i = ai[j],
+          c0r = br[j],
+          c0i = bi[j];
         const a02 = a0r * a0r + a0i * a0i;
         const a12 = a1r * a1r + a1i * a1i;
         const bb0 = c0r * c0r + c0i * c0i;

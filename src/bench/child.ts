@@ -9,9 +9,15 @@ import * as path from 'node:path';
  * Runs dist/bench/<script> with `args` and resolves with what it printed on stdout and
  * stderr; rejects when it cannot start or exits non-zero, naming it by `label`.
  */
-export function runBenchChild(script: string, args: string[], label: string): Promise<{ out: string; err: string }> {
+export function runBenchChild(
+  script: string,
+  args: string[],
+  label: string,
+): Promise<{ out: string; err: string }> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [path.join(__dirname, script), ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, [path.join(__dirname, script), ...args], {
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
     let out = '';
     let err = '';
     child.stdout.on('data', (d: Buffer) => (out += d.toString()));

@@ -55,7 +55,20 @@ function maxRelDiff(a: ArrayLike<number>, b: ArrayLike<number>): number {
 function engineEnergy(e: ExactEngine): Float64Array {
   const out = new Float64Array(e.L * 9);
   e.energy.forEach((x, l) => {
-    out.set([x.gain, x.coldLoss, x.injection, x.noise, x.externalIn, x.externalLost, x.externalScale, x.mismatch, x.mismatchScale], l * 9);
+    out.set(
+      [
+        x.gain,
+        x.coldLoss,
+        x.injection,
+        x.noise,
+        x.externalIn,
+        x.externalLost,
+        x.externalScale,
+        x.mismatch,
+        x.mismatchScale,
+      ],
+      l * 9,
+    );
   });
   return out;
 }
@@ -91,17 +104,29 @@ export function measureExactVsBare(s: Scenario, o: ExactRateOptions): ExactRateR
     laneOffsets_m: laneOffsets,
     dt,
     maxExcursion_m: maxExcursion,
-    drive: { offset_m: drive.offset_m, drift_m_s: drive.drift_m_s, amplitude_m: drive.amplitude_m, omega_rad_s: drive.omega_rad_s, phase_rad: drive.phase_rad },
+    drive: {
+      offset_m: drive.offset_m,
+      drift_m_s: drive.drift_m_s,
+      amplitude_m: drive.amplitude_m,
+      omega_rad_s: drive.omega_rad_s,
+      phase_rad: drive.phase_rad,
+    },
     noiseEvery: probe.noiseEvery,
     rngState: xoshiroState(noiseSeed),
   };
-  if (s.drive.waveform !== 'sine' || drive.hasVibration) throw new Error('bench: the bare loop is written for a sine drive without vibration');
+  if (s.drive.waveform !== 'sine' || drive.hasVibration)
+    throw new Error('bench: the bare loop is written for a sine drive without vibration');
 
   // same start, same seed: the two must agree bit for bit (this also warms up the JIT)
   log(`a. checking the bare loop against ExactEngine over ${o.checkSteps} steps`);
   probe.advance(o.checkSteps);
   const bare = runBareLoop(cfg, free, 0, o.checkSteps);
-  const diff = Math.max(maxRelDiff(probe.Er, bare.Er), maxRelDiff(probe.Ei, bare.Ei), maxRelDiff(probe.N, bare.N), maxRelDiff(engineEnergy(probe), bare.energy));
+  const diff = Math.max(
+    maxRelDiff(probe.Er, bare.Er),
+    maxRelDiff(probe.Ei, bare.Ei),
+    maxRelDiff(probe.N, bare.N),
+    maxRelDiff(engineEnergy(probe), bare.energy),
+  );
 
   const modeSteps = o.stepsPerRound * L * M;
   const engine = newEngine();
@@ -120,7 +145,9 @@ export function measureExactVsBare(s: Scenario, o: ExactRateOptions): ExactRateR
     const b = runBareLoop(cfg, free, o.warmupSteps, o.stepsPerRound);
     bareWall += b.timed_s;
     bareRounds.push(modeSteps / b.timed_s);
-    log(`a. round ${r + 1}/${o.rounds}: exact ${(exactRounds[r] / 1e6).toFixed(2)} M mode-steps/s, bare ${(bareRounds[r] / 1e6).toFixed(2)} M mode-steps/s`);
+    log(
+      `a. round ${r + 1}/${o.rounds}: exact ${(exactRounds[r] / 1e6).toFixed(2)} M mode-steps/s, bare ${(bareRounds[r] / 1e6).toFixed(2)} M mode-steps/s`,
+    );
   }
   const exactRate = (modeSteps * o.rounds) / exactWall;
   const bareRate = (modeSteps * o.rounds) / bareWall;

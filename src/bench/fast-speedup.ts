@@ -22,7 +22,10 @@ import { staticSettleTime } from '../simulate/run';
  */
 export function fastValidSpeed(s: Scenario, margin: number): number {
   const { derived, params } = deriveAll(s);
-  return (margin * FAST_VALID_FRACTION * s.laser.wavelength) / (2 * derived.finesse_external * params.roundTripExternal_s);
+  return (
+    (margin * FAST_VALID_FRACTION * s.laser.wavelength) /
+    (2 * derived.finesse_external * params.roundTripExternal_s)
+  );
 }
 
 export interface SpeedupOptions {
@@ -121,7 +124,9 @@ export function measureFastSpeedup(base: Scenario, o: SpeedupOptions): SpeedupCa
       planner_reason: auto.driven.reason,
       phase_per_roundtrip_over_width: auto.basis.phasePerRoundTrip_rad / auto.basis.resonanceWidth_rad,
     };
-    log(`b. ${f} Hz: exact ${exactRate.toFixed(0)} s/s, fast ${fastRate.toFixed(1)} s/s, speed-up ${c.speedup.toFixed(1)}x; planner: ${c.planner_choice}`);
+    log(
+      `b. ${f} Hz: exact ${exactRate.toFixed(0)} s/s, fast ${fastRate.toFixed(1)} s/s, speed-up ${c.speedup.toFixed(1)}x; planner: ${c.planner_choice}`,
+    );
     out.push(c);
   }
   return out;

@@ -19,8 +19,19 @@ import { formatTable, TableRow } from './table';
 export const BENCH_SETTINGS = {
   exact: { lanes: 8, warmupSteps: 30_000, stepsPerRound: 150_000, rounds: 2, checkSteps: 20_000 },
   /** peak speed: half the speed at which the planner stops trusting the mean-field engine */
-  speedup: { frequencies_Hz: [1e3, 2e4, 2e5], validityMargin: 0.5, simulated_s: 40e-6, minFastWall_s: 0.5, lanes: 8 },
-  map: { points: 32, amplitude_m: [1e-9, 1e-5] as [number, number], frequency_Hz: [100, 1e6] as [number, number], subsetIndices: [0, 10, 21, 31] },
+  speedup: {
+    frequencies_Hz: [1e3, 2e4, 2e5],
+    validityMargin: 0.5,
+    simulated_s: 40e-6,
+    minFastWall_s: 0.5,
+    lanes: 8,
+  },
+  map: {
+    points: 32,
+    amplitude_m: [1e-9, 1e-5] as [number, number],
+    frequency_Hz: [100, 1e6] as [number, number],
+    subsetIndices: [0, 10, 21, 31],
+  },
   /** the demo's analysed window at 200 kHz: periods 20 is raised to 80 (four 10 kHz detection windows) */
   memoryShortPeriods: 80,
 } as const;
@@ -34,28 +45,52 @@ const TARGETS = {
 
 async function main(): Promise<void> {
   const t0 = Date.now();
-  const log = (line: string) => process.stderr.write(`[bench ${((Date.now() - t0) / 1000).toFixed(0).padStart(4)} s] ${line}\n`);
+  const log = (line: string) =>
+    process.stderr.write(`[bench ${((Date.now() - t0) / 1000).toFixed(0).padStart(4)} s] ${line}\n`);
   const loadStart = os.loadavg();
   const demo = loadDemo();
-  log(`demo: ${DEMO_FILE}; ${os.cpus().length} cpus, node ${process.version}, load average ${loadStart.map((x) => x.toFixed(2)).join(' ')}`);
+  log(
+    `demo: ${DEMO_FILE}; ${os.cpus().length} cpus, node ${process.version}, load average ${loadStart.map((x) => x.toFixed(2)).join(' ')}`,
+  );
 
   log('a. exact engine against the bare loop');
   const a = measureExactVsBare(demo, { ...BENCH_SETTINGS.exact, log });
 
   const vPeak = fastValidSpeed(demo, BENCH_SETTINGS.speedup.validityMargin);
-  log(`b. fast over exact engine at peak speed ${vPeak.toPrecision(3)} m/s (half the planner's validity limit)`);
-  const b = measureFastSpeedup(demo, { ...BENCH_SETTINGS.speedup, peakSpeed_m_s: vPeak, frequencies_Hz: [...BENCH_SETTINGS.speedup.frequencies_Hz], log });
+  log(
+    `b. fast over exact engine at peak speed ${vPeak.toPrecision(3)} m/s (half the planner's validity limit)`,
+  );
+  const b = measureFastSpeedup(demo, {
+    ...BENCH_SETTINGS.speedup,
+    peakSpeed_m_s: vPeak,
+    frequencies_Hz: [...BENCH_SETTINGS.speedup.frequencies_Hz],
+    log,
+  });
 
   log('c. how much a second core adds on this machine: one CPU-bound child alone, then two at once');
   const pair = await measureCpuPair();
-  log(`c. alone ${pair.alone_s.toFixed(2)} s, two at once ${pair.pair_s.map((x) => x.toFixed(2)).join(' s, ')} s: ${pair.pair_speedup.toFixed(2)} x`);
+  log(
+    `c. alone ${pair.alone_s.toFixed(2)} s, two at once ${pair.pair_s.map((x) => x.toFixed(2)).join(' s, ')} s: ${pair.pair_speedup.toFixed(2)} x`,
+  );
 
-  log(`c. map timing on the bench profile (${Object.entries(BENCH_PROFILE).map(([k, v]) => `${k} ${v}`).join(', ')})`);
-  const c = await measureMap(benchScenario(), { ...BENCH_SETTINGS.map, subsetIndices: [...BENCH_SETTINGS.map.subsetIndices], log });
+  log(
+    `c. map timing on the bench profile (${Object.entries(BENCH_PROFILE)
+      .map(([k, v]) => `${k} ${v}`)
+      .join(', ')})`,
+  );
+  const c = await measureMap(benchScenario(), {
+    ...BENCH_SETTINGS.map,
+    subsetIndices: [...BENCH_SETTINGS.map.subsetIndices],
+    log,
+  });
 
-  log(`d. memory: ${BENCH_SETTINGS.memoryShortPeriods} and ${10 * BENCH_SETTINGS.memoryShortPeriods} periods in two child processes`);
+  log(
+    `d. memory: ${BENCH_SETTINGS.memoryShortPeriods} and ${10 * BENCH_SETTINGS.memoryShortPeriods} periods in two child processes`,
+  );
   const d = await measureMemory(BENCH_SETTINGS.memoryShortPeriods);
-  log(`d. short ${(d.short.max_rss_bytes / 2 ** 20).toFixed(1)} MiB, long ${(d.long.max_rss_bytes / 2 ** 20).toFixed(1)} MiB`);
+  log(
+    `d. short ${(d.short.max_rss_bytes / 2 ** 20).toFixed(1)} MiB, long ${(d.long.max_rss_bytes / 2 ** 20).toFixed(1)} MiB`,
+  );
 
   const holds = {
     exact_vs_bare_ratio: a.exact_vs_bare_ratio >= TARGETS.exact_vs_bare_ratio,
@@ -70,7 +105,8 @@ async function main(): Promise<void> {
     date: new Date().toISOString(),
     machine: {
       cpus: os.cpus().length,
-      available_parallelism: typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length,
+      available_parallelism:
+        typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length,
       cpu_model: os.cpus()[0]?.model ?? 'unknown',
       node: process.version,
       v8: process.versions.v8,
@@ -98,7 +134,10 @@ async function main(): Promise<void> {
       exact_vs_bare_ratio: { target: `>= ${TARGETS.exact_vs_bare_ratio}`, holds: holds.exact_vs_bare_ratio },
       map_wall_s_jobs2: { target: `<= ${TARGETS.map_wall_s_jobs2} s`, holds: holds.map_wall_s_jobs2 },
       jobs2_speedup: { target: `>= ${TARGETS.jobs2_speedup}`, holds: holds.jobs2_speedup },
-      rss_long_over_short: { target: `within ${Math.round((TARGETS.rss_ratio - 1) * 100)} %`, holds: holds.rss_ratio },
+      rss_long_over_short: {
+        target: `within ${Math.round((TARGETS.rss_ratio - 1) * 100)} %`,
+        holds: holds.rss_ratio,
+      },
     },
     details: {
       settings: BENCH_SETTINGS,
@@ -107,10 +146,12 @@ async function main(): Promise<void> {
       fast_vs_exact: b,
       map: {
         ...c,
-        note:
-          'extrapolated: a 4 x 4 sub-grid of the 32 x 32 axis values run on the bench profile; full map = R + (subset wall - R) x 1024 / 16, R the references computed once per worker',
+        note: 'extrapolated: a 4 x 4 sub-grid of the 32 x 32 axis values run on the bench profile; full map = R + (subset wall - R) x 1024 / 16, R the references computed once per worker',
       },
-      cpu_pair: { ...pair, note: 'the bare loop in one child process alone, then in two at once: the two-worker ceiling of this machine at the time of the run' },
+      cpu_pair: {
+        ...pair,
+        note: 'the bare loop in one child process alone, then in two at once: the two-worker ceiling of this machine at the time of the run',
+      },
       memory: {
         ...d,
         note: 'demo on the bench profile (one rest offset), each run in its own child process; the long run has simulation.periods x 10',
@@ -128,20 +169,54 @@ async function main(): Promise<void> {
     ['exact engine, mode-steps/s (8 lanes, demo)', e3(a.exact_mode_steps_per_s), '', ''],
     ['bare typed-array loop, mode-steps/s', e3(a.bare_loop_mode_steps_per_s), '', ''],
     ['exact / bare', a.exact_vs_bare_ratio.toFixed(2), '>= 0.5', yes(holds.exact_vs_bare_ratio)],
-    ...b.map((x): TableRow => [`fast / exact speed-up at ${x.frequency_Hz} Hz, ${vPeak.toPrecision(2)} m/s (planner: ${x.planner_choice})`, `${x.speedup.toFixed(1)} x`, '', '']),
-    [`map 32 x 32, 1 worker (extrapolated from ${c.map_points_measured} points)`, `${c.map_wall_s_jobs1.toFixed(0)} s`, '', ''],
-    [`map 32 x 32, 2 workers (extrapolated from ${c.map_points_measured} points)`, `${c.map_wall_s_jobs2.toFixed(0)} s`, '<= 60 s', yes(holds.map_wall_s_jobs2)],
-    ['2 workers over 1 (extrapolated map)', `${c.jobs2_speedup.toFixed(2)} x`, '>= 1.8 x', yes(holds.jobs2_speedup)],
-    [`  measured sub-grid: 1 worker ${c.subset_wall_s_jobs1.toFixed(1)} s, 2 workers ${c.subset_wall_s_jobs2.toFixed(1)} s`, `${c.subset_jobs2_speedup.toFixed(2)} x`, '', ''],
-    ['  two CPU-bound processes over one on this machine (ceiling)', `${pair.pair_speedup.toFixed(2)} x`, '', ''],
+    ...b.map((x): TableRow => [
+      `fast / exact speed-up at ${x.frequency_Hz} Hz, ${vPeak.toPrecision(2)} m/s (planner: ${x.planner_choice})`,
+      `${x.speedup.toFixed(1)} x`,
+      '',
+      '',
+    ]),
+    [
+      `map 32 x 32, 1 worker (extrapolated from ${c.map_points_measured} points)`,
+      `${c.map_wall_s_jobs1.toFixed(0)} s`,
+      '',
+      '',
+    ],
+    [
+      `map 32 x 32, 2 workers (extrapolated from ${c.map_points_measured} points)`,
+      `${c.map_wall_s_jobs2.toFixed(0)} s`,
+      '<= 60 s',
+      yes(holds.map_wall_s_jobs2),
+    ],
+    [
+      '2 workers over 1 (extrapolated map)',
+      `${c.jobs2_speedup.toFixed(2)} x`,
+      '>= 1.8 x',
+      yes(holds.jobs2_speedup),
+    ],
+    [
+      `  measured sub-grid: 1 worker ${c.subset_wall_s_jobs1.toFixed(1)} s, 2 workers ${c.subset_wall_s_jobs2.toFixed(1)} s`,
+      `${c.subset_jobs2_speedup.toFixed(2)} x`,
+      '',
+      '',
+    ],
+    [
+      '  two CPU-bound processes over one on this machine (ceiling)',
+      `${pair.pair_speedup.toFixed(2)} x`,
+      '',
+      '',
+    ],
     [`peak RSS, ${d.short.periods} periods`, mib(d.short.max_rss_bytes), '', ''],
     [`peak RSS, ${d.long.periods} periods`, mib(d.long.max_rss_bytes), '', ''],
     ['long / short RSS', d.ratio.toFixed(3), 'within 10 %', yes(holds.rss_ratio)],
   ];
-  process.stdout.write(`\ndithercav bench, ${report.date}, ${report.machine.cpus} x ${report.machine.cpu_model}, node ${process.version}\n\n`);
+  process.stdout.write(
+    `\ndithercav bench, ${report.date}, ${report.machine.cpus} x ${report.machine.cpu_model}, node ${process.version}\n\n`,
+  );
   process.stdout.write(formatTable(['quantity', 'measured', 'target', 'holds'], rows));
   process.stdout.write(
-    `\nMap figures are extrapolated (bench profile: ${Object.entries(BENCH_PROFILE).map(([k, v]) => `${k} ${v}`).join(', ')}; ` +
+    `\nMap figures are extrapolated (bench profile: ${Object.entries(BENCH_PROFILE)
+      .map(([k, v]) => `${k} ${v}`)
+      .join(', ')}; ` +
       `${c.map_points_measured} of ${c.map_points_full} points run). Written to ${BENCH_JSON} in ${((Date.now() - t0) / 1000).toFixed(0)} s.\n`,
   );
 }

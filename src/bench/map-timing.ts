@@ -51,7 +51,11 @@ export interface MapTimingResult {
   points: MapPointTiming[];
 }
 
-async function timedSweep(s: Scenario, jobs: number, log: (line: string) => void): Promise<{ wall_s: number; dir: string; points: MapPointTiming[] }> {
+async function timedSweep(
+  s: Scenario,
+  jobs: number,
+  log: (line: string) => void,
+): Promise<{ wall_s: number; dir: string; points: MapPointTiming[] }> {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), `dithercav-bench-j${jobs}-`));
   const t0 = process.hrtime.bigint();
   try {
@@ -59,18 +63,39 @@ async function timedSweep(s: Scenario, jobs: number, log: (line: string) => void
       outDir: dir,
       jobs,
       onProgress: (done, total, rec) => {
-        if (rec) log(`c. jobs ${jobs}: ${done}/${total} points (last: ${rec.summary.engine ?? '-'} engine, ${rec.wall_s.toFixed(1)} s)`);
+        if (rec)
+          log(
+            `c. jobs ${jobs}: ${done}/${total} points (last: ${rec.summary.engine ?? '-'} engine, ${rec.wall_s.toFixed(1)} s)`,
+          );
       },
     });
     const wall_s = Number(process.hrtime.bigint() - t0) / 1e9;
-    const lines = fs.readFileSync(path.join(dir, 'points.ndjson'), 'utf8').split('\n').filter((l) => l.trim() !== '');
-    const recs = lines.map((l) => JSON.parse(l) as { index: number; axes: Record<string, number>; summary: { engine: string | null; class: string }; wall_s: number });
+    const lines = fs
+      .readFileSync(path.join(dir, 'points.ndjson'), 'utf8')
+      .split('\n')
+      .filter((l) => l.trim() !== '');
+    const recs = lines.map(
+      (l) =>
+        JSON.parse(l) as {
+          index: number;
+          axes: Record<string, number>;
+          summary: { engine: string | null; class: string };
+          wall_s: number;
+        },
+    );
     recs.sort((a, b) => a.index - b.index);
-    if (out.failed > 0) log(`c. jobs ${jobs}: ${out.failed} point(s) failed numerically (kept in the timing)`);
+    if (out.failed > 0)
+      log(`c. jobs ${jobs}: ${out.failed} point(s) failed numerically (kept in the timing)`);
     return {
       wall_s,
       dir,
-      points: recs.map((r) => ({ amplitude_m: r.axes['drive.amplitude'], frequency_Hz: r.axes['drive.frequency'], engine: r.summary.engine, class: r.summary.class, wall_s: r.wall_s })),
+      points: recs.map((r) => ({
+        amplitude_m: r.axes['drive.amplitude'],
+        frequency_Hz: r.axes['drive.frequency'],
+        engine: r.summary.engine,
+        class: r.summary.class,
+        wall_s: r.wall_s,
+      })),
     };
   } finally {
     fs.rmSync(dir, { recursive: true, force: true });

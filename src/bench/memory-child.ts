@@ -10,7 +10,9 @@ import { benchScenario } from './profile';
 function main(): void {
   const periods = Number(process.argv[2]);
   if (!Number.isInteger(periods) || periods < 1) {
-    process.stderr.write(`memory-child: expected a whole number of periods >= 1, found '${process.argv[2] ?? ''}'\n`);
+    process.stderr.write(
+      `memory-child: expected a whole number of periods >= 1, found '${process.argv[2] ?? ''}'\n`,
+    );
     process.exit(2);
   }
   const s = benchScenario({ 'simulation.periods': periods });

@@ -26,7 +26,9 @@ export async function runMemoryChild(periods: number): Promise<MemoryRun> {
 }
 
 /** The short and the ten-times-longer run, side by side (two processes at once). */
-export async function measureMemory(shortPeriods: number): Promise<{ short: MemoryRun; long: MemoryRun; ratio: number }> {
+export async function measureMemory(
+  shortPeriods: number,
+): Promise<{ short: MemoryRun; long: MemoryRun; ratio: number }> {
   const [short, long] = await Promise.all([runMemoryChild(shortPeriods), runMemoryChild(10 * shortPeriods)]);
   return { short, long, ratio: long.max_rss_bytes / short.max_rss_bytes };
 }

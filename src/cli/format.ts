@@ -7,7 +7,10 @@ import { formatSI } from '../scenario/units';
 import type { SweepMap } from '../results/map';
 
 /** True if text written to `stream` may carry ANSI styling: a TTY and NO_COLOR unset or empty. */
-export function colourAllowed(stream: { isTTY?: boolean } = process.stdout, env: NodeJS.ProcessEnv = process.env): boolean {
+export function colourAllowed(
+  stream: { isTTY?: boolean } = process.stdout,
+  env: NodeJS.ProcessEnv = process.env,
+): boolean {
   if (env.NO_COLOR !== undefined && env.NO_COLOR !== '') return false;
   return stream.isTTY === true;
 }
@@ -84,7 +87,11 @@ export function formatNumber(value: number | null | undefined, digits = 4): stri
  * is and why, or why there is none; null for a map without both drive axes, which has no
  * operating point to speak of.
  */
-export function recommendedPointLine(map: Pick<SweepMap, 'recommended' | 'recommended_reason' | 'amplitude_key' | 'frequency_key'>): string | null {
+export function recommendedPointLine(
+  map: Pick<SweepMap, 'recommended' | 'recommended_reason' | 'amplitude_key' | 'frequency_key'>,
+): string | null {
   if (map.amplitude_key === null || map.frequency_key === null) return null;
-  return map.recommended !== null ? `recommended operating point: ${map.recommended.reason}` : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
+  return map.recommended !== null
+    ? `recommended operating point: ${map.recommended.reason}`
+    : `no recommended operating point: ${map.recommended_reason.replace(/^no operating point: /, '')}`;
 }

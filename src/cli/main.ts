@@ -48,14 +48,23 @@ export function buildProgram(ctx: CommandContext): Command {
 /** Run the CLI; resolves to the process exit code. Never lets a stack trace reach the user. */
 export async function main(argv: string[]): Promise<number> {
   let code: ExitCode = 0;
-  const ctx: CommandContext = { setExit: (c) => { if (c > code) code = c; } };
+  const ctx: CommandContext = {
+    setExit: (c) => {
+      if (c > code) code = c;
+    },
+  };
   const program = buildProgram(ctx);
   try {
     await program.parseAsync(argv);
     return code;
   } catch (err) {
     if (err instanceof CommanderError) {
-      if (err.code === 'commander.helpDisplayed' || err.code === 'commander.version' || err.code === 'commander.help') return 0;
+      if (
+        err.code === 'commander.helpDisplayed' ||
+        err.code === 'commander.version' ||
+        err.code === 'commander.help'
+      )
+        return 0;
       return 2;
     }
     if (err instanceof InputError) {

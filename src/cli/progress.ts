@@ -12,7 +12,10 @@ export function underCI(env: NodeJS.ProcessEnv = process.env): boolean {
 }
 
 /** True when a live bar may be drawn: the stream is a TTY and CI is unset or empty. */
-export function interactive(stream: { isTTY?: boolean } = process.stderr, env: NodeJS.ProcessEnv = process.env): boolean {
+export function interactive(
+  stream: { isTTY?: boolean } = process.stderr,
+  env: NodeJS.ProcessEnv = process.env,
+): boolean {
   return stream.isTTY === true && (env.CI === undefined || env.CI === '' || env.CI === 'false');
 }
 
@@ -38,7 +41,13 @@ function formatRate(r: number): string {
  * The plain progress line: "sweep demo: 64/256 points, 2.1 points/s, ETA 1m30s".
  * Rate in units per second; the ETA is left out while the rate is unknown (nothing done yet).
  */
-export function formatProgressLine(label: string, done: number, total: number, ratePerS: number, unit = 'points'): string {
+export function formatProgressLine(
+  label: string,
+  done: number,
+  total: number,
+  ratePerS: number,
+  unit = 'points',
+): string {
   const parts = [`${label}: ${done}/${total} ${unit}`];
   if (ratePerS > 0 && Number.isFinite(ratePerS)) {
     parts.push(`${formatRate(ratePerS)} ${unit}/s`);
@@ -182,10 +191,18 @@ export interface RunProgress {
  * interactive terminal, else a plain line every ~10 s or 10 %, nothing when quiet.
  * The ETA assumes the rest goes at the average pace so far.
  */
-export function createRunProgress(opts: { label: string; quiet?: boolean; stream?: NodeJS.WriteStream; plain?: boolean; intervalS?: number; now?: () => number }): RunProgress {
+export function createRunProgress(opts: {
+  label: string;
+  quiet?: boolean;
+  stream?: NodeJS.WriteStream;
+  plain?: boolean;
+  intervalS?: number;
+  now?: () => number;
+}): RunProgress {
   const stream = opts.stream ?? process.stderr;
   const now = opts.now ?? (() => Date.now());
-  if (opts.quiet || (!opts.plain && opts.stream === undefined && underCI())) return { onProgress: () => undefined, stop: () => undefined };
+  if (opts.quiet || (!opts.plain && opts.stream === undefined && underCI()))
+    return { onProgress: () => undefined, stop: () => undefined };
   const t0 = now();
   const eta = (f: number) => {
     const dt = (now() - t0) / 1000;

@@ -13,7 +13,8 @@ import { writeRunReport } from '../report/run-report';
 /** Write the folder; returns the path of report.html, or null with the reason printed if the report failed. */
 export function writeRunFolder(dir: string, a: RunArtifacts, label = 'dithercav'): string | null {
   fs.mkdirSync(dir, { recursive: true });
-  const put = (name: string, v: unknown) => fs.writeFileSync(path.join(dir, name), `${JSON.stringify(v, null, 1)}\n`);
+  const put = (name: string, v: unknown) =>
+    fs.writeFileSync(path.join(dir, name), `${JSON.stringify(v, null, 1)}\n`);
   if (a.traces) {
     put(RUN_FILES.traces, a.traces);
     fs.writeFileSync(path.join(dir, RUN_FILES.tracesCsv), traceSetToCsv(a.traces));

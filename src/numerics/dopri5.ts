@@ -77,19 +77,45 @@ export interface Dopri5Step {
 }
 
 // Butcher tableau, HNW I Table 5.2 (Dormand & Prince 1980)
-const C2 = 1 / 5, C3 = 3 / 10, C4 = 4 / 5, C5 = 8 / 9;
+const C2 = 1 / 5,
+  C3 = 3 / 10,
+  C4 = 4 / 5,
+  C5 = 8 / 9;
 const A21 = 1 / 5;
-const A31 = 3 / 40, A32 = 9 / 40;
-const A41 = 44 / 45, A42 = -56 / 15, A43 = 32 / 9;
-const A51 = 19372 / 6561, A52 = -25360 / 2187, A53 = 64448 / 6561, A54 = -212 / 729;
-const A61 = 9017 / 3168, A62 = -355 / 33, A63 = 46732 / 5247, A64 = 49 / 176, A65 = -5103 / 18656;
+const A31 = 3 / 40,
+  A32 = 9 / 40;
+const A41 = 44 / 45,
+  A42 = -56 / 15,
+  A43 = 32 / 9;
+const A51 = 19372 / 6561,
+  A52 = -25360 / 2187,
+  A53 = 64448 / 6561,
+  A54 = -212 / 729;
+const A61 = 9017 / 3168,
+  A62 = -355 / 33,
+  A63 = 46732 / 5247,
+  A64 = 49 / 176,
+  A65 = -5103 / 18656;
 // 5th-order weights b_i, equal to row 7 of A (FSAL)
-const A71 = 35 / 384, A73 = 500 / 1113, A74 = 125 / 192, A75 = -2187 / 6784, A76 = 11 / 84;
+const A71 = 35 / 384,
+  A73 = 500 / 1113,
+  A74 = 125 / 192,
+  A75 = -2187 / 6784,
+  A76 = 11 / 84;
 // error weights e_i = b_i - bhat_i (bhat: the embedded 4th-order weights)
-const E1 = 71 / 57600, E3 = -71 / 16695, E4 = 71 / 1920, E5 = -17253 / 339200, E6 = 22 / 525, E7 = -1 / 40;
+const E1 = 71 / 57600,
+  E3 = -71 / 16695,
+  E4 = 71 / 1920,
+  E5 = -17253 / 339200,
+  E6 = 22 / 525,
+  E7 = -1 / 40;
 // continuous extension (HNW I section II.6; DOPRI5 code by Hairer & Wanner)
-const D1 = -12715105075 / 11282082432, D3 = 87487479700 / 32700410799, D4 = -10690763975 / 1880347072;
-const D5 = 701980252875 / 199316789632, D6 = -1453857185 / 822651844, D7 = 69997945 / 29380423;
+const D1 = -12715105075 / 11282082432,
+  D3 = 87487479700 / 32700410799,
+  D4 = -10690763975 / 1880347072;
+const D5 = 701980252875 / 199316789632,
+  D6 = -1453857185 / 822651844,
+  D7 = 69997945 / 29380423;
 
 /** Dense output of the last accepted step; reused, so onStep allocates nothing. */
 class DenseStep implements Dopri5Step {
@@ -125,7 +151,8 @@ class DenseStep implements Dopri5Step {
 }
 
 function positive(name: string, v: number): number {
-  if (!(v > 0) || !Number.isFinite(v)) throw new RangeError(`dopri5 option ${name} must be a positive finite number, got ${v}`);
+  if (!(v > 0) || !Number.isFinite(v))
+    throw new RangeError(`dopri5 option ${name} must be a positive finite number, got ${v}`);
   return v;
 }
 
@@ -159,7 +186,8 @@ export function dopri5(
 ): Dopri5Result {
   const n = y0.length;
   if (n < 1) throw new RangeError('dopri5 needs a state of dimension >= 1');
-  if (!Number.isFinite(t0) || !Number.isFinite(t1)) throw new RangeError(`dopri5 needs finite t0, t1, got ${t0}, ${t1}`);
+  if (!Number.isFinite(t0) || !Number.isFinite(t1))
+    throw new RangeError(`dopri5 needs finite t0, t1, got ${t0}, ${t1}`);
   const rtol = options.rtol ?? 1e-6;
   const atolOpt = options.atol ?? 1e-9;
   if (!(rtol >= 0)) throw new RangeError(`dopri5 option rtol must be >= 0, got ${rtol}`);
@@ -168,32 +196,51 @@ export function dopri5(
     if (!(atolOpt >= 0)) throw new RangeError(`dopri5 option atol must be >= 0, got ${atolOpt}`);
     atol.fill(atolOpt);
   } else {
-    if (atolOpt.length !== n) throw new RangeError(`dopri5 option atol has length ${atolOpt.length}, expected ${n}`);
+    if (atolOpt.length !== n)
+      throw new RangeError(`dopri5 option atol has length ${atolOpt.length}, expected ${n}`);
     atol.set(atolOpt);
   }
   for (let i = 0; i < n; i++) {
-    if (!(atol[i] > 0) && !(rtol > 0)) throw new RangeError('dopri5 needs rtol > 0 or atol > 0 for every component');
+    if (!(atol[i] > 0) && !(rtol > 0))
+      throw new RangeError('dopri5 needs rtol > 0 or atol > 0 for every component');
   }
   const span = Math.abs(t1 - t0);
   const hMax = options.hMax === undefined ? span : positive('hMax', options.hMax);
   const hMin = options.hMin ?? 0;
   if (!(hMin >= 0)) throw new RangeError(`dopri5 option hMin must be >= 0, got ${hMin}`);
   const maxSteps = options.maxSteps ?? 100000;
-  if (!Number.isInteger(maxSteps) || maxSteps < 1) throw new RangeError(`dopri5 option maxSteps must be a positive integer, got ${maxSteps}`);
+  if (!Number.isInteger(maxSteps) || maxSteps < 1)
+    throw new RangeError(`dopri5 option maxSteps must be a positive integer, got ${maxSteps}`);
   const safety = positive('safety', options.safety ?? 0.9);
   const minFactor = positive('minFactor', options.minFactor ?? 0.2);
   const maxFactor = positive('maxFactor', options.maxFactor ?? 10);
-  if (minFactor > 1 || maxFactor < 1) throw new RangeError(`dopri5 needs minFactor <= 1 <= maxFactor, got ${minFactor}, ${maxFactor}`);
+  if (minFactor > 1 || maxFactor < 1)
+    throw new RangeError(`dopri5 needs minFactor <= 1 <= maxFactor, got ${minFactor}, ${maxFactor}`);
   const onStep = options.onStep;
 
   const y = new Float64Array(y0);
-  const result: Dopri5Result = { t: t0, y, status: 'ok', message: '', nSteps: 0, nAccepted: 0, nRejected: 0, nFev: 0 };
+  const result: Dopri5Result = {
+    t: t0,
+    y,
+    status: 'ok',
+    message: '',
+    nSteps: 0,
+    nAccepted: 0,
+    nRejected: 0,
+    nFev: 0,
+  };
   if (span === 0) return result;
   const dir = t1 > t0 ? 1 : -1;
 
-  const k1 = new Float64Array(n), k2 = new Float64Array(n), k3 = new Float64Array(n);
-  const k4 = new Float64Array(n), k5 = new Float64Array(n), k6 = new Float64Array(n);
-  const k7 = new Float64Array(n), ytmp = new Float64Array(n), ynew = new Float64Array(n);
+  const k1 = new Float64Array(n),
+    k2 = new Float64Array(n),
+    k3 = new Float64Array(n);
+  const k4 = new Float64Array(n),
+    k5 = new Float64Array(n),
+    k6 = new Float64Array(n);
+  const k7 = new Float64Array(n),
+    ytmp = new Float64Array(n),
+    ynew = new Float64Array(n);
   const dense = onStep ? new DenseStep(n) : null;
 
   f(t0, y, k1);
@@ -204,7 +251,8 @@ export function dopri5(
     h = Math.min(positive('h0', options.h0), hMax);
   } else {
     // starting step size, HNW I section II.4 ("Starting step size", steps a-f), order 5
-    let d0 = 0, d1 = 0;
+    let d0 = 0,
+      d1 = 0;
     for (let i = 0; i < n; i++) {
       const sc = atol[i] + rtol * Math.abs(y[i]);
       d0 += (y[i] / sc) ** 2;
@@ -240,7 +288,8 @@ export function dopri5(
     const roundingLimit = 10 * Number.EPSILON * Math.max(Math.abs(t), Math.abs(t1));
     if (h < hMin || h <= roundingLimit) {
       result.status = 'step-too-small';
-      result.message = `dopri5 step size ${h} at t = ${t} fell below ${Math.max(hMin, roundingLimit)}` +
+      result.message =
+        `dopri5 step size ${h} at t = ${t} fell below ${Math.max(hMin, roundingLimit)}` +
         ' (stiff problem, singularity, or a non-finite right-hand side)';
       break;
     }
@@ -310,7 +359,9 @@ export function dopri5(
     } else {
       result.nRejected++;
       // NaN error (non-finite f) shrinks by minFactor until the step-too-small exit
-      const fac = Number.isFinite(err) ? Math.max(minFactor, Math.min(1, safety * Math.pow(err, -0.2))) : minFactor;
+      const fac = Number.isFinite(err)
+        ? Math.max(minFactor, Math.min(1, safety * Math.pow(err, -0.2)))
+        : minFactor;
       h *= fac;
       rejectedLast = true;
     }

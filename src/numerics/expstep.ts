@@ -40,15 +40,18 @@ export function complexExpm1(a: number, b: number, out: Float64Array): Float64Ar
  */
 export function phiSeries(a: number, b: number, out: Float64Array): Float64Array {
   // term_k = x^k / (k+2)!, phi2 = sum term_k, phi1 = 1 + x phi2 (recurrence phi1 = 1 + x phi2)
-  let tr = 0.5, ti = 0;
-  let p2r = 0.5, p2i = 0;
+  let tr = 0.5,
+    ti = 0;
+  let p2r = 0.5,
+    p2i = 0;
   for (let k = 1; k < 200; k++) {
     const inv = 1 / (k + 2);
     const nr = (tr * a - ti * b) * inv;
     const ni = (tr * b + ti * a) * inv;
     tr = nr;
     ti = ni;
-    const sr = p2r + tr, si = p2i + ti;
+    const sr = p2r + tr,
+      si = p2i + ti;
     if (sr === p2r && si === p2i) break;
     p2r = sr;
     p2i = si;
@@ -92,12 +95,15 @@ export function phiClosed(a: number, b: number, out: Float64Array, at = 0): Floa
  */
 export function phiFunctions(a: number, b: number, out: Float64Array): Float64Array {
   const ea = Math.exp(a);
-  const cb = Math.cos(b), sbFull = Math.sin(b);
+  const cb = Math.cos(b),
+    sbFull = Math.sin(b);
   out[0] = ea * cb;
   out[1] = ea * sbFull;
   if (a * a + b * b < PHI_SERIES_RADIUS * PHI_SERIES_RADIUS) {
-    let tr = 0.5, ti = 0;
-    let p2r = 0.5, p2i = 0;
+    let tr = 0.5,
+      ti = 0;
+    let p2r = 0.5,
+      p2i = 0;
     // |x| < 0.5: 0.5^k/(k+2)! < 1e-18 by k = 14
     for (let k = 1; k <= 16; k++) {
       const inv = 1 / (k + 2);
@@ -126,19 +132,30 @@ export function phiFunctions(a: number, b: number, out: Float64Array): Float64Ar
  * Reference: Hochbruck & Ostermann 2010, section 2; Cox & Matthews 2002, section 2 (ETD2).
  */
 export function expStepLinear(
-  zr: number, zi: number,
-  lr: number, li: number, h: number,
-  u0r: number, u0i: number, u1r: number, u1i: number,
+  zr: number,
+  zi: number,
+  lr: number,
+  li: number,
+  h: number,
+  u0r: number,
+  u0i: number,
+  u1r: number,
+  u1i: number,
   out: Float64Array,
 ): Float64Array {
   // phiFunctions inlined into locals: no scratch array, no module state
-  const a = lr * h, b = li * h;
-  const ea = Math.exp(a), cb = Math.cos(b), sb = Math.sin(b);
-  const er = ea * cb, ei = ea * sb;
+  const a = lr * h,
+    b = li * h;
+  const ea = Math.exp(a),
+    cb = Math.cos(b),
+    sb = Math.sin(b);
+  const er = ea * cb,
+    ei = ea * sb;
   let p1r: number, p1i: number, p2r: number, p2i: number;
   const d = a * a + b * b;
   if (d < PHI_SERIES_RADIUS * PHI_SERIES_RADIUS) {
-    let tr = 0.5, ti = 0;
+    let tr = 0.5,
+      ti = 0;
     p2r = 0.5;
     p2i = 0;
     for (let k = 1; k <= 16; k++) {
@@ -161,7 +178,8 @@ export function expStepLinear(
     p2r = (qr * a + p1i * b) / d;
     p2i = (p1i * a - qr * b) / d;
   }
-  const dr = u1r - u0r, di = u1i - u0i;
+  const dr = u1r - u0r,
+    di = u1i - u0i;
   out[0] = er * zr - ei * zi + h * (p1r * u0r - p1i * u0i + p2r * dr - p2i * di);
   out[1] = er * zi + ei * zr + h * (p1r * u0i + p1i * u0r + p2r * di + p2i * dr);
   return out;
@@ -173,9 +191,13 @@ export function expStepLinear(
  * exact for constant u. Writes z1 into out[0..1]; returns out.
  */
 export function expStepConstant(
-  zr: number, zi: number,
-  lr: number, li: number, h: number,
-  ur: number, ui: number,
+  zr: number,
+  zi: number,
+  lr: number,
+  li: number,
+  h: number,
+  ur: number,
+  ui: number,
   out: Float64Array,
 ): Float64Array {
   return expStepLinear(zr, zi, lr, li, h, ur, ui, ur, ui, out);
@@ -188,11 +210,14 @@ export function expStepConstant(
  */
 export class ExpStepCoefficients {
   /** e^{lambda h} */
-  er = 1; ei = 0;
+  er = 1;
+  ei = 0;
   /** h phi1(lambda h) */
-  p1r = 0; p1i = 0;
+  p1r = 0;
+  p1i = 0;
   /** h phi2(lambda h) */
-  p2r = 0; p2i = 0;
+  p2r = 0;
+  p2i = 0;
   private readonly phi = new Float64Array(6);
 
   /** lambda = lr + i li (1/time unit), step h (time unit). */
@@ -203,9 +228,12 @@ export class ExpStepCoefficients {
   /** Recomputes the coefficients for a new lambda = lr + i li and step h. */
   set(lr: number, li: number, h: number): this {
     const c = phiFunctions(lr * h, li * h, this.phi);
-    this.er = c[0]; this.ei = c[1];
-    this.p1r = h * c[2]; this.p1i = h * c[3];
-    this.p2r = h * c[4]; this.p2i = h * c[5];
+    this.er = c[0];
+    this.ei = c[1];
+    this.p1r = h * c[2];
+    this.p1i = h * c[3];
+    this.p2r = h * c[4];
+    this.p2i = h * c[5];
     return this;
   }
 
@@ -214,13 +242,21 @@ export class ExpStepCoefficients {
    * across the step; writes out[offset], out[offset + 1] (default offset 0) and returns out.
    */
   stepLinear(
-    zr: number, zi: number,
-    u0r: number, u0i: number, u1r: number, u1i: number,
-    out: Float64Array, offset = 0,
+    zr: number,
+    zi: number,
+    u0r: number,
+    u0i: number,
+    u1r: number,
+    u1i: number,
+    out: Float64Array,
+    offset = 0,
   ): Float64Array {
-    const dr = u1r - u0r, di = u1i - u0i;
-    out[offset] = this.er * zr - this.ei * zi + this.p1r * u0r - this.p1i * u0i + this.p2r * dr - this.p2i * di;
-    out[offset + 1] = this.er * zi + this.ei * zr + this.p1r * u0i + this.p1i * u0r + this.p2r * di + this.p2i * dr;
+    const dr = u1r - u0r,
+      di = u1i - u0i;
+    out[offset] =
+      this.er * zr - this.ei * zi + this.p1r * u0r - this.p1i * u0i + this.p2r * dr - this.p2i * di;
+    out[offset + 1] =
+      this.er * zi + this.ei * zr + this.p1r * u0i + this.p1i * u0r + this.p2r * di + this.p2i * dr;
     return out;
   }
 

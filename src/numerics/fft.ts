@@ -40,8 +40,11 @@ export function nextPow2(n: number): number {
 
 function engineFor(size: number, what: string): FftEngine | null {
   if (!isPow2(size)) {
-    throw new Error(`${what}: FFT size must be a power of two (1, 2, 4, ...), got ${size}; pad to nextPow2(${size}) = ${
-      size >= 1 && size <= 2 ** 30 ? nextPow2(size) : '?'}`);
+    throw new Error(
+      `${what}: FFT size must be a power of two (1, 2, 4, ...), got ${size}; pad to nextPow2(${size}) = ${
+        size >= 1 && size <= 2 ** 30 ? nextPow2(size) : '?'
+      }`,
+    );
   }
   if (size === 1) return null; // fft.js refuses size 1; the transform of one sample is itself
   let e = engines.get(size);
@@ -54,7 +57,8 @@ function engineFor(size: number, what: string): FftEngine | null {
 
 function outputArray(out: number[] | undefined, length: number, what: string): number[] {
   if (out === undefined) return new Array<number>(length).fill(0);
-  if (out.length !== length) throw new Error(`${what}: output array has length ${out.length}, expected ${length}`);
+  if (out.length !== length)
+    throw new Error(`${what}: output array has length ${out.length}, expected ${length}`);
   return out;
 }
 
@@ -68,7 +72,8 @@ export function fftReal(x: ArrayLike<number>, out?: number[]): number[] {
   const n = x.length;
   const e = engineFor(n, 'fftReal');
   const o = outputArray(out, 2 * n, 'fftReal');
-  if ((o as unknown) === (x as unknown)) throw new Error('fftReal: input and output must be different arrays');
+  if ((o as unknown) === (x as unknown))
+    throw new Error('fftReal: input and output must be different arrays');
   if (!e) {
     o[0] = x[0];
     o[1] = 0;
@@ -99,11 +104,13 @@ export function ifftComplex(spectrum: ArrayLike<number>, out?: number[]): number
 
 function complexTransform(x: ArrayLike<number>, out: number[] | undefined, inverse: boolean): number[] {
   const what = inverse ? 'ifftComplex' : 'fftComplex';
-  if (x.length % 2 !== 0) throw new Error(`${what}: interleaved complex input must have even length, got ${x.length}`);
+  if (x.length % 2 !== 0)
+    throw new Error(`${what}: interleaved complex input must have even length, got ${x.length}`);
   const n = x.length / 2;
   const e = engineFor(n, what);
   const o = outputArray(out, 2 * n, what);
-  if ((o as unknown) === (x as unknown)) throw new Error(`${what}: input and output must be different arrays`);
+  if ((o as unknown) === (x as unknown))
+    throw new Error(`${what}: input and output must be different arrays`);
   if (!e) {
     o[0] = x[0];
     o[1] = x[1];

@@ -20,11 +20,10 @@
  * outside it extrapolates. Exact for polynomials of degree <= 3.
  */
 export function lagrange4(y0: number, y1: number, y2: number, y3: number, u: number): number {
-  const up1 = u + 1, um1 = u - 1, um2 = u - 2;
-  return (
-    (-u * um1 * um2 * y0 + y3 * up1 * u * um1) / 6 +
-    (up1 * um1 * um2 * y1 - up1 * u * um2 * y2) / 2
-  );
+  const up1 = u + 1,
+    um1 = u - 1,
+    um2 = u - 2;
+  return (-u * um1 * um2 * y0 + y3 * up1 * u * um1) / 6 + (up1 * um1 * um2 * y1 - up1 * u * um2 * y2) / 2;
 }
 
 /** Index in a ring of length len of the sample `age` positions before newestIndex (0 <= age < len). */
@@ -37,7 +36,13 @@ function ringIndex(newestIndex: number, age: number, len: number): number {
  * Cubic Lagrange value `back` samples before the newest one, using only the `available`
  * newest samples (ages 0 .. available-1). Internal: arguments are trusted.
  */
-function cubicFromRing(buf: Float64Array, len: number, newestIndex: number, back: number, available: number): number {
+function cubicFromRing(
+  buf: Float64Array,
+  len: number,
+  newestIndex: number,
+  back: number,
+  available: number,
+): number {
   // oldest stencil age: centred stencil ages k+2..k-1 around floor(back) = k, shifted to
   // keep ages within [0, available-1]
   let a0 = Math.floor(back) + 2;
@@ -53,7 +58,13 @@ function cubicFromRing(buf: Float64Array, len: number, newestIndex: number, back
   );
 }
 
-function linearFromRing(buf: Float64Array, len: number, newestIndex: number, back: number, available: number): number {
+function linearFromRing(
+  buf: Float64Array,
+  len: number,
+  newestIndex: number,
+  back: number,
+  available: number,
+): number {
   let k = Math.floor(back);
   if (k < 0) k = 0;
   else if (k > available - 2) k = available - 2;
@@ -66,7 +77,7 @@ function checkRing(name: string, len: number, newestIndex: number, back: number,
   if (!(len >= minLen) || newestIndex < 0 || newestIndex >= len || !(back >= -1 && back <= len - 1)) {
     throw new RangeError(
       `${name}: need ring length >= ${minLen}, 0 <= newestIndex < length and -1 <= back <= length-1;` +
-      ` got length ${len}, newestIndex ${newestIndex}, back ${back}`,
+        ` got length ${len}, newestIndex ${newestIndex}, back ${back}`,
     );
   }
 }
@@ -192,7 +203,7 @@ export class ComplexRing {
     if (this.stored < minSize || !(delay >= -1 && delay <= this.stored - 1)) {
       throw new RangeError(
         `ComplexRing read at delay ${delay} samples needs ${minSize} <= stored samples and` +
-        ` -1 <= delay <= stored-1; stored ${this.stored} of capacity ${this.capacity}`,
+          ` -1 <= delay <= stored-1; stored ${this.stored} of capacity ${this.capacity}`,
       );
     }
   }

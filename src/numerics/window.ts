@@ -34,9 +34,11 @@ export interface SpectralWindow {
  * not taken from the closed forms, so they hold for any N.
  */
 export function hannPeriodic(n: number): SpectralWindow {
-  if (!Number.isInteger(n) || n < 2) throw new RangeError(`hannPeriodic needs an integer length >= 2, got ${n}`);
+  if (!Number.isInteger(n) || n < 2)
+    throw new RangeError(`hannPeriodic needs an integer length >= 2, got ${n}`);
   const w = new Float64Array(n);
-  let s1 = 0, s2 = 0;
+  let s1 = 0,
+    s2 = 0;
   const k = (2 * Math.PI) / n;
   for (let j = 0; j < n; j++) {
     const v = 0.5 - 0.5 * Math.cos(k * j);

@@ -42,7 +42,11 @@ export interface MechanicalResponse {
  * @param resonance_Hz first resonance f0 (Hz); Infinity gives the quasi-static H = 1
  * @param qualityFactor Q (dimensionless, > 0)
  */
-export function mechanicalResponse(frequency_Hz: number, resonance_Hz: number, qualityFactor: number): MechanicalResponse {
+export function mechanicalResponse(
+  frequency_Hz: number,
+  resonance_Hz: number,
+  qualityFactor: number,
+): MechanicalResponse {
   if (!Number.isFinite(resonance_Hz)) return { re: 1, im: 0, magnitude: 1, phase_rad: 0 };
   const r = frequency_Hz / resonance_Hz;
   const dr = 1 - r * r;
@@ -106,7 +110,9 @@ export function resolveActuator(act: ActuatorSpec): ResolvedActuator {
     f0 = springMassResonance_Hz(k, m);
     source = 'stiffness and mass';
   } else {
-    notes.push('no resonance (nor stiffness and moving mass) given: the response is taken as quasi-static (|H| = 1) and the resonance margin is not checked');
+    notes.push(
+      'no resonance (nor stiffness and moving mass) given: the response is taken as quasi-static (|H| = 1) and the resonance margin is not checked',
+    );
   }
   return {
     stroke_per_volt_m_V: act.stroke_per_volt,
@@ -239,7 +245,10 @@ function harmonicPeak(amp: number[], harm: number[], phase: number[]): number {
  * pre-compensated waveform, its peak found by sampling one period.
  * @param drive the drive section (SI); @param act the actuator section (SI)
  */
-export function actuatorRequirement(drive: DriveSpec, act: ActuatorSpec): { requirement: ActuatorRequirement; notes: string[] } {
+export function actuatorRequirement(
+  drive: DriveSpec,
+  act: ActuatorSpec,
+): { requirement: ActuatorRequirement; notes: string[] } {
   const resolved = resolveActuator(act);
   const notes: string[] = [];
   const f0 = resolved.resonance_Hz ?? Infinity;
@@ -267,11 +276,19 @@ export function actuatorRequirement(drive: DriveSpec, act: ActuatorSpec): { requ
     // V_n = X_n / (k_v H_n): the voltage component leads the motion by -arg H_n.
     const harm = comps.map((c) => c.n);
     const vPhase = comps.map((c, j) => c.phase - out[j].response_phase_rad);
-    vPeak = harmonicPeak(out.map((o) => o.voltage_V), harm, vPhase);
+    vPeak = harmonicPeak(
+      out.map((o) => o.voltage_V),
+      harm,
+      vPhase,
+    );
     if (C !== null) {
       // i = C dV/dt: each component scaled by n omega and advanced by 90 deg.
       const w = TWO_PI * drive.frequency;
-      iPeak = harmonicPeak(out.map((o, j) => C * harm[j] * w * o.voltage_V), harm, vPhase.map((p) => p + Math.PI / 2));
+      iPeak = harmonicPeak(
+        out.map((o, j) => C * harm[j] * w * o.voltage_V),
+        harm,
+        vPhase.map((p) => p + Math.PI / 2),
+      );
     }
     if (resolved.resonance_Hz !== null) {
       const amplified = out.filter((o) => o.response_magnitude > HARMONIC_AMPLIFIED);
@@ -282,21 +299,33 @@ export function actuatorRequirement(drive: DriveSpec, act: ActuatorSpec): { requ
       }
       const above = out.filter((o) => o.label !== 'harmonic 1' && o.frequency_Hz > resolved.resonance_Hz!);
       if (above.length > 0) {
-        notes.push(`triangle: ${above.map((o) => o.label).join(', ')} above the resonance (attenuated, phase near -180 deg); the turning points will be rounded unless driven harder`);
+        notes.push(
+          `triangle: ${above.map((o) => o.label).join(', ')} above the resonance (attenuated, phase near -180 deg); the turning points will be rounded unless driven harder`,
+        );
       }
     }
-    notes.push(`triangle: harmonics ${TRIANGLE_HARMONICS.join(', ')} carried (the series to 9 reaches ${(100 * harmonicSumFraction()).toFixed(1)} % of the peak)`);
+    notes.push(
+      `triangle: harmonics ${TRIANGLE_HARMONICS.join(', ')} carried (the series to 9 reaches ${(100 * harmonicSumFraction()).toFixed(1)} % of the peak)`,
+    );
   } else {
     for (const o of out) {
       vPeak += o.voltage_V;
       if (iPeak !== null && o.current_A !== null) iPeak += o.current_A;
     }
-    if (drive.waveform === 'two-tone') notes.push('two-tone: peak voltage and current are the sums of the two tones (reached when their maxima coincide)');
+    if (drive.waveform === 'two-tone')
+      notes.push(
+        'two-tone: peak voltage and current are the sums of the two tones (reached when their maxima coincide)',
+      );
   }
   const reactive = C === null ? null : out.reduce((s, o) => s + 0.5 * o.voltage_V * (o.current_A ?? 0), 0);
 
   // The resonance margin is set by the highest tone the motion is meant to follow.
-  const fTop = drive.waveform === 'off' ? 0 : drive.waveform === 'two-tone' ? Math.max(drive.frequency, drive.second_frequency) : drive.frequency;
+  const fTop =
+    drive.waveform === 'off'
+      ? 0
+      : drive.waveform === 'two-tone'
+        ? Math.max(drive.frequency, drive.second_frequency)
+        : drive.frequency;
   const margin = resolved.resonance_Hz === null || fTop === 0 ? null : resolved.resonance_Hz / fTop;
   const above = resolved.resonance_Hz !== null && fTop > resolved.resonance_Hz;
   const acc = sheetAcceleration(drive);
@@ -330,7 +359,9 @@ function harmonicSumFraction(): number {
  */
 function sheetAcceleration(drive: DriveSpec): number {
   if (drive.waveform !== 'triangle') return peakAcceleration(drive);
-  return (TWO_PI * drive.frequency) ** 2 * drive.amplitude * (8 / (Math.PI * Math.PI)) * TRIANGLE_HARMONICS.length;
+  return (
+    (TWO_PI * drive.frequency) ** 2 * drive.amplitude * (8 / (Math.PI * Math.PI)) * TRIANGLE_HARMONICS.length
+  );
 }
 
 /**
@@ -342,13 +373,29 @@ function sheetAcceleration(drive: DriveSpec): number {
 function limitChecks(req: ActuatorRequirement, act: ActuatorSpec, notes: string[]): LimitCheck[] {
   const checks: LimitCheck[] = [];
   if (act.max_voltage !== undefined) {
-    checks.push({ key: 'actuator.max_voltage', quantity: 'peak voltage', unit: 'V', value: req.voltage_peak_V, limit: act.max_voltage, kind: 'max', ok: req.voltage_peak_V <= act.max_voltage });
+    checks.push({
+      key: 'actuator.max_voltage',
+      quantity: 'peak voltage',
+      unit: 'V',
+      value: req.voltage_peak_V,
+      limit: act.max_voltage,
+      kind: 'max',
+      ok: req.voltage_peak_V <= act.max_voltage,
+    });
   }
   if (act.max_current !== undefined) {
     if (req.current_peak_A === null) {
       notes.push('actuator.max_current is set but actuator.capacitance is not: the current is not checked');
     } else {
-      checks.push({ key: 'actuator.max_current', quantity: 'peak current', unit: 'A', value: req.current_peak_A, limit: act.max_current, kind: 'max', ok: req.current_peak_A <= act.max_current });
+      checks.push({
+        key: 'actuator.max_current',
+        quantity: 'peak current',
+        unit: 'A',
+        value: req.current_peak_A,
+        limit: act.max_current,
+        kind: 'max',
+        ok: req.current_peak_A <= act.max_current,
+      });
     }
   }
   if (req.resonance_margin !== null) {
@@ -384,12 +431,19 @@ export function actuatorSheet(scenario: Scenario): ActuatorSheet {
     notes.push(...r.notes);
     limits = limitChecks(req, scenario.actuator, notes);
   } else {
-    notes.push('no actuator section: kinematics only (add actuator: to get voltage, current and resonance margin)');
+    notes.push(
+      'no actuator section: kinematics only (add actuator: to get voltage, current and resonance margin)',
+    );
   }
   if (drive.waveform === 'triangle' && drive.amplitude > 0) {
-    notes.push(`triangle: the ideal waveform has unbounded acceleration at the turning points; the acceleration shown is that of harmonics ${TRIANGLE_HARMONICS.join(', ')}`);
+    notes.push(
+      `triangle: the ideal waveform has unbounded acceleration at the turning points; the acceleration shown is that of harmonics ${TRIANGLE_HARMONICS.join(', ')}`,
+    );
   }
-  if (drive.waveform === 'two-tone') notes.push('two-tone: stroke, speed and acceleration are the sums over the two tones (their supremum over time)');
+  if (drive.waveform === 'two-tone')
+    notes.push(
+      'two-tone: stroke, speed and acceleration are the sums over the two tones (their supremum over time)',
+    );
   const exceeded = limits.filter((l) => !l.ok).map((l) => l.key);
   if (req !== null && req.above_resonance) exceeded.push('above_resonance');
   return {
@@ -419,14 +473,25 @@ export function actuatorSheet(scenario: Scenario): ActuatorSheet {
  * Without an actuator section every drive is reachable (ok: true, and the reason says why).
  * @returns ok and a sentence naming the limits broken (or why it is fine)
  */
-export function reachable(scenario: Scenario, amplitude_m: number, frequency_Hz: number): { ok: boolean; reason: string } {
-  if (scenario.actuator === undefined) return { ok: true, reason: 'no actuator described: every drive is taken as reachable' };
-  const s: Scenario = { ...scenario, drive: { ...scenario.drive, amplitude: amplitude_m, frequency: frequency_Hz } };
+export function reachable(
+  scenario: Scenario,
+  amplitude_m: number,
+  frequency_Hz: number,
+): { ok: boolean; reason: string } {
+  if (scenario.actuator === undefined)
+    return { ok: true, reason: 'no actuator described: every drive is taken as reachable' };
+  const s: Scenario = {
+    ...scenario,
+    drive: { ...scenario.drive, amplitude: amplitude_m, frequency: frequency_Hz },
+  };
   const sheet = actuatorSheet(s);
   if (sheet.ok) return { ok: true, reason: 'within every actuator limit set' };
   const broken = sheet.limits
     .filter((l) => !l.ok)
-    .map((l) => `${l.quantity} ${l.value.toPrecision(3)}${l.unit === '' ? '' : ` ${l.unit}`} ${l.kind === 'max' ? 'above' : 'below'} ${l.key} ${l.limit.toPrecision(3)}`);
+    .map(
+      (l) =>
+        `${l.quantity} ${l.value.toPrecision(3)}${l.unit === '' ? '' : ` ${l.unit}`} ${l.kind === 'max' ? 'above' : 'below'} ${l.key} ${l.limit.toPrecision(3)}`,
+    );
   if (sheet.actuator?.above_resonance) broken.push('drive frequency above the resonance');
   return { ok: false, reason: broken.join('; ') };
 }

@@ -17,19 +17,27 @@ export interface DerivedAll {
 /** Derived quantities and the engine parameters of a scenario. */
 export function deriveAll(s: Scenario): DerivedAll {
   const beams = computeBeams(s);
-  const params = buildCoupledParams(s, { feedback: beams.feedbackEfficiency, roundtrip: beams.roundtripEfficiency });
+  const params = buildCoupledParams(s, {
+    feedback: beams.feedbackEfficiency,
+    roundtrip: beams.roundtripEfficiency,
+  });
   const c = SPEED_OF_LIGHT_m_s;
   const ext = s.external;
   const fsrExt = ext ? c / (2 * ext.length) : NaN;
   const F = ext ? finesse(params.r2, params.r3eff) : NaN;
-  const incoherent = ext ? phaseAveragedPowerRatio(params.r2, params.t2, params.r3eff) * params.feedbackEfficiency : NaN;
+  const incoherent = ext
+    ? phaseAveragedPowerRatio(params.r2, params.t2, params.r3eff) * params.feedbackEfficiency
+    : NaN;
   const m = params.modes;
   // Homogeneous single-mode estimate |E|^2 = P_sat (p f - 1) / C_mm of the strongest mode
   // (MODEL.md 3.2); the free-running reference run gives the real multimode value.
   let best = 0;
   for (let k = 0; k < m.count; k++) {
     const Cmm = params.cross[k * m.count + k];
-    best = Math.max(best, (s.laser.gain.saturation_power * Math.max(0, params.pump * params.gainRel[k] - 1)) / Cmm);
+    best = Math.max(
+      best,
+      (s.laser.gain.saturation_power * Math.max(0, params.pump * params.gainRel[k] - 1)) / Cmm,
+    );
   }
   const derived: Derived = {
     fsr_laser_Hz: m.fsr_Hz,

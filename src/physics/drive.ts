@@ -83,7 +83,8 @@ export class Drive {
   readonly hasVibration: boolean;
 
   constructor(spec: DriveSpec, seed: number) {
-    this.kind = spec.waveform === 'sine' ? 0 : spec.waveform === 'triangle' ? 1 : spec.waveform === 'two-tone' ? 2 : 3;
+    this.kind =
+      spec.waveform === 'sine' ? 0 : spec.waveform === 'triangle' ? 1 : spec.waveform === 'two-tone' ? 2 : 3;
     this.offset_m = spec.offset;
     this.drift_m_s = spec.drift;
     this.amplitude_m = this.kind === 3 ? 0 : spec.amplitude;
@@ -122,7 +123,8 @@ export class Drive {
         x += this.amplitude_m * (p < 0.5 ? 4 * p - 1 : 3 - 4 * p);
       } else {
         x += this.amplitude_m * Math.sin(theta);
-        if (kind === 2) x += this.secondAmplitude_m * Math.sin(this.secondOmega_rad_s * t + this.secondPhase_rad);
+        if (kind === 2)
+          x += this.secondAmplitude_m * Math.sin(this.secondOmega_rad_s * t + this.secondPhase_rad);
       }
     }
     if (this.hasVibration) {
@@ -151,7 +153,10 @@ export class Drive {
       } else {
         v += this.amplitude_m * this.omega_rad_s * Math.cos(theta);
         if (kind === 2) {
-          v += this.secondAmplitude_m * this.secondOmega_rad_s * Math.cos(this.secondOmega_rad_s * t + this.secondPhase_rad);
+          v +=
+            this.secondAmplitude_m *
+            this.secondOmega_rad_s *
+            Math.cos(this.secondOmega_rad_s * t + this.secondPhase_rad);
         }
       }
     }
@@ -208,7 +213,10 @@ export function peakAcceleration(spec: DriveSpec): number {
     case 'triangle':
       return spec.amplitude > 0 ? Infinity : 0;
     case 'two-tone':
-      return (TWO_PI * spec.frequency) ** 2 * spec.amplitude + (TWO_PI * spec.second_frequency) ** 2 * spec.second_amplitude;
+      return (
+        (TWO_PI * spec.frequency) ** 2 * spec.amplitude +
+        (TWO_PI * spec.second_frequency) ** 2 * spec.second_amplitude
+      );
     case 'off':
       return 0;
   }

@@ -38,23 +38,61 @@ export function buildBatchIndexHtml(index: BatchIndexEntry[], generatedAt: Date 
     const href = reportHref(e.folder);
     const name = String(e.name ?? e.file ?? '');
     const status =
-      e.status === 'ok' ? html`<td>ok</td>` : html`<td><b>${e.status === 'bad-input' ? 'bad input' : 'failed'}</b></td>`;
-    const cls = e.kind === 'run' && e.status === 'ok' ? classBadge(e.class ?? null) : e.kind === 'sweep' && e.status === 'ok' ? html`<span class="nc">see map</span>` : '';
+      e.status === 'ok'
+        ? html`<td>ok</td>`
+        : html`<td><b>${e.status === 'bad-input' ? 'bad input' : 'failed'}</b></td>`;
+    const cls =
+      e.kind === 'run' && e.status === 'ok'
+        ? classBadge(e.class ?? null)
+        : e.kind === 'sweep' && e.status === 'ok'
+          ? html`<span class="nc">see map</span>`
+          : '';
     return html`<tr class="${e.status === 'ok' ? '' : 'flag'}">
-<td>${href ? html`<a href="${href}">${name}</a>` : name}</td><td><code>${String(e.file ?? '')}</code></td><td>${e.kind}</td>${status}<td>${cls}</td>${numCell(fmtRatio(e.enhancement))}${numCell(fmtRatio(e.gain_over_static))}${numCell(fmtPercent(e.ripple_rel))}${numCell(fmtNum(e.hops_per_s))}</tr>`;
+      <td>${href ? html`<a href="${href}">${name}</a>` : name}</td>
+      <td><code>${String(e.file ?? '')}</code></td>
+      <td>${e.kind}</td>
+      ${status}
+      <td>${cls}</td>
+      ${numCell(fmtRatio(e.enhancement))}${numCell(fmtRatio(e.gain_over_static))}${numCell(fmtPercent(e.ripple_rel))}${numCell(fmtNum(e.hops_per_s))}
+    </tr>`;
   });
   const failures = entries.filter((e) => e.status !== 'ok');
-  const body = html`<section id="all"><h2>Every scenario in this batch</h2>
-<p class="note">${entries.length} scenario files: ${ok} finished, ${failed} failed, ${bad} with bad input. Names link to each scenario's own report. A dash means the figure was not computed.</p>
-<table><thead><tr><th>scenario</th><th>file</th><th>kind</th><th>status</th><th>class</th><th class="num">enhancement</th><th class="num">gain over still</th><th class="num">in-band ripple</th><th class="num">hops per s</th></tr></thead>
-<tbody>${rows}</tbody></table>
-${classLegend()}
-</section>
-<section id="failures"><h2>What went wrong</h2>${
-    failures.length === 0
-      ? html`<p class="note">Nothing: every scenario finished.</p>`
-      : html`<ul class="warnlist">${failures.map((e) => html`<li><b>${String(e.name ?? '')}</b> (<code>${String(e.file ?? '')}</code>, ${e.status === 'bad-input' ? 'bad input' : 'failed'}):<br><code>${String(e.error ?? 'no message recorded')}</code></li>`)}</ul>`
-  }</section>`;
+  const body = html`<section id="all">
+      <h2>Every scenario in this batch</h2>
+      <p class="note">
+        ${entries.length} scenario files: ${ok} finished, ${failed} failed, ${bad} with bad input. Names link
+        to each scenario's own report. A dash means the figure was not computed.
+      </p>
+      <table>
+        <thead>
+          <tr>
+            <th>scenario</th>
+            <th>file</th>
+            <th>kind</th>
+            <th>status</th>
+            <th>class</th>
+            <th class="num">enhancement</th>
+            <th class="num">gain over still</th>
+            <th class="num">in-band ripple</th>
+            <th class="num">hops per s</th>
+          </tr>
+        </thead>
+        <tbody>
+          ${rows}
+        </tbody>
+      </table>
+      ${classLegend()}
+    </section>
+    <section id="failures">
+      <h2>What went wrong</h2>
+      ${
+        failures.length === 0
+          ? html`<p class="note">Nothing: every scenario finished.</p>`
+          : html`<ul class="warnlist">
+              ${failures.map((e) => html`<li><b>${String(e.name ?? '')}</b> (<code>${String(e.file ?? '')}</code>, ${e.status === 'bad-input' ? 'bad input' : 'failed'}):<br /><code>${String(e.error ?? 'no message recorded')}</code></li>`)}
+            </ul>`
+      }
+    </section>`;
   return renderPage({
     kind: 'batch',
     title: 'dithercav batch overview',

@@ -13,10 +13,22 @@ export interface ClassStyle {
 }
 
 export const CLASS_STYLE: Record<RunClass, ClassStyle> = {
-  decoupled: { colour: '#1f7a5c', meaning: 'gains over the mirror held still and nears the phase-averaged level, in-band ripple below the limit, no mode hops' },
-  modulated: { colour: '#c98e12', meaning: 'gains over the mirror held still and nears the phase-averaged level, but the in-band ripple is above the limit' },
+  decoupled: {
+    colour: '#1f7a5c',
+    meaning:
+      'gains over the mirror held still and nears the phase-averaged level, in-band ripple below the limit, no mode hops',
+  },
+  modulated: {
+    colour: '#c98e12',
+    meaning:
+      'gains over the mirror held still and nears the phase-averaged level, but the in-band ripple is above the limit',
+  },
   hopping: { colour: '#b23a5b', meaning: 'the laser hops between modes more often than allowed' },
-  'no-gain': { colour: '#7d8796', meaning: 'the drive gives too little gain over the mirror held still, or leaves the gap far below the phase-averaged level that decoupling gives' },
+  'no-gain': {
+    colour: '#7d8796',
+    meaning:
+      'the drive gives too little gain over the mirror held still, or leaves the gap far below the phase-averaged level that decoupling gives',
+  },
   'no-lasing': { colour: '#2e3350', meaning: 'the laser does not reach threshold' },
   'numerical-failure': { colour: '#6b3fa0', meaning: 'the integration failed; no result' },
 };
@@ -33,7 +45,13 @@ export function classBadge(c: string | null | undefined): SafeHtml {
 
 /** A legend in words: one swatch and sentence per class. */
 export function classLegend(classes: readonly string[] = RUN_CLASSES): SafeHtml {
-  return html`<ul class="legend-words">${classes.map(
-    (c) => html`<li><span class="sw" style="background:${classColour(c)}"></span><b>${c}</b>${c in CLASS_STYLE ? html` — ${CLASS_STYLE[c as RunClass].meaning}` : ''}</li>`,
-  )}</ul>`;
+  return html`<ul class="legend-words">
+    ${classes.map(
+      (c) =>
+        html`<li>
+          <span class="sw" style="background:${classColour(c)}"></span
+          ><b>${c}</b>${c in CLASS_STYLE ? html` — ${CLASS_STYLE[c as RunClass].meaning}` : ''}
+        </li>`,
+    )}
+  </ul>`;
 }

@@ -81,6 +81,11 @@ export function fmtByKey(key: string, v: unknown): string {
 export function labelOfKey(key: string): string {
   let k = key;
   if (k.endsWith('_rel')) k = k.slice(0, -4) + ' (relative)';
-  else for (const [suffix] of KEY_UNITS) if (k.endsWith(suffix)) { k = k.slice(0, -suffix.length); break; }
+  else
+    for (const [suffix] of KEY_UNITS)
+      if (k.endsWith(suffix)) {
+        k = k.slice(0, -suffix.length);
+        break;
+      }
   return k.replace(/_/g, ' ');
 }

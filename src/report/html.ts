@@ -45,7 +45,16 @@ export function plotlyBundle(): string {
 }
 
 /** Trace colours of this tool (our own choice): petrol, rust, moss, plum, slate blue, ochre, teal, umber. */
-export const TRACE_COLOURS = ['#0e5e6f', '#c2571a', '#5b7d2a', '#8e3b76', '#3d5a99', '#a8842c', '#2f8f83', '#7a4e2d'];
+export const TRACE_COLOURS = [
+  '#0e5e6f',
+  '#c2571a',
+  '#5b7d2a',
+  '#8e3b76',
+  '#3d5a99',
+  '#a8842c',
+  '#2f8f83',
+  '#7a4e2d',
+];
 
 const FONT = 'system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif';
 
@@ -85,7 +94,10 @@ export function axis(title: string, extra: Record<string, unknown> = {}): Record
 
 /** The div a plot is drawn into; `caption` (escaped) is shown under it. */
 export function plotDiv(id: string, caption?: string): SafeHtml {
-  return html`<figure class="plot-box"><div class="plot" id="${id}"></div>${caption ? html`<figcaption>${caption}</figcaption>` : ''}</figure>`;
+  return html`<figure class="plot-box">
+    <div class="plot" id="${id}"></div>
+    ${caption ? html`<figcaption>${caption}</figcaption>` : ''}
+  </figure>`;
 }
 
 /**
@@ -96,13 +108,20 @@ export function plotDiv(id: string, caption?: string): SafeHtml {
  */
 export function cautionBox(): SafeHtml {
   return html`<aside class="caution" role="note" aria-label="Laser safety">
-<p class="caution-title">Laser safety</p>
-<p>The power circulating in the gap between the output coupler and the return mirror can reach watts even when the laser's own output is milliwatts. The beam inside the gap may therefore exceed the laser's labelled hazard class. Follow the local laser-safety rules (for example the IEC 60825 series) and the site's laser safety officer. Actuator drives can be high voltage: take the usual electrical precautions. This tool is a design aid; it does not replace local codes or licensed practice.</p>
-</aside>`;
+    <p class="caution-title">Laser safety</p>
+    <p>
+      The power circulating in the gap between the output coupler and the return mirror can reach watts even
+      when the laser's own output is milliwatts. The beam inside the gap may therefore exceed the laser's
+      labelled hazard class. Follow the local laser-safety rules (for example the IEC 60825 series) and the
+      site's laser safety officer. Actuator drives can be high voltage: take the usual electrical precautions.
+      This tool is a design aid; it does not replace local codes or licensed practice.
+    </p>
+  </aside>`;
 }
 
 /* No source may be fetched at all (default-src 'none'); inline script and style only. */
-const CSP = "default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; img-src data: blob:; font-src data:";
+const CSP =
+  "default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; img-src data: blob:; font-src data:";
 
 const STYLE = `
 :root { --ink:#1d2433; --muted:#5d6575; --paper:#f6f5f1; --card:#ffffff; --rule:#d9dce2; --accent:#0e5e6f; --warn-bg:#fbeede; --warn-rule:#c2571a; --caution-bg:#fff6d6; --caution-rule:#a8842c; }
@@ -201,33 +220,38 @@ const BOOT = `
 export function renderPage(spec: PageSpec): string {
   const hasPlots = spec.plots.length > 0;
   const top = html`<!DOCTYPE html>
-<html lang="en" data-report-kind="${spec.kind}">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<meta http-equiv="Content-Security-Policy" content="${CSP}">
-<title>${spec.title}</title>
-<style>${rawHtml(STYLE)}</style>
-</head>
-<body>
-<header class="top">
-<p class="what">dithercav · ${spec.kind === 'run' ? 'single run' : spec.kind === 'sweep' ? 'parameter map' : 'batch overview'}</p>
-<h1>${spec.heading}</h1>
-<p class="sub">${spec.subheading}</p>
-</header>
-<main>
-${cautionBox()}
-${spec.body}
-</main>
-<footer>${spec.footer}</footer>
-`.text;
+    <html lang="en" data-report-kind="${spec.kind}">
+      <head>
+        <meta charset="utf-8" />
+        <meta name="viewport" content="width=device-width, initial-scale=1" />
+        <meta http-equiv="Content-Security-Policy" content="${CSP}" />
+        <title>${spec.title}</title>
+        <style>
+          ${rawHtml(STYLE)}
+        </style>
+      </head>
+      <body>
+        <header class="top">
+          <p class="what">
+            dithercav ·
+            ${spec.kind === 'run' ? 'single run' : spec.kind === 'sweep' ? 'parameter map' : 'batch overview'}
+          </p>
+          <h1>${spec.heading}</h1>
+          <p class="sub">${spec.subheading}</p>
+        </header>
+        <main>${cautionBox()} ${spec.body}</main>
+        <footer>${spec.footer}</footer>
+      </body>
+    </html> `.text;
   if (!hasPlots) return `${top}</body>\n</html>\n`;
   // Concatenated, not substituted: the bundle holds "$&"-like sequences that a replacement
   // string would expand, and a marker could be forged by a scenario name.
   return (
     top +
     `<script type="application/json" id="report-data">${jsonForScript({ plots: spec.plots })}</script>\n` +
-    '<script>' + plotlyBundle() + '</script>\n' +
+    '<script>' +
+    plotlyBundle() +
+    '</script>\n' +
     `<script>${BOOT}</script>\n</body>\n</html>\n`
   );
 }

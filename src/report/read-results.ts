@@ -24,13 +24,20 @@ export function readJsonFile(file: string, what: string, required: boolean): unk
     return JSON.parse(text) as unknown;
   } catch (err) {
     const why = err instanceof Error ? err.message : String(err);
-    throw new InputError(file, [{ path: '', message: `expected ${what} as JSON, found text that does not parse (${why})` }]);
+    throw new InputError(file, [
+      { path: '', message: `expected ${what} as JSON, found text that does not parse (${why})` },
+    ]);
   }
 }
 
 function expectObject(file: string, v: unknown, what: string): void {
   if (v !== null && (typeof v !== 'object' || Array.isArray(v))) {
-    throw new InputError(file, [{ path: '', message: `expected ${what} (a JSON object), found ${Array.isArray(v) ? 'a list' : typeof v}` }]);
+    throw new InputError(file, [
+      {
+        path: '',
+        message: `expected ${what} (a JSON object), found ${Array.isArray(v) ? 'a list' : typeof v}`,
+      },
+    ]);
   }
 }
 
@@ -45,7 +52,10 @@ export function readRunArtifacts(dir: string): RunArtifacts {
   expectObject(sFile, summary, 'the summary of a run');
   const s = summary as Record<string, unknown>;
   for (const key of ['derived', 'driven']) {
-    if (!(key in s)) throw new InputError(sFile, [{ path: key, message: `expected the key '${key}' of a run summary, found none` }]);
+    if (!(key in s))
+      throw new InputError(sFile, [
+        { path: key, message: `expected the key '${key}' of a run summary, found none` },
+      ]);
   }
   const optional = (name: string, what: string): unknown => {
     const f = join(dir, name);
@@ -57,6 +67,9 @@ export function readRunArtifacts(dir: string): RunArtifacts {
     summary: summary as RunSummary,
     traces: optional(RUN_FILES.traces, 'the time traces of a run') as RunArtifacts['traces'],
     spectra: optional(RUN_FILES.spectra, 'the spectra of a run') as RunArtifacts['spectra'],
-    static_curve: optional(RUN_FILES.staticCurve, 'the static power curve of a run') as RunArtifacts['static_curve'],
+    static_curve: optional(
+      RUN_FILES.staticCurve,
+      'the static power curve of a run',
+    ) as RunArtifacts['static_curve'],
   };
 }

@@ -30,11 +30,20 @@ export interface RebuildResult {
 
 function readBatchIndex(file: string): BatchIndexEntry[] {
   const v = readJsonFile(file, 'the index of a batch', true);
-  const list = Array.isArray(v) ? v : v !== null && typeof v === 'object' && Array.isArray((v as { entries?: unknown }).entries) ? (v as { entries: unknown[] }).entries : null;
-  if (list === null) throw new InputError(file, [{ path: '', message: 'expected a list of batch entries { file, name, kind, status, ... }' }]);
+  const list = Array.isArray(v)
+    ? v
+    : v !== null && typeof v === 'object' && Array.isArray((v as { entries?: unknown }).entries)
+      ? (v as { entries: unknown[] }).entries
+      : null;
+  if (list === null)
+    throw new InputError(file, [
+      { path: '', message: 'expected a list of batch entries { file, name, kind, status, ... }' },
+    ]);
   list.forEach((e, i) => {
     if (e === null || typeof e !== 'object' || typeof (e as BatchIndexEntry).status !== 'string') {
-      throw new InputError(file, [{ path: String(i), message: "expected a batch entry with a 'status' of ok, failed or bad-input" }]);
+      throw new InputError(file, [
+        { path: String(i), message: "expected a batch entry with a 'status' of ok, failed or bad-input" },
+      ]);
     }
   });
   return list as BatchIndexEntry[];
@@ -48,11 +57,21 @@ function readBatchIndex(file: string): BatchIndexEntry[] {
  */
 export function rebuildReport(dir: string): RebuildResult {
   if (!existsSync(dir) || !statSync(dir).isDirectory()) {
-    throw new InputError(dir, [{ path: '', message: 'expected a result folder (with summary.json, map.json or index.json), found no such folder' }]);
+    throw new InputError(dir, [
+      {
+        path: '',
+        message: 'expected a result folder (with summary.json, map.json or index.json), found no such folder',
+      },
+    ]);
   }
   const kind = detectResultFolder(dir);
   if (kind === null) {
-    throw new InputError(dir, [{ path: '', message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_MAP_FILE}) or a batch folder (${BATCH_FILES.index}), found none of these files` }]);
+    throw new InputError(dir, [
+      {
+        path: '',
+        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_MAP_FILE}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
+      },
+    ]);
   }
   if (kind === 'run') return { kind, written: [writeRunReport(dir)] };
   if (kind === 'sweep') return { kind, written: [writeSweepReport(dir)] };

@@ -29,11 +29,22 @@ function cell(v: string | SafeHtml, cls = ''): SafeHtml {
 }
 
 function table(rows: Row[]): SafeHtml {
-  return html`<table>${rows.map(([k, v]) => html`<tr><th>${k}</th>${cell(v, 'num')}</tr>`)}</table>`;
+  return html`<table>
+    ${rows.map(
+      ([k, v]) =>
+        html`<tr>
+          <th>${k}</th>
+          ${cell(v, 'num')}
+        </tr>`,
+    )}
+  </table>`;
 }
 
 function section(id: string, title: string, ...content: HtmlValue[]): SafeHtml {
-  return html`<section id="${id}"><h2>${title}</h2>${content}</section>`;
+  return html`<section id="${id}">
+    <h2>${title}</h2>
+    ${content}
+  </section>`;
 }
 
 /** Safe property access for summaries whose optional parts may be missing or null. */
@@ -67,7 +78,12 @@ function verdict(s: RunSummary): SafeHtml {
     ['gap power over the phase-averaged (decoupled) level', fmtRatio(d?.incoherent_fraction)],
     [`ripple in the detection band (${fmtSI(bandwidth, 'Hz')})`, fmtPercent(d?.ripple_rel)],
     ['ripple at full bandwidth', fmtPercent(d?.ripple_full_band_rel)],
-    ['mode hops', isNum(d?.hops_per_s) ? `${fmtNum(d?.hops_per_s)} /s (${fmtNum(d?.hops_per_period)} per drive period)` : NOT_COMPUTED],
+    [
+      'mode hops',
+      isNum(d?.hops_per_s)
+        ? `${fmtNum(d?.hops_per_s)} /s (${fmtNum(d?.hops_per_period)} per drive period)`
+        : NOT_COMPUTED,
+    ],
   ];
   const thresholds: Row[] = [
     ['ripple limit', fmtPercent(rippleLimit)],
@@ -79,11 +95,24 @@ function verdict(s: RunSummary): SafeHtml {
     'verdict',
     'Verdict',
     html`<div class="verdict" style="border-left-color:${classColour(cls)}">
-<p class="cls">${classBadge(cls)} ${meaning}</p>
-<p class="why"><b>Why:</b> ${reason}</p>
-</div>`,
-    s.status === 'numerical-failure' ? html`<ul class="warnlist"><li><b>The run failed numerically:</b> ${s.message ?? 'no message'}</li></ul>` : '',
-    html`<div class="grid2"><div><h3>Key figures</h3>${table(rows)}</div><div><h3>Thresholds used for the class (from the scenario)</h3>${table(thresholds)}</div></div>`,
+      <p class="cls">${classBadge(cls)} ${meaning}</p>
+      <p class="why"><b>Why:</b> ${reason}</p>
+    </div>`,
+    s.status === 'numerical-failure'
+      ? html`<ul class="warnlist">
+          <li><b>The run failed numerically:</b> ${s.message ?? 'no message'}</li>
+        </ul>`
+      : '',
+    html`<div class="grid2">
+      <div>
+        <h3>Key figures</h3>
+        ${table(rows)}
+      </div>
+      <div>
+        <h3>Thresholds used for the class (from the scenario)</h3>
+        ${table(thresholds)}
+      </div>
+    </div>`,
   );
 }
 
@@ -95,27 +124,94 @@ function comparison(s: RunSummary): SafeHtml {
     isNum(mean) ? `${fmtSI(mean, 'W')} (${fmtSI(min, 'W')} … ${fmtSI(max, 'W')})` : NOT_COMPUTED;
   const spread = d?.external_mean_by_offset_W;
   const rows: [string, string, string, string][] = [
-    ['gap power, one way: mean (min … max)', '— (no gap)', range(st?.external_W?.mean, st?.external_W?.min, st?.external_W?.max), range(d?.external_mean_W, d?.external_min_W, d?.external_max_W)],
-    ['laser output: mean (min … max)', fmtSI(fr?.output_W, 'W'), range(st?.laser_output_W?.mean, st?.laser_output_W?.min, st?.laser_output_W?.max), range(d?.laser_output_mean_W, d?.laser_output_min_W, d?.laser_output_max_W)],
-    ['laser intracavity power, one way', fmtSI(fr?.intracavity_W, 'W'), range(st?.intracavity_W?.mean, st?.intracavity_W?.min, st?.intracavity_W?.max), fmtSI(d?.laser_intracavity_mean_W, 'W')],
-    ['lasing modes', Array.isArray(fr?.lasing_modes) ? (fr.lasing_modes.length === 0 ? 'none' : fr.lasing_modes.join(', ')) : NOT_COMPUTED, '', Array.isArray(d?.mode_occupation) ? d.mode_occupation.filter((m) => m.fraction > 0.01).map((m) => m.index).join(', ') : NOT_COMPUTED],
-    ['positions / rest positions', '', isNum(st?.positions) ? `${st?.positions} over λ/2${st?.converged === false ? ' (mean not converged)' : ''}` : NOT_COMPUTED, isNum(d?.offsets) ? `${d?.offsets} over λ/2` : NOT_COMPUTED],
+    [
+      'gap power, one way: mean (min … max)',
+      '— (no gap)',
+      range(st?.external_W?.mean, st?.external_W?.min, st?.external_W?.max),
+      range(d?.external_mean_W, d?.external_min_W, d?.external_max_W),
+    ],
+    [
+      'laser output: mean (min … max)',
+      fmtSI(fr?.output_W, 'W'),
+      range(st?.laser_output_W?.mean, st?.laser_output_W?.min, st?.laser_output_W?.max),
+      range(d?.laser_output_mean_W, d?.laser_output_min_W, d?.laser_output_max_W),
+    ],
+    [
+      'laser intracavity power, one way',
+      fmtSI(fr?.intracavity_W, 'W'),
+      range(st?.intracavity_W?.mean, st?.intracavity_W?.min, st?.intracavity_W?.max),
+      fmtSI(d?.laser_intracavity_mean_W, 'W'),
+    ],
+    [
+      'lasing modes',
+      Array.isArray(fr?.lasing_modes)
+        ? fr.lasing_modes.length === 0
+          ? 'none'
+          : fr.lasing_modes.join(', ')
+        : NOT_COMPUTED,
+      '',
+      Array.isArray(d?.mode_occupation)
+        ? d.mode_occupation
+            .filter((m) => m.fraction > 0.01)
+            .map((m) => m.index)
+            .join(', ')
+        : NOT_COMPUTED,
+    ],
+    [
+      'positions / rest positions',
+      '',
+      isNum(st?.positions)
+        ? `${st?.positions} over λ/2${st?.converged === false ? ' (mean not converged)' : ''}`
+        : NOT_COMPUTED,
+      isNum(d?.offsets) ? `${d?.offsets} over λ/2` : NOT_COMPUTED,
+    ],
     ['up/down difference (hysteresis)', '', fmtPercent(st?.hysteresis_rel), ''],
-    ['spread of the mean over rest positions', '', '', spread && isNum(spread.min) ? `${fmtSI(spread.min, 'W')} … ${fmtSI(spread.max, 'W')}` : NOT_COMPUTED],
+    [
+      'spread of the mean over rest positions',
+      '',
+      '',
+      spread && isNum(spread.min) ? `${fmtSI(spread.min, 'W')} … ${fmtSI(spread.max, 'W')}` : NOT_COMPUTED,
+    ],
     ['gap power std. deviation', '', '', fmtSI(d?.external_std_W, 'W')],
   ];
   return section(
     'compare',
     'Three ways to run it: no return mirror, mirror still, mirror dithered',
-    html`<table class="compare"><thead><tr><th></th><th class="num">free-running laser</th><th class="num">mirror held still (mean over λ/2)</th><th class="num">mirror dithered (mean over rest positions)</th></tr></thead>
-<tbody>${rows.map((r) => html`<tr><th>${r[0]}</th>${cell(r[1], 'num')}${cell(r[2], 'num')}${cell(r[3], 'num')}</tr>`)}</tbody></table>`,
+    html`<table class="compare">
+      <thead>
+        <tr>
+          <th></th>
+          <th class="num">free-running laser</th>
+          <th class="num">mirror held still (mean over λ/2)</th>
+          <th class="num">mirror dithered (mean over rest positions)</th>
+        </tr>
+      </thead>
+      <tbody>
+        ${rows.map(
+          (r) =>
+            html`<tr>
+              <th>${r[0]}</th>
+              ${cell(r[1], 'num')}${cell(r[2], 'num')}${cell(r[3], 'num')}
+            </tr>`,
+        )}
+      </tbody>
+    </table>`,
     s.static === null ? html`<p class="note">The still-mirror reference was not computed.</p>` : '',
     s.driven === null ? html`<p class="note">The driven run was not computed.</p>` : '',
   );
 }
 
 function hLine(y: number, colour: string, dash: string): Record<string, unknown> {
-  return { type: 'line', xref: 'paper', x0: 0, x1: 1, yref: 'y', y0: y, y1: y, line: { color: colour, width: 1.5, dash } };
+  return {
+    type: 'line',
+    xref: 'paper',
+    x0: 0,
+    x1: 1,
+    yref: 'y',
+    y0: y,
+    y1: y,
+    line: { color: colour, width: 1.5, dash },
+  };
 }
 
 function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
@@ -124,15 +220,41 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
   const parts: HtmlValue[] = [];
   const data: Record<string, unknown>[] = [];
   if (c && Array.isArray(c.position_m) && c.position_m.length > 0) {
-    data.push({ type: 'scatter', mode: 'lines', name: 'still, scanning up', x: c.position_m, y: c.external_up_W, line: { color: TRACE_COLOURS[0], width: 2 } });
-    data.push({ type: 'scatter', mode: 'lines', name: 'still, scanning down', x: c.position_m, y: c.external_down_W, line: { color: TRACE_COLOURS[1], width: 1.5, dash: 'dot' } });
+    data.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: 'still, scanning up',
+      x: c.position_m,
+      y: c.external_up_W,
+      line: { color: TRACE_COLOURS[0], width: 2 },
+    });
+    data.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: 'still, scanning down',
+      x: c.position_m,
+      y: c.external_down_W,
+      line: { color: TRACE_COLOURS[1], width: 1.5, dash: 'dot' },
+    });
   }
   const offs = d?.offset_positions_m;
   const vals = d?.external_mean_by_offset_W?.values;
   if (Array.isArray(offs) && Array.isArray(vals) && offs.length === vals.length && offs.length > 0) {
-    data.push({ type: 'scatter', mode: 'markers', name: 'dithered, mean at each rest position', x: offs, y: vals, marker: { color: TRACE_COLOURS[2], size: 9, symbol: 'diamond' } });
+    data.push({
+      type: 'scatter',
+      mode: 'markers',
+      name: 'dithered, mean at each rest position',
+      x: offs,
+      y: vals,
+      marker: { color: TRACE_COLOURS[2], size: 9, symbol: 'diamond' },
+    });
   }
-  if (data.length === 0) return section('still', 'Mirror held still, and the dithered run at each rest position', html`<p class="note">Neither the still-mirror curve nor the per-rest-position means were saved.</p>`);
+  if (data.length === 0)
+    return section(
+      'still',
+      'Mirror held still, and the dithered run at each rest position',
+      html`<p class="note">Neither the still-mirror curve nor the per-rest-position means were saved.</p>`,
+    );
   const shapes: Record<string, unknown>[] = [];
   const sm = a.summary.static?.external_W?.mean;
   if (isNum(sm)) shapes.push(hLine(sm, TRACE_COLOURS[0], 'dash'));
@@ -140,21 +262,49 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
   plots.push({
     id: 'plot-static',
     data,
-    layout: baseLayout({ xaxis: axis('mirror position from rest (m)'), yaxis: axis('gap power, one way (W)', { rangemode: 'tozero' }), shapes }),
+    layout: baseLayout({
+      xaxis: axis('mirror position from rest (m)'),
+      yaxis: axis('gap power, one way (W)', { rangemode: 'tozero' }),
+      shapes,
+    }),
   });
-  parts.push(plotDiv('plot-static', `Dashed lines: still-mirror mean (${fmtSI(sm, 'W')}) and dithered mean over rest positions (${fmtSI(d?.external_mean_W, 'W')}). A gap between the up and down curves is hysteresis.`));
+  parts.push(
+    plotDiv(
+      'plot-static',
+      `Dashed lines: still-mirror mean (${fmtSI(sm, 'W')}) and dithered mean over rest positions (${fmtSI(d?.external_mean_W, 'W')}). A gap between the up and down curves is hysteresis.`,
+    ),
+  );
   if (c && Array.isArray(c.laser_output_up_W) && c.laser_output_up_W.length === c.position_m.length) {
     plots.push({
       id: 'plot-static-laser',
       data: [
-        { type: 'scatter', mode: 'lines', name: 'laser output, up', x: c.position_m, y: c.laser_output_up_W, line: { color: TRACE_COLOURS[4], width: 2 } },
-        { type: 'scatter', mode: 'lines', name: 'laser output, down', x: c.position_m, y: c.laser_output_down_W, line: { color: TRACE_COLOURS[5], width: 1.5, dash: 'dot' } },
+        {
+          type: 'scatter',
+          mode: 'lines',
+          name: 'laser output, up',
+          x: c.position_m,
+          y: c.laser_output_up_W,
+          line: { color: TRACE_COLOURS[4], width: 2 },
+        },
+        {
+          type: 'scatter',
+          mode: 'lines',
+          name: 'laser output, down',
+          x: c.position_m,
+          y: c.laser_output_down_W,
+          line: { color: TRACE_COLOURS[5], width: 1.5, dash: 'dot' },
+        },
       ],
-      layout: baseLayout({ height: 260, xaxis: axis('mirror position from rest (m)'), yaxis: axis('laser output (W)') }),
+      layout: baseLayout({
+        height: 260,
+        xaxis: axis('mirror position from rest (m)'),
+        yaxis: axis('laser output (W)'),
+      }),
     });
     parts.push(plotDiv('plot-static-laser'));
   }
-  if (!c) parts.push(html`<p class="note">The still-mirror curve (${RUN_FILES.staticCurve}) was not saved.</p>`);
+  if (!c)
+    parts.push(html`<p class="note">The still-mirror curve (${RUN_FILES.staticCurve}) was not saved.</p>`);
   return section('still', 'Mirror held still, and the dithered run at each rest position', parts);
 }
 
@@ -169,7 +319,8 @@ export function groupSeries(series: TraceSeries[]): { title: string; unit: strin
     let rank: number;
     if (s.unit === 'm') [kind, title, rank] = ['pos', 'mirror position', 0];
     else if (s.unit === 'm/s') [kind, title, rank] = ['speed', 'mirror speed', 1];
-    else if (s.unit === 'W' && /mode/i.test(text) && !/laser|output/i.test(text)) [kind, title, rank] = ['modes', 'power in each laser mode', 4];
+    else if (s.unit === 'W' && /mode/i.test(text) && !/laser|output/i.test(text))
+      [kind, title, rank] = ['modes', 'power in each laser mode', 4];
     else if (s.unit === 'W' && /laser|output/i.test(text)) [kind, title, rank] = ['laser', 'laser output', 3];
     else if (s.unit === 'W') [kind, title, rank] = ['gap', 'power in the gap', 2];
     else [kind, title, rank] = [`other:${s.unit}`, s.label || s.key, 5];
@@ -180,7 +331,9 @@ export function groupSeries(series: TraceSeries[]): { title: string; unit: strin
     }
     g.series.push(s);
   }
-  return [...groups.values()].sort((x, y) => x.rank - y.rank).map(({ title, unit, series: ss }) => ({ title, unit, series: ss }));
+  return [...groups.values()]
+    .sort((x, y) => x.rank - y.rank)
+    .map(({ title, unit, series: ss }) => ({ title, unit, series: ss }));
 }
 
 function periodMarks(t: number[], period: number | null): Record<string, unknown>[] {
@@ -191,7 +344,16 @@ function periodMarks(t: number[], period: number | null): Record<string, unknown
   const every = Math.max(1, Math.ceil(n / MAX_PERIOD_MARKS));
   const out: Record<string, unknown>[] = [];
   for (let k = Math.ceil(t0 / period); k * period <= t1; k += every) {
-    out.push({ type: 'line', xref: 'x', x0: k * period, x1: k * period, yref: 'paper', y0: 0, y1: 1, line: { color: '#b9bec8', width: 1, dash: 'dot' } });
+    out.push({
+      type: 'line',
+      xref: 'x',
+      x0: k * period,
+      x1: k * period,
+      yref: 'paper',
+      y0: 0,
+      y1: 1,
+      line: { color: '#b9bec8', width: 1, dash: 'dot' },
+    });
   }
   return out;
 }
@@ -199,12 +361,22 @@ function periodMarks(t: number[], period: number | null): Record<string, unknown
 function tracesSection(tr: TraceSet | null, plots: PlotSpec[]): SafeHtml {
   const title = 'Time record of the dithered run';
   if (!tr || !Array.isArray(tr.t_s) || !Array.isArray(tr.series) || tr.series.length === 0) {
-    return section('traces', title, html`<p class="note">No time traces were saved (${RUN_FILES.traces}).</p>`);
+    return section(
+      'traces',
+      title,
+      html`<p class="note">No time traces were saved (${RUN_FILES.traces}).</p>`,
+    );
   }
   const parts: HtmlValue[] = [
-    html`<p class="note">First rest position, analysed window. Traces are decimated keeping each bucket's minimum and maximum, so short spikes survive. ${
-      isNum(tr.drive_period_s) ? `Dotted vertical lines mark drive periods (${fmtSI(tr.drive_period_s, 's')}).` : 'The mirror is still: no drive period.'
-    }</p>`,
+    html`<p class="note">
+      First rest position, analysed window. Traces are decimated keeping each bucket's minimum and maximum, so
+      short spikes survive.
+      ${
+        isNum(tr.drive_period_s)
+          ? `Dotted vertical lines mark drive periods (${fmtSI(tr.drive_period_s, 's')}).`
+          : 'The mirror is still: no drive period.'
+      }
+    </p>`,
   ];
   const marks = periodMarks(tr.t_s, tr.drive_period_s);
   groupSeries(tr.series).forEach((g, i) => {
@@ -236,32 +408,59 @@ function tracesSection(tr: TraceSet | null, plots: PlotSpec[]): SafeHtml {
 function rinSection(sp: SpectraSet | null, plots: PlotSpec[]): SafeHtml {
   const title = 'Intensity noise of the gap power';
   const rin = sp?.rin;
-  if (!rin || !Array.isArray(rin.f_Hz) || rin.f_Hz.length === 0) return section('rin', title, html`<p class="note">No intensity-noise spectrum was saved.</p>`);
+  if (!rin || !Array.isArray(rin.f_Hz) || rin.f_Hz.length === 0)
+    return section('rin', title, html`<p class="note">No intensity-noise spectrum was saved.</p>`);
   // Skip the zero-frequency bin on a log axis.
   const keep = rin.f_Hz.map((f, i) => [f, rin.values[i]] as const).filter(([f]) => f > 0);
   const fMax = keep.length ? keep[keep.length - 1][0] : 0;
   const harmonics = (sp?.drive_harmonics_Hz ?? []).filter((f) => isNum(f) && f > 0 && f <= fMax).slice(0, 20);
   plots.push({
     id: 'plot-rin',
-    data: [{ type: 'scatter', mode: 'lines', name: 'relative intensity noise', x: keep.map((k) => k[0]), y: keep.map((k) => k[1]), line: { color: TRACE_COLOURS[0], width: 1.4 } }],
+    data: [
+      {
+        type: 'scatter',
+        mode: 'lines',
+        name: 'relative intensity noise',
+        x: keep.map((k) => k[0]),
+        y: keep.map((k) => k[1]),
+        line: { color: TRACE_COLOURS[0], width: 1.4 },
+      },
+    ],
     layout: baseLayout({
       xaxis: axis('frequency (Hz)', { type: 'log' }),
       yaxis: axis('RIN (dB/Hz)'),
-      shapes: harmonics.map((f) => ({ type: 'line', xref: 'x', x0: f, x1: f, yref: 'paper', y0: 0, y1: 1, line: { color: TRACE_COLOURS[1], width: 1, dash: 'dot' } })),
+      shapes: harmonics.map((f) => ({
+        type: 'line',
+        xref: 'x',
+        x0: f,
+        x1: f,
+        yref: 'paper',
+        y0: 0,
+        y1: 1,
+        line: { color: TRACE_COLOURS[1], width: 1, dash: 'dot' },
+      })),
       showlegend: false,
     }),
   });
   return section(
     'rin',
     title,
-    plotDiv('plot-rin', `One-sided, Hann window, ${fmtNum(rin.segments)} averaged segments, resolution ${fmtSI(rin.resolution_Hz, 'Hz')}. Dotted lines: drive frequency and its harmonics (up to the 20th)${harmonics.length === 0 ? ' (none inside the plotted range)' : ''}.`),
+    plotDiv(
+      'plot-rin',
+      `One-sided, Hann window, ${fmtNum(rin.segments)} averaged segments, resolution ${fmtSI(rin.resolution_Hz, 'Hz')}. Dotted lines: drive frequency and its harmonics (up to the 20th)${harmonics.length === 0 ? ' (none inside the plotted range)' : ''}.`,
+    ),
   );
 }
 
-function opticalSection(sp: SpectraSet | null, drive: RunSummary['drive'] | undefined, plots: PlotSpec[]): SafeHtml {
+function opticalSection(
+  sp: SpectraSet | null,
+  drive: RunSummary['drive'] | undefined,
+  plots: PlotSpec[],
+): SafeHtml {
   const title = 'Spectrum of the light returned to the laser';
   const opt = (sp?.optical ?? []).filter((o) => Array.isArray(o.f_Hz) && o.f_Hz.length > 0);
-  if (opt.length === 0) return section('optical', title, html`<p class="note">No optical spectrum was saved.</p>`);
+  if (opt.length === 0)
+    return section('optical', title, html`<p class="note">No optical spectrum was saved.</p>`);
   const absolute = opt.some((o) => o.f_Hz.some((f) => Math.abs(f) > 1e12));
   // The Doppler sidebands sit within a few peak Doppler shifts of the line; the saved span
   // is often far wider, so the plot opens on the sidebands (double-click shows it all).
@@ -273,8 +472,21 @@ function opticalSection(sp: SpectraSet | null, drive: RunSummary['drive'] | unde
   const zoom = !absolute && half !== null && half < (hi - lo) / 2 ? [-half, half] : undefined;
   plots.push({
     id: 'plot-optical',
-    data: opt.map((o, i) => ({ type: 'scatter', mode: 'lines', name: `mode ${o.mode}`, x: o.f_Hz, y: o.values, line: { width: 1.3, color: TRACE_COLOURS[i % TRACE_COLOURS.length] } })),
-    layout: baseLayout({ xaxis: axis(absolute ? 'optical frequency (Hz)' : 'frequency offset from the mode (Hz)', zoom ? { range: zoom } : {}), yaxis: axis('power relative to the peak (dB)') }),
+    data: opt.map((o, i) => ({
+      type: 'scatter',
+      mode: 'lines',
+      name: `mode ${o.mode}`,
+      x: o.f_Hz,
+      y: o.values,
+      line: { width: 1.3, color: TRACE_COLOURS[i % TRACE_COLOURS.length] },
+    })),
+    layout: baseLayout({
+      xaxis: axis(
+        absolute ? 'optical frequency (Hz)' : 'frequency offset from the mode (Hz)',
+        zoom ? { range: zoom } : {},
+      ),
+      yaxis: axis('power relative to the peak (dB)'),
+    }),
   });
   return section(
     'optical',
@@ -296,21 +508,62 @@ function modesSection(s: RunSummary, plots: PlotSpec[]): SafeHtml {
   if (occ.length > 0) {
     plots.push({
       id: 'plot-occupation',
-      data: [{ type: 'bar', name: 'time dominant', x: occ.map((m) => m.index), y: occ.map((m) => m.fraction), marker: { color: TRACE_COLOURS[0] } }],
-      layout: baseLayout({ height: 280, xaxis: axis('mode index (from the gain peak)', { dtick: 1 }), yaxis: axis('fraction of time dominant', { range: [0, 1] }), showlegend: false }),
+      data: [
+        {
+          type: 'bar',
+          name: 'time dominant',
+          x: occ.map((m) => m.index),
+          y: occ.map((m) => m.fraction),
+          marker: { color: TRACE_COLOURS[0] },
+        },
+      ],
+      layout: baseLayout({
+        height: 280,
+        xaxis: axis('mode index (from the gain peak)', { dtick: 1 }),
+        yaxis: axis('fraction of time dominant', { range: [0, 1] }),
+        showlegend: false,
+      }),
     });
-    inner.push(html`<div>${plotDiv('plot-occupation', 'Share of the analysed time each mode is the strongest.')}</div>`);
+    inner.push(
+      html`<div>
+        ${plotDiv('plot-occupation', 'Share of the analysed time each mode is the strongest.')}
+      </div>`,
+    );
   } else inner.push(html`<div><p class="note">Mode occupation: ${NOT_COMPUTED}.</p></div>`);
   const total = hist.reduce((a, b) => a + (isNum(b) ? b : 0), 0);
-  if (hist.length > 0 && total === 0) inner.push(html`<div><h3>Hop phases</h3><p class="note">No mode hop was counted in the analysed window.</p></div>`);
+  if (hist.length > 0 && total === 0)
+    inner.push(
+      html`<div>
+        <h3>Hop phases</h3>
+        <p class="note">No mode hop was counted in the analysed window.</p>
+      </div>`,
+    );
   else if (hist.length > 0) {
     const w = 360 / hist.length;
     plots.push({
       id: 'plot-hop-phase',
-      data: [{ type: 'bar', name: 'hops', x: hist.map((_, i) => (i + 0.5) * w), y: hist, width: hist.map(() => w * 0.92), marker: { color: TRACE_COLOURS[3] } }],
-      layout: baseLayout({ height: 280, xaxis: axis('drive phase (degrees)', { range: [0, 360], dtick: 90 }), yaxis: axis('hops', { rangemode: 'tozero' }), showlegend: false }),
+      data: [
+        {
+          type: 'bar',
+          name: 'hops',
+          x: hist.map((_, i) => (i + 0.5) * w),
+          y: hist,
+          width: hist.map(() => w * 0.92),
+          marker: { color: TRACE_COLOURS[3] },
+        },
+      ],
+      layout: baseLayout({
+        height: 280,
+        xaxis: axis('drive phase (degrees)', { range: [0, 360], dtick: 90 }),
+        yaxis: axis('hops', { rangemode: 'tozero' }),
+        showlegend: false,
+      }),
     });
-    inner.push(html`<div>${plotDiv('plot-hop-phase', `Where in the drive period the ${fmtNum(total)} counted hops happen (turning points at 90° and 270° for a sine starting at phase 0).`)}</div>`);
+    inner.push(
+      html`<div>
+        ${plotDiv('plot-hop-phase', `Where in the drive period the ${fmtNum(total)} counted hops happen (turning points at 90° and 270° for a sine starting at phase 0).`)}
+      </div>`,
+    );
   } else inner.push(html`<div><p class="note">Hop phase histogram: ${NOT_COMPUTED}.</p></div>`);
   parts.push(html`<div class="grid2">${inner}</div>`);
   return section('modes', title, parts);
@@ -331,7 +584,15 @@ function driveSection(s: RunSummary): SafeHtml {
     ['critical speed (Landau-Zener estimate)', fmtSI(dr?.critical_speed_landau_zener_m_s, 'm/s')],
     ['time spent below the critical speed', fmtPercent(dr?.fraction_below_critical)],
   ];
-  return section('drive', 'The drive and the speed rule', table(rows), html`<p class="note">Feedback is taken as decoupled while the Doppler shift 2|v|/λ exceeds the locking half width; a sine passes through v = 0 twice per period and spends the fraction (2/π) arcsin(v_c / v_peak) below v_c.</p>`);
+  return section(
+    'drive',
+    'The drive and the speed rule',
+    table(rows),
+    html`<p class="note">
+      Feedback is taken as decoupled while the Doppler shift 2|v|/λ exceeds the locking half width; a sine
+      passes through v = 0 twice per period and spends the fraction (2/π) arcsin(v_c / v_peak) below v_c.
+    </p>`,
+  );
 }
 
 interface ActuatorRow {
@@ -356,7 +617,12 @@ interface SheetLimit {
 
 function sheetLimits(sheet: unknown): SheetLimit[] {
   const l = get(sheet, 'limits');
-  return Array.isArray(l) ? l.filter((x): x is SheetLimit => x !== null && typeof x === 'object' && typeof (x as SheetLimit).key === 'string') : [];
+  return Array.isArray(l)
+    ? l.filter(
+        (x): x is SheetLimit =>
+          x !== null && typeof x === 'object' && typeof (x as SheetLimit).key === 'string',
+      )
+    : [];
 }
 
 /** "<= 150 V" or ">= 1.5" for a limit check. */
@@ -376,36 +642,110 @@ function sheetRows(sheet: unknown): ActuatorRow[] {
   const limits = sheetLimits(sheet);
   const check = (key: string): Pick<ActuatorRow, 'limit' | 'ok' | 'limited'> => {
     const c = limits.find((l) => l.key === key);
-    return c ? { limit: limitText(c), ok: c.ok === true, limited: true } : { limit: null, ok: null, limited: true };
+    return c
+      ? { limit: limitText(c), ok: c.ok === true, limited: true }
+      : { limit: null, ok: null, limited: true };
   };
   const rows: ActuatorRow[] = [];
   const push = (r: ActuatorRow) => rows.push({ limited: false, ...r });
   const num = (v: unknown): number | null => (isNum(v) ? v : null);
   const src = get(req, 'resolved', 'resonance_source');
-  push({ quantity: 'stroke per volt (static)', value: num(get(req, 'resolved', 'stroke_per_volt_m_V')), unit: 'm/V', limit: null, ok: null });
-  push({ quantity: `first resonance${typeof src === 'string' && src !== 'none' ? ` (${src})` : ''}`, value: num(get(req, 'resolved', 'resonance_Hz')), unit: 'Hz', limit: null, ok: null });
-  push({ quantity: 'quality factor', value: num(get(req, 'resolved', 'quality_factor')), unit: '', limit: null, ok: null });
+  push({
+    quantity: 'stroke per volt (static)',
+    value: num(get(req, 'resolved', 'stroke_per_volt_m_V')),
+    unit: 'm/V',
+    limit: null,
+    ok: null,
+  });
+  push({
+    quantity: `first resonance${typeof src === 'string' && src !== 'none' ? ` (${src})` : ''}`,
+    value: num(get(req, 'resolved', 'resonance_Hz')),
+    unit: 'Hz',
+    limit: null,
+    ok: null,
+  });
+  push({
+    quantity: 'quality factor',
+    value: num(get(req, 'resolved', 'quality_factor')),
+    unit: '',
+    limit: null,
+    ok: null,
+  });
   const comps = get(req, 'components');
   if (Array.isArray(comps)) {
     for (const c of comps) {
       const label = String(get(c, 'label') ?? '');
       const mag = get(c, 'response_magnitude');
-      push({ quantity: `${label}: response |H| at ${fmtSI(get(c, 'frequency_Hz'), 'Hz')}`, value: isNum(mag) ? fmtNum(mag) : null, unit: '', limit: null, ok: null });
-      if (comps.length > 1) push({ quantity: `${label}: voltage amplitude`, value: num(get(c, 'voltage_V')), unit: 'V', limit: null, ok: null });
+      push({
+        quantity: `${label}: response |H| at ${fmtSI(get(c, 'frequency_Hz'), 'Hz')}`,
+        value: isNum(mag) ? fmtNum(mag) : null,
+        unit: '',
+        limit: null,
+        ok: null,
+      });
+      if (comps.length > 1)
+        push({
+          quantity: `${label}: voltage amplitude`,
+          value: num(get(c, 'voltage_V')),
+          unit: 'V',
+          limit: null,
+          ok: null,
+        });
     }
   }
   const margin = get(req, 'resonance_margin');
   // without a resonance the response is quasi-static and there is no margin to check (the notes say so)
   if (isNum(margin)) {
-    push({ quantity: 'resonance / drive frequency', value: fmtNum(margin), unit: '', ...check('actuator.min_resonance_margin') });
+    push({
+      quantity: 'resonance / drive frequency',
+      value: fmtNum(margin),
+      unit: '',
+      ...check('actuator.min_resonance_margin'),
+    });
     const above = get(req, 'above_resonance') === true;
-    push({ quantity: 'drive below the resonance', value: above ? 'no' : 'yes', unit: '', limit: 'yes', ok: !above, limited: true });
+    push({
+      quantity: 'drive below the resonance',
+      value: above ? 'no' : 'yes',
+      unit: '',
+      limit: 'yes',
+      ok: !above,
+      limited: true,
+    });
   }
-  push({ quantity: 'peak voltage', value: num(get(req, 'voltage_peak_V')), unit: 'V', ...check('actuator.max_voltage') });
-  push({ quantity: 'voltage peak to peak', value: num(get(req, 'voltage_peak_to_peak_V')), unit: 'V', limit: null, ok: null });
-  push({ quantity: 'peak reactive current', value: num(get(req, 'current_peak_A')), unit: 'A', ...check('actuator.max_current') });
-  push({ quantity: 'reactive power (½ V I)', value: num(get(req, 'reactive_power_var')), unit: 'var', limit: null, ok: null });
-  if (isNum(get(req, 'force_N'))) push({ quantity: 'peak force on the moving mass', value: num(get(req, 'force_N')), unit: 'N', limit: null, ok: null });
+  push({
+    quantity: 'peak voltage',
+    value: num(get(req, 'voltage_peak_V')),
+    unit: 'V',
+    ...check('actuator.max_voltage'),
+  });
+  push({
+    quantity: 'voltage peak to peak',
+    value: num(get(req, 'voltage_peak_to_peak_V')),
+    unit: 'V',
+    limit: null,
+    ok: null,
+  });
+  push({
+    quantity: 'peak reactive current',
+    value: num(get(req, 'current_peak_A')),
+    unit: 'A',
+    ...check('actuator.max_current'),
+  });
+  push({
+    quantity: 'reactive power (½ V I)',
+    value: num(get(req, 'reactive_power_var')),
+    unit: 'var',
+    limit: null,
+    ok: null,
+  });
+  if (isNum(get(req, 'force_N')))
+    push({
+      quantity: 'peak force on the moving mass',
+      value: num(get(req, 'force_N')),
+      unit: 'N',
+      limit: null,
+      ok: null,
+    });
   return rows;
 }
 
@@ -421,20 +761,47 @@ function actuatorSection(s: RunSummary): SafeHtml {
   if (rowsRaw.length === 0) return html``;
   const [yes, no] = isSheet ? ['OK', 'EXCEEDED'] : ['yes', 'NO'];
   const v = (x: unknown, unit: unknown): string =>
-    typeof x === 'number' ? fmtSI(x, typeof unit === 'string' ? unit : '') : typeof x === 'string' ? x : NOT_COMPUTED;
+    typeof x === 'number'
+      ? fmtSI(x, typeof unit === 'string' ? unit : '')
+      : typeof x === 'string'
+        ? x
+        : NOT_COMPUTED;
   const rows = rowsRaw.filter((r): r is ActuatorRow => r !== null && typeof r === 'object');
   const exceeded = get(raw, 'exceeded');
   const notes = get(raw, 'notes');
   return section(
     'actuator',
     'What the actuator has to deliver',
-    html`<table><thead><tr><th>quantity</th><th class="num">needed</th><th class="num">limit</th><th>within limit</th></tr></thead><tbody>${rows.map(
-      (r) => html`<tr class="${r.ok === false ? 'flag' : ''}"><th>${String(r.quantity ?? '')}</th>${cell(v(r.value, r.unit), 'num')}${r.limited === false ? html`<td class="num"></td>` : cell(r.limit === null || r.limit === undefined ? 'no limit given' : v(r.limit, r.unit), 'num')}<td>${r.ok === true ? yes : r.ok === false ? no : '—'}</td></tr>`,
-    )}</tbody></table>`,
+    html`<table>
+      <thead>
+        <tr>
+          <th>quantity</th>
+          <th class="num">needed</th>
+          <th class="num">limit</th>
+          <th>within limit</th>
+        </tr>
+      </thead>
+      <tbody>
+        ${rows.map(
+          (r) =>
+            html`<tr class="${r.ok === false ? 'flag' : ''}">
+              <th>${String(r.quantity ?? '')}</th>
+              ${cell(v(r.value, r.unit), 'num')}${r.limited === false ? html`<td class="num"></td>` : cell(r.limit === null || r.limit === undefined ? 'no limit given' : v(r.limit, r.unit), 'num')}
+              <td>${r.ok === true ? yes : r.ok === false ? no : '—'}</td>
+            </tr>`,
+        )}
+      </tbody>
+    </table>`,
     isSheet && Array.isArray(exceeded)
-      ? html`<p class="note">${exceeded.length === 0 ? 'Every limit the scenario sets is met.' : `Limits exceeded: ${exceeded.map(String).join(', ')}.`}</p>`
+      ? html`<p class="note">
+          ${exceeded.length === 0 ? 'Every limit the scenario sets is met.' : `Limits exceeded: ${exceeded.map(String).join(', ')}.`}
+        </p>`
       : '',
-    isSheet && Array.isArray(notes) && notes.length > 0 ? html`<ul class="note">${notes.map((n) => html`<li>${String(n)}</li>`)}</ul>` : '',
+    isSheet && Array.isArray(notes) && notes.length > 0
+      ? html`<ul class="note">
+          ${notes.map((n) => html`<li>${String(n)}</li>`)}
+        </ul>`
+      : '',
   );
 }
 
@@ -452,10 +819,26 @@ function balanceSection(s: RunSummary): SafeHtml {
   return section(
     'balance',
     'Bookkeeping: power balance and where the model is stretched',
-    pb === null || pb === undefined ? html`<p class="note">Power balance: ${NOT_COMPUTED}.</p>` : html`<table>${rows.map(([k, val, flag]) => html`<tr class="${flag ? 'flag' : ''}"><th>${k}</th>${cell(fmtPercent(val), 'num')}<td>${flag ? html`<b>above ${fmtPercent(INTERFACE_MISMATCH_LIMIT, 2)}: treat the powers with care</b>` : ''}</td></tr>`)}</table>`,
+    pb === null || pb === undefined
+      ? html`<p class="note">Power balance: ${NOT_COMPUTED}.</p>`
+      : html`<table>
+          ${rows.map(
+            ([k, val, flag]) =>
+              html`<tr class="${flag ? 'flag' : ''}">
+                <th>${k}</th>
+                ${cell(fmtPercent(val), 'num')}
+                <td>
+                  ${flag ? html`<b>above ${fmtPercent(INTERFACE_MISMATCH_LIMIT, 2)}: treat the powers with care</b>` : ''}
+                </td>
+              </tr>`,
+          )}
+        </table>`,
     warnings.length === 0
       ? html`<p class="note">No model-validity warnings.</p>`
-      : html`<h3>Model-validity warnings</h3><ul class="warnlist">${warnings.map((w) => html`<li><code>${String(w?.code ?? '')}</code> ${String(w?.message ?? '')}</li>`)}</ul>`,
+      : html`<h3>Model-validity warnings</h3>
+          <ul class="warnlist">
+            ${warnings.map((w) => html`<li><code>${String(w?.code ?? '')}</code> ${String(w?.message ?? '')}</li>`)}
+          </ul>`,
   );
 }
 
@@ -490,14 +873,27 @@ const BEAM_LABELS: Record<string, string> = {
 
 function derivedSection(s: RunSummary): SafeHtml {
   const d = s.derived as unknown as Record<string, unknown> | null;
-  if (!d) return section('derived', 'Figures that follow from the setup', html`<p class="note">${NOT_COMPUTED}.</p>`);
+  if (!d)
+    return section(
+      'derived',
+      'Figures that follow from the setup',
+      html`<p class="note">${NOT_COMPUTED}.</p>`,
+    );
   const rows: Row[] = DERIVED_LABELS.filter(([k]) => k in d).map(([k, label]) => {
     const src = k === 'feedback_efficiency' || k === 'roundtrip_efficiency' ? d[`${k}_source`] : undefined;
     return [label, fmtByKey(k, d[k]) + (typeof src === 'string' ? ` (from ${src})` : '')];
   });
   // Keys added later are shown too, by their unit suffix.
-  const known = new Set([...DERIVED_LABELS.map(([k]) => k), 'modes', 'beams', 'feedback_efficiency_source', 'roundtrip_efficiency_source']);
-  for (const [k, v] of Object.entries(d)) if (!known.has(k) && (v === null || typeof v !== 'object')) rows.push([k.replace(/_/g, ' '), fmtByKey(k, v)]);
+  const known = new Set([
+    ...DERIVED_LABELS.map(([k]) => k),
+    'modes',
+    'beams',
+    'feedback_efficiency_source',
+    'roundtrip_efficiency_source',
+  ]);
+  for (const [k, v] of Object.entries(d))
+    if (!known.has(k) && (v === null || typeof v !== 'object'))
+      rows.push([k.replace(/_/g, ' '), fmtByKey(k, v)]);
   const modes = Array.isArray(s.derived.modes) ? s.derived.modes : [];
   const shown = modes.slice(0, 40);
   const beams = s.derived.beams as unknown as Record<string, unknown> | undefined;
@@ -510,13 +906,36 @@ function derivedSection(s: RunSummary): SafeHtml {
   return section(
     'derived',
     'Figures that follow from the setup',
-    html`<div class="grid2"><div>${table(rows)}</div><div><h3>Beams</h3>${beamRows.length ? table(beamRows) : html`<p class="note">${NOT_COMPUTED}</p>`}${notes.map((n) => html`<p class="note">${n}</p>`)}</div></div>`,
+    html`<div class="grid2">
+      <div>${table(rows)}</div>
+      <div>
+        <h3>Beams</h3>
+        ${beamRows.length ? table(beamRows) : html`<p class="note">${NOT_COMPUTED}</p>`}${notes.map((n) => html`<p class="note">${n}</p>`)}
+      </div>
+    </div>`,
     html`<h3>Laser modes considered</h3>`,
     shown.length === 0
       ? html`<p class="note">${NOT_COMPUTED}</p>`
-      : html`<table><thead><tr><th class="num">index</th><th class="num">frequency</th><th class="num">detuning from gain peak</th><th class="num">relative gain</th></tr></thead><tbody>${shown.map(
-          (m) => html`<tr><td class="num">${String(m.index)}</td>${cell(fmtSI(m.frequency_Hz, 'Hz', 9), 'num')}${cell(fmtSI(m.detuning_Hz, 'Hz'), 'num')}${cell(fmtNum(m.gain_rel), 'num')}</tr>`,
-        )}</tbody></table>${modes.length > shown.length ? html`<p class="note">${modes.length - shown.length} more modes not listed.</p>` : ''}`,
+      : html`<table>
+            <thead>
+              <tr>
+                <th class="num">index</th>
+                <th class="num">frequency</th>
+                <th class="num">detuning from gain peak</th>
+                <th class="num">relative gain</th>
+              </tr>
+            </thead>
+            <tbody>
+              ${shown.map(
+                (m) =>
+                  html`<tr>
+                    <td class="num">${String(m.index)}</td>
+                    ${cell(fmtSI(m.frequency_Hz, 'Hz', 9), 'num')}${cell(fmtSI(m.detuning_Hz, 'Hz'), 'num')}${cell(fmtNum(m.gain_rel), 'num')}
+                  </tr>`,
+              )}
+            </tbody>
+          </table>
+          ${modes.length > shown.length ? html`<p class="note">${modes.length - shown.length} more modes not listed.</p>` : ''}`,
   );
 }
 
@@ -525,10 +944,29 @@ function scenarioSection(s: RunSummary): SafeHtml {
   return section(
     'scenario',
     'The setup as simulated',
-    html`<p class="note">Normalised scenario (all values SI, defaults filled in), SHA-256 <code>${s.scenario_sha256 ?? NOT_COMPUTED}</code>.</p>`,
-    rows.length === 0 ? html`<p class="note">The scenario was not saved in the summary.</p>` : html`<div class="grid2">${groupRows(rows).map(
-      ([head, rs]) => html`<div><h3>${head}</h3><table class="scenario">${rs.map((r) => html`<tr><th><code>${head === 'general' ? r.path : r.path.slice(head.length + 1)}</code></th><td>${r.text}</td></tr>`)}</table></div>`,
-    )}</div>`,
+    html`<p class="note">
+      Normalised scenario (all values SI, defaults filled in), SHA-256
+      <code>${s.scenario_sha256 ?? NOT_COMPUTED}</code>.
+    </p>`,
+    rows.length === 0
+      ? html`<p class="note">The scenario was not saved in the summary.</p>`
+      : html`<div class="grid2">
+          ${groupRows(rows).map(
+            ([head, rs]) =>
+              html`<div>
+                <h3>${head}</h3>
+                <table class="scenario">
+                  ${rs.map(
+                    (r) =>
+                      html`<tr>
+                        <th><code>${head === 'general' ? r.path : r.path.slice(head.length + 1)}</code></th>
+                        <td>${r.text}</td>
+                      </tr>`,
+                  )}
+                </table>
+              </div>`,
+          )}
+        </div>`,
   );
 }
 

@@ -68,7 +68,10 @@ export function rawHtml(s: string): SafeHtml {
  * (`</script>`) or open a comment; JSON.parse of the block's text gives the value back.
  */
 export function jsonForScript(value: unknown): string {
-  return JSON.stringify(value).replace(/[<>&\u2028\u2029]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+  return JSON.stringify(value).replace(
+    /[<>&\u2028\u2029]/g,
+    (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`,
+  );
 }
 
 /**

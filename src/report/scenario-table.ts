@@ -18,10 +18,12 @@ function walk(s: unknown, path: string, out: Map<string, QuantityKind>): void {
   if (!def) return;
   const meta = z.globalRegistry.get(s as z.ZodType) as Record<string, unknown> | undefined;
   const kind = meta?.[KIND_META];
-  if (typeof kind === 'string' && kind in QUANTITY_KINDS && !out.has(path)) out.set(path, kind as QuantityKind);
+  if (typeof kind === 'string' && kind in QUANTITY_KINDS && !out.has(path))
+    out.set(path, kind as QuantityKind);
   switch (def.type) {
     case 'object':
-      for (const [k, v] of Object.entries(def.shape as Record<string, unknown>)) walk(v, path === '' ? k : `${path}.${k}`, out);
+      for (const [k, v] of Object.entries(def.shape as Record<string, unknown>))
+        walk(v, path === '' ? k : `${path}.${k}`, out);
       break;
     case 'default':
     case 'prefault':

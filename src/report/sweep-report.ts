@@ -16,7 +16,17 @@ import { QUANTITY_KINDS } from '../scenario/units';
 import { InputError } from '../scenario/errors';
 import { TOOL_VERSION } from '../version';
 import { classBadge, classColour, classLegend } from './class-style';
-import { fmtByKey, fmtNum, fmtPercent, fmtRatio, fmtSI, isNum, labelOfKey, NOT_COMPUTED, unitOfKey } from './format';
+import {
+  fmtByKey,
+  fmtNum,
+  fmtPercent,
+  fmtRatio,
+  fmtSI,
+  isNum,
+  labelOfKey,
+  NOT_COMPUTED,
+  unitOfKey,
+} from './format';
 import { axis, baseLayout, plotDiv, PlotSpec, renderPage, TRACE_COLOURS } from './html';
 import { readJsonFile } from './read-results';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
@@ -36,19 +46,56 @@ interface MetricStyle {
   colorscale: [number, string][];
 }
 
-const GOOD_HIGH: [number, string][] = [[0, '#f7f4ea'], [0.35, '#a9d0c3'], [0.7, '#3f8f8a'], [1, '#0b3d4c']];
-const GOOD_LOW: [number, string][] = [[0, '#0b3d4c'], [0.3, '#4d8f8a'], [0.65, '#e2c48a'], [1, '#a8431e']];
+const GOOD_HIGH: [number, string][] = [
+  [0, '#f7f4ea'],
+  [0.35, '#a9d0c3'],
+  [0.7, '#3f8f8a'],
+  [1, '#0b3d4c'],
+];
+const GOOD_LOW: [number, string][] = [
+  [0, '#0b3d4c'],
+  [0.3, '#4d8f8a'],
+  [0.65, '#e2c48a'],
+  [1, '#a8431e'],
+];
 
 const METRIC_STYLE: Record<string, MetricStyle> = {
-  enhancement: { label: 'enhancement (gap power / free-running intracavity power)', short: 'enhancement', format: (v) => fmtRatio(v), colorscale: GOOD_HIGH },
-  gain_over_static: { label: 'gain over the mirror held still', short: 'gain over still', format: (v) => fmtRatio(v), colorscale: GOOD_HIGH },
-  ripple_rel: { label: 'ripple in the detection band', short: 'in-band ripple', format: (v) => fmtPercent(v), colorscale: GOOD_LOW },
-  hops_per_s: { label: 'mode hops per second', short: 'hops per s', format: (v) => `${fmtNum(v)} /s`, colorscale: GOOD_LOW },
+  enhancement: {
+    label: 'enhancement (gap power / free-running intracavity power)',
+    short: 'enhancement',
+    format: (v) => fmtRatio(v),
+    colorscale: GOOD_HIGH,
+  },
+  gain_over_static: {
+    label: 'gain over the mirror held still',
+    short: 'gain over still',
+    format: (v) => fmtRatio(v),
+    colorscale: GOOD_HIGH,
+  },
+  ripple_rel: {
+    label: 'ripple in the detection band',
+    short: 'in-band ripple',
+    format: (v) => fmtPercent(v),
+    colorscale: GOOD_LOW,
+  },
+  hops_per_s: {
+    label: 'mode hops per second',
+    short: 'hops per s',
+    format: (v) => `${fmtNum(v)} /s`,
+    colorscale: GOOD_LOW,
+  },
 };
 const METRIC_ORDER = ['enhancement', 'gain_over_static', 'ripple_rel', 'hops_per_s'];
 
 function metricStyle(name: string): MetricStyle {
-  return METRIC_STYLE[name] ?? { label: labelOfKey(name), short: labelOfKey(name), format: (v) => fmtByKey(name, v), colorscale: GOOD_HIGH };
+  return (
+    METRIC_STYLE[name] ?? {
+      label: labelOfKey(name),
+      short: labelOfKey(name),
+      format: (v) => fmtByKey(name, v),
+      colorscale: GOOD_HIGH,
+    }
+  );
 }
 
 /** SI unit of a sweep axis key, from the scenario schema ("" when dimensionless or unknown). */
@@ -130,31 +177,64 @@ export function cellEdges(a: MapAxis): number[] {
   return log ? e.map((x) => 10 ** x) : e;
 }
 
-function curveTrace(c: CurvePoint[] | null, name: string, style: Record<string, unknown>, swapped: boolean): Record<string, unknown> | null {
+function curveTrace(
+  c: CurvePoint[] | null,
+  name: string,
+  style: Record<string, unknown>,
+  swapped: boolean,
+): Record<string, unknown> | null {
   if (!Array.isArray(c)) return null;
   const pts = c.filter((p) => isNum(p.frequency_Hz));
   if (!pts.some((p) => isNum(p.amplitude_m))) return null;
   const f = pts.map((p) => p.frequency_Hz);
   const a = pts.map((p) => (isNum(p.amplitude_m) ? p.amplitude_m : null));
-  return { type: 'scatter', mode: 'lines', name, x: swapped ? a : f, y: swapped ? f : a, connectgaps: false, hoverinfo: 'skip', line: style };
+  return {
+    type: 'scatter',
+    mode: 'lines',
+    name,
+    x: swapped ? a : f,
+    y: swapped ? f : a,
+    connectgaps: false,
+    hoverinfo: 'skip',
+    line: style,
+  };
 }
 
 function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Record<string, unknown>[] {
   const out: Record<string, unknown>[] = [];
   if (drive) {
     const sw = false;
-    const c1 = curveTrace(m.critical_curve, 'speed rule A = v_c/(2πf)', { color: '#111111', width: 2, dash: 'dash' }, sw);
+    const c1 = curveTrace(
+      m.critical_curve,
+      'speed rule A = v_c/(2πf)',
+      { color: '#111111', width: 2, dash: 'dash' },
+      sw,
+    );
     const c2 = curveTrace(m.onset_curve, 'hopping onset (measured)', { color: '#ff4fd8', width: 2.5 }, sw);
-    const c3 = curveTrace(m.decoupling_boundary, 'decoupling boundary (measured)', { color: '#ffffff', width: 3 }, sw);
+    const c3 = curveTrace(
+      m.decoupling_boundary,
+      'decoupling boundary (measured)',
+      { color: '#ffffff', width: 3 },
+      sw,
+    );
     for (const c of [c1, c2, c3]) if (c) out.push(c);
   }
-  if (Array.isArray(m.reachable) && m.reachable.length === m.total_points && m.reachable.some(Boolean) && !m.reachable.every(Boolean)) {
+  if (
+    Array.isArray(m.reachable) &&
+    m.reachable.length === m.total_points &&
+    m.reachable.some(Boolean) &&
+    !m.reachable.every(Boolean)
+  ) {
     out.push({
       type: 'contour',
       name: 'reachable by the actuator',
       x: m.axes[xy.x].values,
       y: m.axes[xy.y].values,
-      z: grid(m, m.reachable.map((r) => (r ? 1 : 0)), xy),
+      z: grid(
+        m,
+        m.reachable.map((r) => (r ? 1 : 0)),
+        xy,
+      ),
       showscale: false,
       contours: { start: 0.5, end: 0.5, size: 1, coloring: 'none' },
       line: { color: '#1f5fbf', width: 2.5, dash: 'dot' },
@@ -177,7 +257,15 @@ function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Re
     const xk = m.axes[xy.x].key;
     const yk = m.axes[xy.y].key;
     if (isNum(r.axes[xk]) && isNum(r.axes[yk])) {
-      out.push({ type: 'scatter', mode: 'markers', name: 'recommended operating point', x: [r.axes[xk]], y: [r.axes[yk]], marker: { symbol: 'star', size: 16, color: '#ffd23f', line: { color: '#111111', width: 1.5 } }, hoverinfo: 'skip' });
+      out.push({
+        type: 'scatter',
+        mode: 'markers',
+        name: 'recommended operating point',
+        x: [r.axes[xk]],
+        y: [r.axes[yk]],
+        marker: { symbol: 'star', size: 16, color: '#ffd23f', line: { color: '#111111', width: 1.5 } },
+        hoverinfo: 'skip',
+      });
     }
   }
   return out;
@@ -190,13 +278,19 @@ function hoverText(m: SweepMap, xy: { x: number; y: number }): string[][] {
   return ay.values.map((yv, iy) =>
     ax.values.map((xv, ix) => {
       const i = iy * st[xy.y] + ix * st[xy.x];
-      const lines = [`${plotText(ay.key)} = ${fmtAxisValue(ay.key, yv)}`, `${plotText(ax.key)} = ${fmtAxisValue(ax.key, xv)}`];
+      const lines = [
+        `${plotText(ay.key)} = ${fmtAxisValue(ay.key, yv)}`,
+        `${plotText(ax.key)} = ${fmtAxisValue(ax.key, xv)}`,
+      ];
       for (const name of orderedMetrics(m)) {
         const v = m.metrics[name]?.[i];
-        lines.push(`${plotText(metricStyle(name).label)}: ${isNum(v) ? metricStyle(name).format(v) : NOT_COMPUTED}`);
+        lines.push(
+          `${plotText(metricStyle(name).label)}: ${isNum(v) ? metricStyle(name).format(v) : NOT_COMPUTED}`,
+        );
       }
       lines.push(`class: ${plotText(m.classes[i] ?? NOT_COMPUTED)}`);
-      if (Array.isArray(m.reachable)) lines.push(m.reachable[i] ? 'actuator can reach it' : 'out of the actuator\'s reach');
+      if (Array.isArray(m.reachable))
+        lines.push(m.reachable[i] ? 'actuator can reach it' : "out of the actuator's reach");
       return lines.join('<br>');
     }),
   );
@@ -216,7 +310,10 @@ function primaryMetrics(m: SweepMap): string[] {
 
 function orderedMetrics(m: SweepMap): string[] {
   const names = Object.keys(m.metrics ?? {});
-  return [...METRIC_ORDER.filter((n) => names.includes(n)), ...names.filter((n) => !METRIC_ORDER.includes(n)).sort()];
+  return [
+    ...METRIC_ORDER.filter((n) => names.includes(n)),
+    ...names.filter((n) => !METRIC_ORDER.includes(n)).sort(),
+  ];
 }
 
 function mapLayout(m: SweepMap, xy: { x: number; y: number }): Record<string, unknown> {
@@ -224,8 +321,16 @@ function mapLayout(m: SweepMap, xy: { x: number; y: number }): Record<string, un
   const ay = m.axes[xy.y];
   return baseLayout({
     height: 460,
-    xaxis: axis(plotText(axisTitle(ax)), { type: ax.scale === 'log' ? 'log' : 'linear', range: gridRange(ax), showgrid: false }),
-    yaxis: axis(plotText(axisTitle(ay)), { type: ay.scale === 'log' ? 'log' : 'linear', range: gridRange(ay), showgrid: false }),
+    xaxis: axis(plotText(axisTitle(ax)), {
+      type: ax.scale === 'log' ? 'log' : 'linear',
+      range: gridRange(ax),
+      showgrid: false,
+    }),
+    yaxis: axis(plotText(axisTitle(ay)), {
+      type: ay.scale === 'log' ? 'log' : 'linear',
+      range: gridRange(ay),
+      showgrid: false,
+    }),
     legend: { orientation: 'h', x: 0, y: -0.2, yanchor: 'top', bgcolor: '#e6e8ec' },
     margin: { l: 80, r: 20, t: 12, b: 60 },
   });
@@ -244,24 +349,51 @@ function classColorscale(): [number, string][] {
 
 function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
   const xy = mapAxes(m)!;
-  const drive = m.amplitude_key !== null && m.frequency_key !== null && m.axes[xy.x].key === m.frequency_key && m.axes[xy.y].key === m.amplitude_key;
+  const drive =
+    m.amplitude_key !== null &&
+    m.frequency_key !== null &&
+    m.axes[xy.x].key === m.frequency_key &&
+    m.axes[xy.y].key === m.amplitude_key;
   const text = hoverText(m, xy);
   const over = overlays(m, xy, drive);
   const parts: HtmlValue[] = [];
   const others = m.axes.filter((_, k) => k !== xy.x && k !== xy.y);
   if (others.length > 0) {
-    parts.push(html`<p class="note">The maps show the slice at ${others.map((a, k) => html`${k > 0 ? ', ' : ''}<code>${a.key}</code> = ${fmtAxisValue(a.key, a.values[0])}`)}.</p>`);
+    parts.push(
+      html`<p class="note">
+        The maps show the slice at
+        ${others.map((a, k) => html`${k > 0 ? ', ' : ''}<code>${a.key}</code> = ${fmtAxisValue(a.key, a.values[0])}`)}.
+      </p>`,
+    );
   }
   parts.push(
-    html`<p class="note">Move the pointer over a cell for its values. ${
-      drive ? 'Black dashed: the speed rule A = v_c/(2πf); red: where hops start (measured); white: the decoupling boundary (measured); ' : ''
-    }${reachNote(m)}${m.recommended ? 'star: the recommended operating point. ' : ''}Empty cells: not finished or failed.</p>`,
+    html`<p class="note">
+      Move the pointer over a cell for its values.
+      ${
+        drive
+          ? 'Black dashed: the speed rule A = v_c/(2πf); red: where hops start (measured); white: the decoupling boundary (measured); '
+          : ''
+      }${reachNote(m)}${m.recommended ? 'star: the recommended operating point. ' : ''}Empty
+      cells: not finished or failed.
+    </p>`,
   );
   const classIdx = m.classes.map((c) => (c === null ? null : RUN_CLASSES.indexOf(c)));
   plots.push({
     id: 'map-class',
     data: [
-      { type: 'heatmap', x: cellEdges(m.axes[xy.x]), y: cellEdges(m.axes[xy.y]), z: grid(m, classIdx, xy), text, hovertemplate: '%{text}<extra></extra>', colorscale: classColorscale(), zmin: -0.5, zmax: RUN_CLASSES.length - 0.5, showscale: false, hoverongaps: false },
+      {
+        type: 'heatmap',
+        x: cellEdges(m.axes[xy.x]),
+        y: cellEdges(m.axes[xy.y]),
+        z: grid(m, classIdx, xy),
+        text,
+        hovertemplate: '%{text}<extra></extra>',
+        colorscale: classColorscale(),
+        zmin: -0.5,
+        zmax: RUN_CLASSES.length - 0.5,
+        showscale: false,
+        hoverongaps: false,
+      },
       ...over,
     ],
     layout: mapLayout(m, xy),
@@ -278,16 +410,41 @@ function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
     plots.push({
       id,
       data: [
-        { type: 'heatmap', x: cellEdges(m.axes[xy.x]), y: cellEdges(m.axes[xy.y]), z: grid(m, m.metrics[name], xy), text, hovertemplate: '%{text}<extra></extra>', colorscale: st.colorscale, showscale: true, hoverongaps: false, colorbar: { thickness: 14, len: 0.8 } },
+        {
+          type: 'heatmap',
+          x: cellEdges(m.axes[xy.x]),
+          y: cellEdges(m.axes[xy.y]),
+          z: grid(m, m.metrics[name], xy),
+          text,
+          hovertemplate: '%{text}<extra></extra>',
+          colorscale: st.colorscale,
+          showscale: true,
+          hoverongaps: false,
+          colorbar: { thickness: 14, len: 0.8 },
+        },
         ...over,
       ],
       layout,
     });
     if (isPrimary) parts.push(html`<h3>${st.label}</h3>`, plotDiv(id));
-    else extra.push(html`<div><h3>${st.label}${unitOfKey(name) && unitOfKey(name) !== '%' ? ` (${unitOfKey(name)})` : ''}</h3>${plotDiv(id)}</div>`);
+    else
+      extra.push(
+        html`<div>
+          <h3>${st.label}${unitOfKey(name) && unitOfKey(name) !== '%' ? ` (${unitOfKey(name)})` : ''}</h3>
+          ${plotDiv(id)}
+        </div>`,
+      );
   });
-  if (extra.length > 0) parts.push(html`<h3>Further metrics saved in the map</h3><p class="note">Same overlays as above, legend omitted.</p><div class="grid-pairs">${extra}</div>`);
-  return html`<section id="maps"><h2>Maps over the sweep</h2>${parts}</section>`;
+  if (extra.length > 0)
+    parts.push(
+      html`<h3>Further metrics saved in the map</h3>
+        <p class="note">Same overlays as above, legend omitted.</p>
+        <div class="grid-pairs">${extra}</div>`,
+    );
+  return html`<section id="maps">
+    <h2>Maps over the sweep</h2>
+    ${parts}
+  </section>`;
 }
 
 function oneAxisPlots(m: SweepMap, plots: PlotSpec[]): SafeHtml {
@@ -300,27 +457,60 @@ function oneAxisPlots(m: SweepMap, plots: PlotSpec[]): SafeHtml {
     const vals = m.metrics[name] ?? [];
     plots.push({
       id,
-      data: [{ type: 'scatter', mode: 'lines+markers', name: plotText(st.label), x: a.values, y: a.values.map((_, k) => (isNum(vals[k]) ? vals[k] : null)), line: { color: TRACE_COLOURS[i % TRACE_COLOURS.length], width: 2 }, marker: { size: 6 }, text: a.values.map((_, k) => (isNum(vals[k]) ? st.format(vals[k] as number) : NOT_COMPUTED)), hovertemplate: `${plotText(a.key)} = %{x}<br>%{text}<extra></extra>` }],
-      layout: baseLayout({ height: 260, margin: { l: 70, r: 24, t: 12, b: 52 }, xaxis, yaxis: axis(plotText(st.short)), showlegend: false }),
+      data: [
+        {
+          type: 'scatter',
+          mode: 'lines+markers',
+          name: plotText(st.label),
+          x: a.values,
+          y: a.values.map((_, k) => (isNum(vals[k]) ? vals[k] : null)),
+          line: { color: TRACE_COLOURS[i % TRACE_COLOURS.length], width: 2 },
+          marker: { size: 6 },
+          text: a.values.map((_, k) => (isNum(vals[k]) ? st.format(vals[k] as number) : NOT_COMPUTED)),
+          hovertemplate: `${plotText(a.key)} = %{x}<br>%{text}<extra></extra>`,
+        },
+      ],
+      layout: baseLayout({
+        height: 260,
+        margin: { l: 70, r: 24, t: 12, b: 52 },
+        xaxis,
+        yaxis: axis(plotText(st.short)),
+        showlegend: false,
+      }),
     });
     parts.push(html`<h3>${st.label}</h3>`, plotDiv(id));
   });
   const classes = a.values.map((_, k) => m.classes[k] ?? null);
   plots.push({
     id: 'line-class',
-    data: [{
-      type: 'scatter',
-      mode: 'markers',
-      name: 'class',
-      x: a.values,
-      y: classes.map((c) => c ?? NOT_COMPUTED),
-      marker: { size: 12, symbol: 'square', color: classes.map((c) => classColour(c)) },
-      hovertemplate: `${plotText(a.key)} = %{x}<br>%{y}<extra></extra>`,
-    }],
-    layout: baseLayout({ height: 240, xaxis, yaxis: axis('', { type: 'category', categoryorder: 'array', categoryarray: [...RUN_CLASSES, NOT_COMPUTED] }), showlegend: false, margin: { l: 130, r: 20, t: 20, b: 52 } }),
+    data: [
+      {
+        type: 'scatter',
+        mode: 'markers',
+        name: 'class',
+        x: a.values,
+        y: classes.map((c) => c ?? NOT_COMPUTED),
+        marker: { size: 12, symbol: 'square', color: classes.map((c) => classColour(c)) },
+        hovertemplate: `${plotText(a.key)} = %{x}<br>%{y}<extra></extra>`,
+      },
+    ],
+    layout: baseLayout({
+      height: 240,
+      xaxis,
+      yaxis: axis('', {
+        type: 'category',
+        categoryorder: 'array',
+        categoryarray: [...RUN_CLASSES, NOT_COMPUTED],
+      }),
+      showlegend: false,
+      margin: { l: 130, r: 20, t: 20, b: 52 },
+    }),
   });
   parts.push(html`<h3>Class along the axis</h3>`, plotDiv('line-class'), classLegend());
-  return html`<section id="lines"><h2>Along the swept key</h2>${parts}</section>`;
+  return html`<section id="lines">
+    <h2>Along the swept key</h2>
+    ${parts}
+  </section>`;
 }
 
 /** Indices of the decoupled points with the highest gain over static, best first (at most `n`). */
@@ -345,50 +535,156 @@ function bestSection(m: SweepMap): SafeHtml {
   const table =
     best.length === 0
       ? html`<p class="note">No point of the sweep is decoupled with a computed gain over static.</p>`
-      : html`<table><thead><tr><th class="num">rank</th>${m.axes.map((a) => html`<th class="num">${axisTitle(a)}</th>`)}${names.map((n) => html`<th class="num">${metricStyle(n).short}</th>`)}${Array.isArray(m.reachable) ? html`<th>actuator can reach</th>` : ''}</tr></thead><tbody>${best.map((i, r) => {
-          const av = pointAxes(m, i);
-          return html`<tr><td class="num">${r + 1}</td>${m.axes.map((a, k) => html`<td class="num">${fmtAxisValue(a.key, av[k])}</td>`)}${names.map((n) => {
-            const v = m.metrics[n]?.[i];
-            return isNum(v) ? html`<td class="num">${metricStyle(n).format(v)}</td>` : html`<td class="num nc">${NOT_COMPUTED}</td>`;
-          })}${Array.isArray(m.reachable) ? html`<td>${m.reachable[i] ? 'yes' : 'no'}</td>` : ''}</tr>`;
-        })}</tbody></table>`;
+      : html`<table>
+          <thead>
+            <tr>
+              <th class="num">rank</th>
+              ${m.axes.map((a) => html`<th class="num">${axisTitle(a)}</th>`)}${names.map((n) => html`<th class="num">${metricStyle(n).short}</th>`)}${Array.isArray(m.reachable) ? html`<th>actuator can reach</th>` : ''}
+            </tr>
+          </thead>
+          <tbody>
+            ${best.map((i, r) => {
+              const av = pointAxes(m, i);
+              return html`<tr>
+                <td class="num">${r + 1}</td>
+                ${m.axes.map((a, k) => html`<td class="num">${fmtAxisValue(a.key, av[k])}</td>`)}${names.map(
+                  (n) => {
+                    const v = m.metrics[n]?.[i];
+                    return isNum(v)
+                      ? html`<td class="num">${metricStyle(n).format(v)}</td>`
+                      : html`<td class="num nc">${NOT_COMPUTED}</td>`;
+                  },
+                )}${Array.isArray(m.reachable) ? html`<td>${m.reachable[i] ? 'yes' : 'no'}</td>` : ''}
+              </tr>`;
+            })}
+          </tbody>
+        </table>`;
   const r = m.recommended;
   const rec = r
-    ? html`<h3>Recommended operating point</h3><table>
-<tr><th>amplitude</th><td class="num">${fmtSI(r.amplitude_m, 'm')}</td></tr>
-<tr><th>frequency</th><td class="num">${fmtSI(r.frequency_Hz, 'Hz')}</td></tr>
-<tr><th>stroke</th><td class="num">${fmtSI(r.stroke_m, 'm')}</td></tr>
-<tr><th>drive voltage</th><td class="num ${isNum(r.voltage_V) ? '' : 'nc'}">${fmtSI(r.voltage_V, 'V')}</td></tr>
-${isNum(r.current_A) ? html`<tr><th>drive current (reactive)</th><td class="num">${fmtSI(r.current_A, 'A')}</td></tr>` : ''}
-${isNum(r.utilisation) ? html`<tr><th>tightest amplifier rating</th><td class="num">${(100 * r.utilisation).toFixed(0)} % of ${r.limiting_key ?? 'its limit'}</td></tr>` : ''}
-<tr><th>class there</th><td>${classBadge(m.classes[r.index] ?? null)}</td></tr>
-<tr><th>why this point</th><td>${r.reason}</td></tr></table>`
-    : html`<h3>Recommended operating point</h3><p class="note">None: ${m.recommended_reason || 'no reason recorded'}.</p>`;
-  return html`<section id="best"><h2>Best decoupled points</h2><p class="note">Decoupled points ranked by gain over the mirror held still (the ${BEST_POINTS} highest).</p>${table}${rec}</section>`;
+    ? html`<h3>Recommended operating point</h3>
+        <table>
+          <tr>
+            <th>amplitude</th>
+            <td class="num">${fmtSI(r.amplitude_m, 'm')}</td>
+          </tr>
+          <tr>
+            <th>frequency</th>
+            <td class="num">${fmtSI(r.frequency_Hz, 'Hz')}</td>
+          </tr>
+          <tr>
+            <th>stroke</th>
+            <td class="num">${fmtSI(r.stroke_m, 'm')}</td>
+          </tr>
+          <tr>
+            <th>drive voltage</th>
+            <td class="num ${isNum(r.voltage_V) ? '' : 'nc'}">${fmtSI(r.voltage_V, 'V')}</td>
+          </tr>
+          ${
+            isNum(r.current_A)
+              ? html`<tr>
+                  <th>drive current (reactive)</th>
+                  <td class="num">${fmtSI(r.current_A, 'A')}</td>
+                </tr>`
+              : ''
+          }
+          ${
+            isNum(r.utilisation)
+              ? html`<tr>
+                  <th>tightest amplifier rating</th>
+                  <td class="num">
+                    ${(100 * r.utilisation).toFixed(0)} % of ${r.limiting_key ?? 'its limit'}
+                  </td>
+                </tr>`
+              : ''
+          }
+          <tr>
+            <th>class there</th>
+            <td>${classBadge(m.classes[r.index] ?? null)}</td>
+          </tr>
+          <tr>
+            <th>why this point</th>
+            <td>${r.reason}</td>
+          </tr>
+        </table>`
+    : html`<h3>Recommended operating point</h3>
+        <p class="note">None: ${m.recommended_reason || 'no reason recorded'}.</p>`;
+  return html`<section id="best">
+    <h2>Best decoupled points</h2>
+    <p class="note">
+      Decoupled points ranked by gain over the mirror held still (the ${BEST_POINTS} highest).
+    </p>
+    ${table}${rec}
+  </section>`;
 }
 
 function countsSection(m: SweepMap): SafeHtml {
   const counts = new Map<string, number>();
   for (const c of m.classes) counts.set(c ?? NOT_COMPUTED, (counts.get(c ?? NOT_COMPUTED) ?? 0) + 1);
-  return html`<section id="overview"><h2>What was swept</h2>
-<table><thead><tr><th>key</th><th class="num">from</th><th class="num">to</th><th class="num">points</th><th>scale</th></tr></thead><tbody>${m.axes.map(
-    (a) => html`<tr><td><code>${a.key}</code></td><td class="num">${fmtAxisValue(a.key, a.values[0])}</td><td class="num">${fmtAxisValue(a.key, a.values[a.values.length - 1])}</td><td class="num">${a.values.length}</td><td>${a.scale}</td></tr>`,
-  )}</tbody></table>
-<p class="note">${m.finished_points} of ${m.total_points} points finished, ${m.failed_points} failed. Scenario SHA-256 <code>${m.scenario_sha256}</code>.</p>
-<table><thead><tr><th>class</th><th class="num">points</th></tr></thead><tbody>${[...counts.entries()].map(([c, n]) => html`<tr><td>${c === NOT_COMPUTED ? html`<span class="nc">${c}</span>` : classBadge(c)}</td><td class="num">${n}</td></tr>`)}</tbody></table>
-</section>`;
+  return html`<section id="overview">
+    <h2>What was swept</h2>
+    <table>
+      <thead>
+        <tr>
+          <th>key</th>
+          <th class="num">from</th>
+          <th class="num">to</th>
+          <th class="num">points</th>
+          <th>scale</th>
+        </tr>
+      </thead>
+      <tbody>
+        ${m.axes.map(
+          (a) =>
+            html`<tr>
+              <td><code>${a.key}</code></td>
+              <td class="num">${fmtAxisValue(a.key, a.values[0])}</td>
+              <td class="num">${fmtAxisValue(a.key, a.values[a.values.length - 1])}</td>
+              <td class="num">${a.values.length}</td>
+              <td>${a.scale}</td>
+            </tr>`,
+        )}
+      </tbody>
+    </table>
+    <p class="note">
+      ${m.finished_points} of ${m.total_points} points finished, ${m.failed_points} failed. Scenario SHA-256
+      <code>${m.scenario_sha256}</code>.
+    </p>
+    <table>
+      <thead>
+        <tr>
+          <th>class</th>
+          <th class="num">points</th>
+        </tr>
+      </thead>
+      <tbody>
+        ${[...counts.entries()].map(
+          ([c, n]) =>
+            html`<tr>
+              <td>${c === NOT_COMPUTED ? html`<span class="nc">${c}</span>` : classBadge(c)}</td>
+              <td class="num">${n}</td>
+            </tr>`,
+        )}
+      </tbody>
+    </table>
+  </section>`;
 }
 
 function checkMap(file: string, m: unknown): SweepMap {
   const problems: { path: string; message: string }[] = [];
   const o = m as Record<string, unknown> | null;
-  if (o === null || typeof o !== 'object' || Array.isArray(o)) throw new InputError(file, [{ path: '', message: 'expected a sweep map (a JSON object)' }]);
-  if (!Array.isArray(o.axes) || o.axes.length === 0) problems.push({ path: 'axes', message: 'expected a list of at least one axis' });
-  else (o.axes as unknown[]).forEach((a, k) => {
-    if (!a || typeof a !== 'object' || !Array.isArray((a as MapAxis).values)) problems.push({ path: `axes.${k}.values`, message: 'expected a list of numbers' });
-  });
-  if (!Array.isArray(o.classes)) problems.push({ path: 'classes', message: 'expected a list with one class per point' });
-  if (o.metrics === null || typeof o.metrics !== 'object') problems.push({ path: 'metrics', message: 'expected an object of metric name -> list of values' });
+  if (o === null || typeof o !== 'object' || Array.isArray(o))
+    throw new InputError(file, [{ path: '', message: 'expected a sweep map (a JSON object)' }]);
+  if (!Array.isArray(o.axes) || o.axes.length === 0)
+    problems.push({ path: 'axes', message: 'expected a list of at least one axis' });
+  else
+    (o.axes as unknown[]).forEach((a, k) => {
+      if (!a || typeof a !== 'object' || !Array.isArray((a as MapAxis).values))
+        problems.push({ path: `axes.${k}.values`, message: 'expected a list of numbers' });
+    });
+  if (!Array.isArray(o.classes))
+    problems.push({ path: 'classes', message: 'expected a list with one class per point' });
+  if (o.metrics === null || typeof o.metrics !== 'object')
+    problems.push({ path: 'metrics', message: 'expected an object of metric name -> list of values' });
   if (problems.length > 0) throw new InputError(file, problems);
   return o as unknown as SweepMap;
 }

@@ -10,7 +10,14 @@ export const RESULT_VERSION = 1;
 
 export type RunClass = 'decoupled' | 'modulated' | 'hopping' | 'no-gain' | 'no-lasing' | 'numerical-failure';
 
-export const RUN_CLASSES: readonly RunClass[] = ['decoupled', 'modulated', 'hopping', 'no-gain', 'no-lasing', 'numerical-failure'];
+export const RUN_CLASSES: readonly RunClass[] = [
+  'decoupled',
+  'modulated',
+  'hopping',
+  'no-gain',
+  'no-lasing',
+  'numerical-failure',
+];
 
 export interface MinMeanMax {
   mean: number;

@@ -36,5 +36,7 @@ function normalise(v: unknown, where: string): unknown {
 
 /** Hex SHA-256 of the canonical JSON of the normalised scenario (sorted keys, no spaces). */
 export function scenarioSha256(s: Scenario): string {
-  return createHash('sha256').update(JSON.stringify(normaliseScenarioForJson(s))).digest('hex');
+  return createHash('sha256')
+    .update(JSON.stringify(normaliseScenarioForJson(s)))
+    .digest('hex');
 }

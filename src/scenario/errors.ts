@@ -30,7 +30,11 @@ export class InputError extends Error {
 export function formatProblems(file: string | null, problems: InputProblem[]): string {
   return problems
     .map((p) => {
-      const where = [file ?? '', p.line !== undefined ? String(p.line) : '', p.line !== undefined && p.column !== undefined ? String(p.column) : '']
+      const where = [
+        file ?? '',
+        p.line !== undefined ? String(p.line) : '',
+        p.line !== undefined && p.column !== undefined ? String(p.column) : '',
+      ]
         .filter((s) => s !== '')
         .join(':');
       const key = p.path === '' ? '' : `${p.path}: `;

@@ -30,7 +30,8 @@ const TYPE_NAMES: Record<string, string> = {
 function expectation(issue: Issue): string {
   const m = /^expected (.*?)(, found .*)?$/s.exec(issue.message);
   if (m) return m[1];
-  if (issue.code === 'invalid_value') return issue.values.map((v) => (typeof v === 'string' ? `'${v}'` : String(v))).join(' or ');
+  if (issue.code === 'invalid_value')
+    return issue.values.map((v) => (typeof v === 'string' ? `'${v}'` : String(v))).join(' or ');
   if (issue.code === 'invalid_type') return TYPE_NAMES[issue.expected] ?? issue.expected;
   return issue.message;
 }
@@ -54,7 +55,11 @@ function convert(issue: Issue, base: PathSegment[], input: unknown, out: Located
       const valid = validKeysAt(path);
       for (const key of issue.keys) {
         const near = nearestKey(key, valid);
-        const hint = near ? ` (did you mean '${near}'?)` : valid.length > 0 ? ` (valid keys here: ${valid.join(', ')})` : '';
+        const hint = near
+          ? ` (did you mean '${near}'?)`
+          : valid.length > 0
+            ? ` (valid keys here: ${valid.join(', ')})`
+            : '';
         out.push({ path: [...path, key], message: `unknown key '${key}'${hint}`, atKey: true });
       }
       return;
@@ -75,7 +80,9 @@ function convert(issue: Issue, base: PathSegment[], input: unknown, out: Located
           for (const e of best) convert(e, path, found, out);
           return;
         }
-        const wanted = [...new Set(branches.map((b) => (b[0] ? expectation(b[0]) : '')).filter((s) => s !== ''))];
+        const wanted = [
+          ...new Set(branches.map((b) => (b[0] ? expectation(b[0]) : '')).filter((s) => s !== '')),
+        ];
         const head = issue.message.startsWith('expected') ? issue.message : `expected ${wanted.join(' or ')}`;
         out.push({ path, message: `${head}, found ${describeFound(found)}`, atKey: false });
         return;
@@ -97,11 +104,17 @@ function convert(issue: Issue, base: PathSegment[], input: unknown, out: Located
         out.push({ path, message: issue.message, atKey: false });
         return;
       }
-      out.push({ path, message: `expected ${expectation(issue)}, found ${describeFound(found)}`, atKey: false });
+      out.push({
+        path,
+        message: `expected ${expectation(issue)}, found ${describeFound(found)}`,
+        atKey: false,
+      });
       return;
     }
     default: {
-      const msg = issue.message.startsWith('expected') ? issue.message : `expected a valid value (${issue.message}), found ${describeFound(found)}`;
+      const msg = issue.message.startsWith('expected')
+        ? issue.message
+        : `expected a valid value (${issue.message}), found ${describeFound(found)}`;
       out.push({ path, message: msg, atKey: false });
     }
   }
@@ -121,7 +134,11 @@ export function issuesToProblems(issues: readonly z.core.$ZodIssue[]): LocatedPr
     if (!p.message.startsWith(SUM_RULE)) return true;
     const parent = p.path.slice(0, -1);
     return !out.some(
-      (q) => q !== p && !q.message.startsWith(SUM_RULE) && q.path.length === parent.length + 1 && parent.every((s, i) => q.path[i] === s),
+      (q) =>
+        q !== p &&
+        !q.message.startsWith(SUM_RULE) &&
+        q.path.length === parent.length + 1 &&
+        parent.every((s, i) => q.path[i] === s),
     );
   });
 }

@@ -35,7 +35,12 @@ interface Position {
  * when the path does not exist in the file (a missing key), the key of the deepest
  * mapping entry that does, so "missing wavelength" points at the `laser:` line.
  */
-function locate(doc: Document, lc: LineCounter, path: readonly PathSegment[], atKey: boolean): Position | undefined {
+function locate(
+  doc: Document,
+  lc: LineCounter,
+  path: readonly PathSegment[],
+  atKey: boolean,
+): Position | undefined {
   let node: unknown = doc.contents;
   let lastKey: Node | null = null;
   let lastValue: Node | null = null;
@@ -100,7 +105,12 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
   const problems: InputProblem[] = [];
   for (const e of doc.errors) {
     const at = e.linePos?.[0];
-    problems.push({ path: '', message: `YAML syntax: ${yamlMessage(e.message)}`, line: at?.line, column: at?.col });
+    problems.push({
+      path: '',
+      message: `YAML syntax: ${yamlMessage(e.message)}`,
+      line: at?.line,
+      column: at?.col,
+    });
   }
   if (problems.length === 0 && /\.json$/i.test(fileLabel)) {
     try {
@@ -108,20 +118,36 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
     } catch (err) {
       const m = /position (\d+)/.exec(String((err as Error).message));
       const at = m ? pos(lc, Number(m[1])) : undefined;
-      problems.push(withPosition({ path: '', message: `JSON syntax: ${(err as Error).message.split('\n')[0]}` }, at));
+      problems.push(
+        withPosition({ path: '', message: `JSON syntax: ${(err as Error).message.split('\n')[0]}` }, at),
+      );
     }
   }
   if (problems.length > 0) throw new InputError(fileLabel, problems);
 
   const raw: unknown = doc.toJS({ maxAliasCount: 100 });
   if (raw === null || raw === undefined || typeof raw !== 'object' || Array.isArray(raw)) {
-    const found = raw === null || raw === undefined ? 'nothing' : Array.isArray(raw) ? 'a list' : `${typeof raw} ${JSON.stringify(raw)}`;
-    throw new InputError(fileLabel, [{ path: '', message: `expected a mapping with keys name, laser, ..., found ${found}`, line: 1, column: 1 }]);
+    const found =
+      raw === null || raw === undefined
+        ? 'nothing'
+        : Array.isArray(raw)
+          ? 'a list'
+          : `${typeof raw} ${JSON.stringify(raw)}`;
+    throw new InputError(fileLabel, [
+      {
+        path: '',
+        message: `expected a mapping with keys name, laser, ..., found ${found}`,
+        line: 1,
+        column: 1,
+      },
+    ]);
   }
   const parsed = scenarioSchema.safeParse(raw, { reportInput: true });
   if (!parsed.success) {
     for (const p of issuesToProblems(parsed.error.issues)) {
-      problems.push(withPosition({ path: formatKeyPath(p.path), message: p.message }, locate(doc, lc, p.path, p.atKey)));
+      problems.push(
+        withPosition({ path: formatKeyPath(p.path), message: p.message }, locate(doc, lc, p.path, p.atKey)),
+      );
     }
     // Axis keys are checked now too, so one pass shows every problem a reader can fix.
     const axes = (raw as { sweep?: { axes?: unknown } }).sweep?.axes;
@@ -129,7 +155,8 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
       axes.forEach((a: unknown, i) => {
         const key = (a as { key?: unknown } | null)?.key;
         const kp = typeof key === 'string' && key !== '' ? axisKeyProblem(key, i) : null;
-        if (kp && !problems.some((q) => q.path === kp.path)) problems.push(withPosition(kp, locate(doc, lc, ['sweep', 'axes', i, 'key'], false)));
+        if (kp && !problems.some((q) => q.path === kp.path))
+          problems.push(withPosition(kp, locate(doc, lc, ['sweep', 'axes', i, 'key'], false)));
       });
     }
     throw new InputError(fileLabel, sortProblems(problems));
@@ -140,14 +167,23 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
     return path ? withPosition(p, locate(doc, lc, path, false)) : p;
   };
   if (checks.errors.length > 0) throw new InputError(fileLabel, sortProblems(checks.errors.map(place)));
-  return { scenario: parsed.data, raw, text, sha256: scenarioSha256(parsed.data), warnings: checks.warnings.map(place) };
+  return {
+    scenario: parsed.data,
+    raw,
+    text,
+    sha256: scenarioSha256(parsed.data),
+    warnings: checks.warnings.map(place),
+  };
 }
 
 /** Problems in file order (those without a line last), so a reader can work down the file. */
 function sortProblems(problems: InputProblem[]): InputProblem[] {
   return problems
     .map((p, i) => ({ p, i }))
-    .sort((a, b) => (a.p.line ?? Infinity) - (b.p.line ?? Infinity) || (a.p.column ?? 0) - (b.p.column ?? 0) || a.i - b.i)
+    .sort(
+      (a, b) =>
+        (a.p.line ?? Infinity) - (b.p.line ?? Infinity) || (a.p.column ?? 0) - (b.p.column ?? 0) || a.i - b.i,
+    )
     .map((x) => x.p);
 }
 
@@ -162,7 +198,12 @@ export function loadScenarioFile(path: string): LoadedScenario {
     text = readFileSync(path, 'utf8');
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
-    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'a directory, not a file' : (err as Error).message;
+    const why =
+      code === 'ENOENT'
+        ? 'no such file'
+        : code === 'EISDIR'
+          ? 'a directory, not a file'
+          : (err as Error).message;
     throw new InputError(path, [{ path: '', message: `expected a readable scenario file, found ${why}` }]);
   }
   return parseScenarioText(text, path);

@@ -16,7 +16,9 @@ export const KIND_META = 'dithercavKind';
  */
 export function quantity(kind: QuantityKind, check?: { test: (v: number) => boolean; expected: string }) {
   return z
-    .union([z.number(), z.string()], { error: (iss) => `expected ${describeKind(kind)}, found ${describeFound(iss.input)}` })
+    .union([z.number(), z.string()], {
+      error: (iss) => `expected ${describeKind(kind)}, found ${describeFound(iss.input)}`,
+    })
     .transform((input, ctx) => {
       const parsed = parseQuantity(input, kind);
       if (!parsed.ok) {
@@ -24,7 +26,11 @@ export function quantity(kind: QuantityKind, check?: { test: (v: number) => bool
         return z.NEVER;
       }
       if (check && !check.test(parsed.value)) {
-        ctx.issues.push({ code: 'custom', message: `expected ${check.expected}, found ${JSON.stringify(input)}`, input });
+        ctx.issues.push({
+          code: 'custom',
+          message: `expected ${check.expected}, found ${JSON.stringify(input)}`,
+          input,
+        });
         return z.NEVER;
       }
       return parsed.value;
@@ -52,13 +58,16 @@ function integer(min: number, max = Number.MAX_SAFE_INTEGER) {
   return z
     .number({ error: (iss) => `expected a whole number >= ${min}, found ${describeFound(iss.input)}` })
     .refine((v) => Number.isInteger(v) && v >= min && v <= max, {
-      error: (iss) => `expected a whole number from ${min}${max < Number.MAX_SAFE_INTEGER ? ` to ${max}` : ''}, found ${String(iss.input)}`,
+      error: (iss) =>
+        `expected a whole number from ${min}${max < Number.MAX_SAFE_INTEGER ? ` to ${max}` : ''}, found ${String(iss.input)}`,
     })
     .meta({ [KIND_META]: 'dimensionless' });
 }
 
 function choice<T extends readonly [string, ...string[]]>(values: T) {
-  return z.enum(values, { error: (iss) => `expected one of ${values.join(', ')}, found ${describeFound(iss.input)}` });
+  return z.enum(values, {
+    error: (iss) => `expected one of ${values.join(', ')}, found ${describeFound(iss.input)}`,
+  });
 }
 
 /**
@@ -67,7 +76,8 @@ function choice<T extends readonly [string, ...string[]]>(values: T) {
  */
 const radius = z
   .union([z.literal('flat'), z.number(), z.string()], {
-    error: (iss) => `expected a radius of curvature such as '1 m' or 'flat', found ${describeFound(iss.input)}`,
+    error: (iss) =>
+      `expected a radius of curvature such as '1 m' or 'flat', found ${describeFound(iss.input)}`,
   })
   .transform((input, ctx) => {
     if (input === 'flat') return Infinity;
@@ -82,7 +92,10 @@ const radius = z
     }
     return parsed.value;
   })
-  .meta({ [KIND_META]: 'length', description: "radius of curvature (> 0 concave towards the cavity) or 'flat'" });
+  .meta({
+    [KIND_META]: 'length',
+    description: "radius of curvature (> 0 concave towards the cavity) or 'flat'",
+  });
 
 /** One mirror: power reflectivity R, loss A; transmission T = 1 - R - A unless given. */
 const mirror = z
@@ -109,20 +122,33 @@ const gain = z.strictObject({
   broadening: choice(['homogeneous', 'inhomogeneous'] as const).default('homogeneous'),
   shape: choice(['gaussian', 'lorentzian', 'parabolic'] as const).default('gaussian'),
   linewidth: quantity('frequency', positive).describe('FWHM of the gain line'),
-  homogeneous_width: quantity('frequency', positive).default(100e6).describe('half width of a spectral hole (inhomogeneous broadening)'),
+  homogeneous_width: quantity('frequency', positive)
+    .default(100e6)
+    .describe('half width of a spectral hole (inhomogeneous broadening)'),
   center_offset: quantity('frequency').default(0).describe('gain peak minus c / wavelength'),
-  pump_ratio: quantity('dimensionless', nonNegative).describe('pump over threshold of the gain peak (1 = threshold)'),
+  pump_ratio: quantity('dimensionless', nonNegative).describe(
+    'pump over threshold of the gain peak (1 = threshold)',
+  ),
   saturation_power: quantity('power', positive).describe('one-way intracavity saturation power'),
   inversion_lifetime: quantity('time', positive).describe('inversion (population) relaxation time tau_N'),
   alpha: bounded(-20, 20).default(0).describe('linewidth-enhancement factor'),
-  cross_saturation: bounded(0, 1).default(1).describe('extra factor on C_mk for k != m (spatial hole burning)'),
-  spontaneous_power: quantity('power', nonNegative).default(1e-9).describe('spontaneous emission into one mode, P_sp'),
-  mode_floor: bounded(0, 1, { minOpen: true }).default(0.3).describe('keep cold-cavity modes with pump_ratio * f_m above this'),
+  cross_saturation: bounded(0, 1)
+    .default(1)
+    .describe('extra factor on C_mk for k != m (spatial hole burning)'),
+  spontaneous_power: quantity('power', nonNegative)
+    .default(1e-9)
+    .describe('spontaneous emission into one mode, P_sp'),
+  mode_floor: bounded(0, 1, { minOpen: true })
+    .default(0.3)
+    .describe('keep cold-cavity modes with pump_ratio * f_m above this'),
   max_modes: integer(1, 64).default(12).describe('at most this many modes, the strongest kept'),
 });
 
 const laser = z.strictObject({
-  wavelength: quantity('length', { test: (v) => v >= 100e-9 && v <= 20e-6, expected: 'an optical wavelength from 100 nm to 20 um' }),
+  wavelength: quantity('length', {
+    test: (v) => v >= 100e-9 && v <= 20e-6,
+    expected: 'an optical wavelength from 100 nm to 20 um',
+  }),
   cavity_length: quantity('length', positive),
   refractive_index: bounded(1, 5).default(1),
   rear_mirror: mirror,
@@ -134,9 +160,17 @@ const laser = z.strictObject({
 const external = z.strictObject({
   length: quantity('length', positive).describe('M2 to M3 spacing L2 at rest'),
   return_mirror: mirror,
-  gap_transmission: bounded(0, 1, { minOpen: true }).default(1).describe('single-pass power transmission of the gap element'),
-  feedback_efficiency: z.union([auto, bounded(0, 1)]).default('auto').describe("power overlap eta_fb, or 'auto' from Gaussian beams"),
-  roundtrip_efficiency: z.union([auto, bounded(0, 1)]).default('auto').describe("per-round-trip power kept in the external mode, or 'auto'"),
+  gap_transmission: bounded(0, 1, { minOpen: true })
+    .default(1)
+    .describe('single-pass power transmission of the gap element'),
+  feedback_efficiency: z
+    .union([auto, bounded(0, 1)])
+    .default('auto')
+    .describe("power overlap eta_fb, or 'auto' from Gaussian beams"),
+  roundtrip_efficiency: z
+    .union([auto, bounded(0, 1)])
+    .default('auto')
+    .describe("per-round-trip power kept in the external mode, or 'auto'"),
   return_to_laser: z.boolean({ error: 'expected true or false' }).default(true),
 });
 
@@ -152,22 +186,32 @@ const drive = z.strictObject({
   phase: quantity('angle').default(0).describe('starting phase phi0 of the first tone'),
   offset: quantity('length').default(0).describe('rest position x0 added to the external length'),
   drift: quantity('speed').default(0).describe('slow drift of the rest position'),
-  second_amplitude: quantity('length', nonNegative).default(0).describe('two-tone: amplitude of the second sine'),
-  second_frequency: quantity('frequency', positive).default(1e3).describe('two-tone: frequency of the second sine'),
+  second_amplitude: quantity('length', nonNegative)
+    .default(0)
+    .describe('two-tone: amplitude of the second sine'),
+  second_frequency: quantity('frequency', positive)
+    .default(1e3)
+    .describe('two-tone: frequency of the second sine'),
   second_phase: quantity('angle').default(0),
   vibration: vibration.optional().describe('small random vibration of the return mirror'),
 });
 
 const actuator = z.strictObject({
-  stroke_per_volt: quantity('stroke_per_volt', positive).describe('static stroke per volt (zero-frequency gain)'),
+  stroke_per_volt: quantity('stroke_per_volt', positive).describe(
+    'static stroke per volt (zero-frequency gain)',
+  ),
   capacitance: quantity('capacitance', positive).optional(),
-  resonance: quantity('frequency', positive).optional().describe('first mechanical resonance with the mirror mounted'),
+  resonance: quantity('frequency', positive)
+    .optional()
+    .describe('first mechanical resonance with the mirror mounted'),
   stiffness: quantity('stiffness', positive).optional(),
   moving_mass: quantity('mass', positive).optional(),
   quality_factor: quantity('dimensionless', positive).default(20),
   max_voltage: quantity('voltage', positive).optional(),
   max_current: quantity('current', positive).optional(),
-  min_resonance_margin: quantity('dimensionless', positive).default(1.5).describe('required resonance / drive frequency'),
+  min_resonance_margin: quantity('dimensionless', positive)
+    .default(1.5)
+    .describe('required resonance / drive frequency'),
 });
 
 const simulation = z.strictObject({
@@ -186,12 +230,20 @@ const analysis = z.strictObject({
   detection_bandwidth: quantity('frequency', positive).default(10e3),
   ripple_limit: bounded(0, 1e6, { minOpen: true }).default(0.1),
   hop_dwell: quantity('time', nonNegative).default(1e-6),
-  max_hops_per_period: bounded(0, 1e9).default(0).describe('more hops per drive period than this is the hopping class'),
-  min_gain_over_static: bounded(0, 1e9).default(1.1).describe('below this gain over static the class is no-gain'),
+  max_hops_per_period: bounded(0, 1e9)
+    .default(0)
+    .describe('more hops per drive period than this is the hopping class'),
+  min_gain_over_static: bounded(0, 1e9)
+    .default(1.1)
+    .describe('below this gain over static the class is no-gain'),
   min_incoherent_fraction: bounded(0, 1e9)
     .default(0.3)
-    .describe('below this fraction of the phase-averaged gap power eta_fb T2 / (1 - R2 R3\') x free-running intracavity power the class is no-gain'),
-  lasing_power: quantity('power', positive).default(1e-6).describe('free-running intracavity power below this is no-lasing'),
+    .describe(
+      "below this fraction of the phase-averaged gap power eta_fb T2 / (1 - R2 R3') x free-running intracavity power the class is no-gain",
+    ),
+  lasing_power: quantity('power', positive)
+    .default(1e-6)
+    .describe('free-running intracavity power below this is no-lasing'),
 });
 
 const axisValue = z.union([z.number(), z.string()], {

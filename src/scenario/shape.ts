@@ -74,7 +74,8 @@ export function schemasAt(path: readonly PathSegment[]): z.ZodType[] {
 /** Valid keys of the mapping at `path` (the union of all object branches), sorted. */
 export function validKeysAt(path: readonly PathSegment[]): string[] {
   const keys = new Set<string>();
-  for (const s of schemasAt(path)) for (const o of objectOptions(s)) for (const k of Object.keys(defOf(o).shape ?? {})) keys.add(k);
+  for (const s of schemasAt(path))
+    for (const o of objectOptions(s)) for (const k of Object.keys(defOf(o).shape ?? {})) keys.add(k);
   return [...keys].sort();
 }
 
@@ -107,10 +108,11 @@ export function numericKeyPaths(): string[] {
   const walk = (s: z.ZodType, path: string[]) => {
     const objs = objectOptions(s);
     if (objs.length > 0) {
-      for (const o of objs) for (const [k, child] of Object.entries(defOf(o).shape ?? {})) {
-        if (path.length === 0 && k === 'sweep') continue;
-        walk(child, [...path, k]);
-      }
+      for (const o of objs)
+        for (const [k, child] of Object.entries(defOf(o).shape ?? {})) {
+          if (path.length === 0 && k === 'sweep') continue;
+          walk(child, [...path, k]);
+        }
       return;
     }
     if (acceptsNumber(s)) out.push(formatKeyPath(path));
@@ -135,7 +137,9 @@ export function allKeyPaths(): string[] {
     }
     const objs = objectOptions(u);
     if (objs.length > 0) {
-      for (const o of objs) for (const [k, child] of Object.entries(defOf(o).shape ?? {})) walk(child, path === '' ? k : `${path}.${k}`);
+      for (const o of objs)
+        for (const [k, child] of Object.entries(defOf(o).shape ?? {}))
+          walk(child, path === '' ? k : `${path}.${k}`);
       return;
     }
     out.push(path);

@@ -59,7 +59,8 @@ export function describeKind(kind: QuantityKind): string {
  */
 export function parseQuantity(input: unknown, kind: QuantityKind): ParsedQuantity {
   if (typeof input === 'number') {
-    if (!Number.isFinite(input)) return { ok: false, message: `expected ${EXAMPLES[kind]}, found ${String(input)}` };
+    if (!Number.isFinite(input))
+      return { ok: false, message: `expected ${EXAMPLES[kind]}, found ${String(input)}` };
     return { ok: true, value: input };
   }
   if (typeof input !== 'string') {
@@ -72,7 +73,10 @@ export function parseQuantity(input: unknown, kind: QuantityKind): ParsedQuantit
     q = Qty.parse(text) ?? (null as unknown as Qty);
     if (q === null) throw new Error('unparsable');
   } catch {
-    return { ok: false, message: `expected ${EXAMPLES[kind]}, found '${input}' (not a number with a known unit)` };
+    return {
+      ok: false,
+      message: `expected ${EXAMPLES[kind]}, found '${input}' (not a number with a known unit)`,
+    };
   }
   const si = QUANTITY_KINDS[kind];
   if (q.isUnitless()) {
@@ -92,7 +96,16 @@ export function formatSI(value: number, unit: string, digits = 4): string {
   if (!Number.isFinite(value)) return `${value} ${unit}`.trim();
   if (value === 0) return `0 ${unit}`.trim();
   const prefixes: [number, string][] = [
-    [1e12, 'T'], [1e9, 'G'], [1e6, 'M'], [1e3, 'k'], [1, ''], [1e-3, 'm'], [1e-6, 'u'], [1e-9, 'n'], [1e-12, 'p'], [1e-15, 'f'],
+    [1e12, 'T'],
+    [1e9, 'G'],
+    [1e6, 'M'],
+    [1e3, 'k'],
+    [1, ''],
+    [1e-3, 'm'],
+    [1e-6, 'u'],
+    [1e-9, 'n'],
+    [1e-12, 'p'],
+    [1e-15, 'f'],
   ];
   const a = Math.abs(value);
   for (const [scale, p] of prefixes) {

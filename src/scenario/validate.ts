@@ -93,7 +93,10 @@ function physicalChecks(s: Scenario): ValidationResult {
   const warnings: InputProblem[] = [];
   const L1 = s.laser.cavity_length;
   if (L1 > MAX_CAVITY_m) {
-    errors.push({ path: 'laser.cavity_length', message: `expected a cavity length <= ${MAX_CAVITY_m} m, found ${formatSI(L1, 'm')} (a unit slip?)` });
+    errors.push({
+      path: 'laser.cavity_length',
+      message: `expected a cavity length <= ${MAX_CAVITY_m} m, found ${formatSI(L1, 'm')} (a unit slip?)`,
+    });
   }
   if (L1 < 10 * s.laser.wavelength) {
     errors.push({
@@ -126,7 +129,10 @@ function physicalChecks(s: Scenario): ValidationResult {
         message: `expected an external length > ${formatSI(MIN_EXTERNAL_m, 'm')}, found ${formatSI(L2, 'm')} (below 1 mm the gap is a thin etalon, outside what the round-trip model is made for)`,
       });
     } else if (L2 > MAX_CAVITY_m) {
-      errors.push({ path: 'external.length', message: `expected an external length <= ${MAX_CAVITY_m} m, found ${formatSI(L2, 'm')} (a unit slip?)` });
+      errors.push({
+        path: 'external.length',
+        message: `expected an external length <= ${MAX_CAVITY_m} m, found ${formatSI(L2, 'm')} (a unit slip?)`,
+      });
     }
     if (L2 + d.offset - swing <= 0) {
       errors.push({
@@ -146,14 +152,24 @@ function physicalChecks(s: Scenario): ValidationResult {
       }
     }
   } else if (swing > 0) {
-    warnings.push({ path: 'drive.amplitude', message: 'there is no external cavity: the drive moves nothing' });
+    warnings.push({
+      path: 'drive.amplitude',
+      message: 'there is no external cavity: the drive moves nothing',
+    });
   }
   if (d.waveform === 'off' && d.amplitude > 0) {
-    warnings.push({ path: 'drive.amplitude', message: `waveform is 'off': the amplitude ${formatSI(d.amplitude, 'm')} is ignored` });
+    warnings.push({
+      path: 'drive.amplitude',
+      message: `waveform is 'off': the amplitude ${formatSI(d.amplitude, 'm')} is ignored`,
+    });
   }
   const a = s.actuator;
   if (a) {
-    if (a.resonance !== undefined && d.waveform !== 'off' && a.resonance < a.min_resonance_margin * d.frequency) {
+    if (
+      a.resonance !== undefined &&
+      d.waveform !== 'off' &&
+      a.resonance < a.min_resonance_margin * d.frequency
+    ) {
       warnings.push({
         path: 'actuator.resonance',
         message: `the resonance ${formatSI(a.resonance, 'Hz')} is less than ${a.min_resonance_margin} x the drive frequency ${formatSI(d.frequency, 'Hz')}`,
@@ -213,7 +229,10 @@ function sweepChecks(s: Scenario): ValidationResult {
     }
     const prior = seen.get(axis.key);
     if (prior !== undefined) {
-      errors.push({ path: `${at}.key`, message: `expected each key on one axis only, found '${axis.key}' again (also sweep.axes[${prior}].key)` });
+      errors.push({
+        path: `${at}.key`,
+        message: `expected each key on one axis only, found '${axis.key}' again (also sweep.axes[${prior}].key)`,
+      });
       return;
     }
     seen.set(axis.key, i);
@@ -224,7 +243,11 @@ function sweepChecks(s: Scenario): ValidationResult {
         return typeof v === 'number' ? v : null;
       } catch (err) {
         if (!(err instanceof InputError)) throw err;
-        for (const p of err.problems) errors.push({ path: where, message: `setting ${p.path || axis.key} to ${JSON.stringify(value)}: ${p.message}` });
+        for (const p of err.problems)
+          errors.push({
+            path: where,
+            message: `setting ${p.path || axis.key} to ${JSON.stringify(value)}: ${p.message}`,
+          });
         return null;
       }
     };
@@ -235,15 +258,29 @@ function sweepChecks(s: Scenario): ValidationResult {
     const from = tryValue(axis.from, `${at}.from`);
     const to = tryValue(axis.to, `${at}.to`);
     if (axis.scale === 'log') {
-      if (from !== null && !(from > 0)) errors.push({ path: `${at}.from`, message: `expected a value > 0 on a log axis, found ${JSON.stringify(axis.from)}` });
-      if (to !== null && !(to > 0)) errors.push({ path: `${at}.to`, message: `expected a value > 0 on a log axis, found ${JSON.stringify(axis.to)}` });
+      if (from !== null && !(from > 0))
+        errors.push({
+          path: `${at}.from`,
+          message: `expected a value > 0 on a log axis, found ${JSON.stringify(axis.from)}`,
+        });
+      if (to !== null && !(to > 0))
+        errors.push({
+          path: `${at}.to`,
+          message: `expected a value > 0 on a log axis, found ${JSON.stringify(axis.to)}`,
+        });
     }
     if (from !== null && to !== null && from === to && axis.points > 1) {
-      warnings.push({ path: `${at}.to`, message: `from and to are equal: the ${axis.points} points are all the same` });
+      warnings.push({
+        path: `${at}.to`,
+        message: `from and to are equal: the ${axis.points} points are all the same`,
+      });
     }
   });
   if (total > 1e6) {
-    warnings.push({ path: 'sweep.axes', message: `the grid has ${total.toExponential(2)} points; consider --shard or fewer points` });
+    warnings.push({
+      path: 'sweep.axes',
+      message: `the grid has ${total.toExponential(2)} points; consider --shard or fewer points`,
+    });
   }
   return { errors, warnings };
 }

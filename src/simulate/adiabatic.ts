@@ -10,7 +10,16 @@ import type { MirrorMotion } from '../physics/coupled/lane-engine';
 import type { StaticResult, LaneMeans } from './references';
 import { DrivenAnalysis, DrivenOptions, DrivenResult } from './driven';
 
-export interface AdiabaticOptions extends Pick<DrivenOptions, 'detectionBandwidth_Hz' | 'hopDwell_s' | 'driveFrequency_Hz' | 'drivePhase_rad' | 'traceBuckets' | 'spectralSpread_Hz' | 'spectrumMode'> {
+export interface AdiabaticOptions extends Pick<
+  DrivenOptions,
+  | 'detectionBandwidth_Hz'
+  | 'hopDwell_s'
+  | 'driveFrequency_Hz'
+  | 'drivePhase_rad'
+  | 'traceBuckets'
+  | 'spectralSpread_Hz'
+  | 'spectrumMode'
+> {
   motion: MirrorMotion;
   /** the drive's own rest offset (static positions are relative to it), m */
   rest_m: number;
@@ -31,7 +40,11 @@ export function drivenAdiabatic(p: CoupledParams, stat: StaticResult, o: Adiabat
   const cell = o.halfWavelength_m / N;
   // resolve the curve (half a cell per sample at peak speed), the drive cycle and the band
   const f = o.driveFrequency_Hz ?? 0;
-  let dt = Math.min(o.peakSpeed_m_s > 0 ? (0.5 * cell) / o.peakSpeed_m_s : Infinity, f > 0 ? 1 / (2000 * f) : Infinity, 1 / (100 * o.detectionBandwidth_Hz));
+  let dt = Math.min(
+    o.peakSpeed_m_s > 0 ? (0.5 * cell) / o.peakSpeed_m_s : Infinity,
+    f > 0 ? 1 / (2000 * f) : Infinity,
+    1 / (100 * o.detectionBandwidth_Hz),
+  );
   let samples = Math.ceil(o.analysed_s / dt);
   if (samples > ADIABATIC_MAX_SAMPLES) {
     samples = ADIABATIC_MAX_SAMPLES;

@@ -31,7 +31,12 @@ import { InputError, type InputProblem } from '../scenario/errors';
 import { withOverrides } from '../scenario/validate';
 import { scenarioSha256 } from '../scenario/canonical';
 import { formatSI } from '../scenario/units';
-import { actuatorRequirement, mechanicalResponse, resolveActuator, TRIANGLE_HARMONICS } from '../physics/actuator';
+import {
+  actuatorRequirement,
+  mechanicalResponse,
+  resolveActuator,
+  TRIANGLE_HARMONICS,
+} from '../physics/actuator';
 import { createDrive } from '../physics/drive';
 import { RESULT_VERSION, RunClass } from '../results/summary';
 import { TOOL_VERSION } from '../version';
@@ -155,9 +160,23 @@ export interface CompareOptions {
 function baseDrive(s: Scenario): DriveSpec {
   const d = s.drive;
   const problems: InputProblem[] = [];
-  if (d.waveform === 'off') problems.push({ path: 'drive.waveform', message: "expected a moving drive to compare waveforms against (sine, triangle or two-tone), found 'off'" });
-  if (!(d.amplitude > 0)) problems.push({ path: 'drive.amplitude', message: 'expected an amplitude above 0: the comparison takes the peak voltage (or the stroke) of a sine of this amplitude' });
-  if (s.external === undefined) problems.push({ path: 'external', message: 'expected an external section: without an external cavity there is nothing to decouple' });
+  if (d.waveform === 'off')
+    problems.push({
+      path: 'drive.waveform',
+      message:
+        "expected a moving drive to compare waveforms against (sine, triangle or two-tone), found 'off'",
+    });
+  if (!(d.amplitude > 0))
+    problems.push({
+      path: 'drive.amplitude',
+      message:
+        'expected an amplitude above 0: the comparison takes the peak voltage (or the stroke) of a sine of this amplitude',
+    });
+  if (s.external === undefined)
+    problems.push({
+      path: 'external',
+      message: 'expected an external section: without an external cavity there is nothing to decouple',
+    });
   if (problems.length > 0) throw new InputError(null, problems);
   return d;
 }
@@ -171,7 +190,10 @@ function baseDrive(s: Scenario): DriveSpec {
  * @param opts.secondFrequencyGiven whether drive.second_frequency is the user's (else 3 f)
  * @throws InputError for drive.waveform off, drive.amplitude 0 or no external section
  */
-export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFrequencyGiven'> = {}): ComparisonPlan {
+export function planComparison(
+  s: Scenario,
+  opts: Pick<CompareOptions, 'secondFrequencyGiven'> = {},
+): ComparisonPlan {
   const d = baseDrive(s);
   const f = d.frequency;
   const given = opts.secondFrequencyGiven ?? d.waveform === 'two-tone';
@@ -179,7 +201,10 @@ export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFr
   const notes: string[] = [];
   const act = s.actuator;
   const waveforms: WaveformPlan[] = [];
-  if (d.waveform !== 'sine') notes.push(`the scenario's waveform is ${d.waveform}; the comparison starts from a sine of its drive.amplitude and drive.frequency`);
+  if (d.waveform !== 'sine')
+    notes.push(
+      `the scenario's waveform is ${d.waveform}; the comparison starts from a sine of its drive.amplitude and drive.frequency`,
+    );
   notes.push(
     given
       ? `two-tone: second tone at drive.second_frequency = ${formatSI(f2, 'Hz', 4)}`
@@ -188,15 +213,36 @@ export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFr
 
   if (act === undefined) {
     const A = d.amplitude;
-    notes.push('no actuator section: there is no voltage to hold equal, so the waveforms get the same peak-to-peak stroke instead (sine and triangle amplitude A, two tones A/2 each)');
-    const flat = (label: string, freq: number, a: number): CompareComponent => ({ label, frequency_Hz: freq, voltage_V: null, response_magnitude: 1, response_phase_rad: 0, amplitude_m: a });
-    waveforms.push({ waveform: 'sine', amplitude_m: A, second_amplitude_m: null, second_frequency_Hz: null, components: [flat('tone 1', f, A)], current_peak_A: null, current_exceeded: null, filtered_peak_m: null, notes: [] });
+    notes.push(
+      'no actuator section: there is no voltage to hold equal, so the waveforms get the same peak-to-peak stroke instead (sine and triangle amplitude A, two tones A/2 each)',
+    );
+    const flat = (label: string, freq: number, a: number): CompareComponent => ({
+      label,
+      frequency_Hz: freq,
+      voltage_V: null,
+      response_magnitude: 1,
+      response_phase_rad: 0,
+      amplitude_m: a,
+    });
+    waveforms.push({
+      waveform: 'sine',
+      amplitude_m: A,
+      second_amplitude_m: null,
+      second_frequency_Hz: null,
+      components: [flat('tone 1', f, A)],
+      current_peak_A: null,
+      current_exceeded: null,
+      filtered_peak_m: null,
+      notes: [],
+    });
     waveforms.push({
       waveform: 'triangle',
       amplitude_m: A,
       second_amplitude_m: null,
       second_frequency_Hz: null,
-      components: TRIANGLE_HARMONICS.map((n) => flat(`harmonic ${n}`, n * f, (8 * A) / (Math.PI * Math.PI * n * n))),
+      components: TRIANGLE_HARMONICS.map((n) =>
+        flat(`harmonic ${n}`, n * f, (8 * A) / (Math.PI * Math.PI * n * n)),
+      ),
       current_peak_A: null,
       current_exceeded: null,
       filtered_peak_m: null,
@@ -213,7 +259,17 @@ export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFr
       filtered_peak_m: null,
       notes: [],
     });
-    return { basis: 'equal stroke', voltage_peak_V: null, max_voltage_V: null, stroke_m: 2 * A, frequency_Hz: f, second_frequency_Hz: f2, second_frequency_source: given ? 'drive.second_frequency' : '3 x drive.frequency', waveforms, notes };
+    return {
+      basis: 'equal stroke',
+      voltage_peak_V: null,
+      max_voltage_V: null,
+      stroke_m: 2 * A,
+      frequency_Hz: f,
+      second_frequency_Hz: f2,
+      second_frequency_source: given ? 'drive.second_frequency' : '3 x drive.frequency',
+      waveforms,
+      notes,
+    };
   }
 
   const resolved = resolveActuator(act);
@@ -226,21 +282,47 @@ export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFr
   notes.push(...resolved.notes);
   const part = (label: string, freq: number, volts: number): CompareComponent => {
     const h = mechanicalResponse(freq, f0, Q);
-    return { label, frequency_Hz: freq, voltage_V: volts, response_magnitude: h.magnitude, response_phase_rad: h.phase_rad, amplitude_m: kv * h.magnitude * volts };
+    return {
+      label,
+      frequency_Hz: freq,
+      voltage_V: volts,
+      response_magnitude: h.magnitude,
+      response_phase_rad: h.phase_rad,
+      amplitude_m: kv * h.magnitude * volts,
+    };
   };
-  const currentCheck = (i: number | null): boolean | null => (i === null || act.max_current === undefined ? null : i > act.max_current);
+  const currentCheck = (i: number | null): boolean | null =>
+    i === null || act.max_current === undefined ? null : i > act.max_current;
 
   // sine: the one tone carries V
   const sine = part('tone 1', f, V);
   const iSine = C === null ? null : TWO_PI * f * C * V;
-  waveforms.push({ waveform: 'sine', amplitude_m: sine.amplitude_m, second_amplitude_m: null, second_frequency_Hz: null, components: [sine], current_peak_A: iSine, current_exceeded: currentCheck(iSine), filtered_peak_m: null, notes: [] });
+  waveforms.push({
+    waveform: 'sine',
+    amplitude_m: sine.amplitude_m,
+    second_amplitude_m: null,
+    second_frequency_Hz: null,
+    components: [sine],
+    current_peak_A: iSine,
+    current_exceeded: currentCheck(iSine),
+    filtered_peak_m: null,
+    notes: [],
+  });
 
   // triangle voltage of peak V: harmonic n has (8/pi^2) V / n^2, each filtered by H(n f)
-  const harm = TRIANGLE_HARMONICS.map((n) => part(`harmonic ${n}`, n * f, (8 * V) / (Math.PI * Math.PI * n * n)));
+  const harm = TRIANGLE_HARMONICS.map((n) =>
+    part(`harmonic ${n}`, n * f, (8 * V) / (Math.PI * Math.PI * n * n)),
+  );
   const h1 = harm[0];
   const aTri = kv * h1.response_magnitude * V;
   const triNotes: string[] = [];
-  const departures = harm.slice(1).map((c) => ({ c, ratio: c.response_magnitude / h1.response_magnitude, lag_rad: c.response_phase_rad - h1.response_phase_rad }));
+  const departures = harm
+    .slice(1)
+    .map((c) => ({
+      c,
+      ratio: c.response_magnitude / h1.response_magnitude,
+      lag_rad: c.response_phase_rad - h1.response_phase_rad,
+    }));
   triNotes.push(
     `harmonic content through the actuator, |H(n f)| / |H(f)|: ${departures.map((x) => `${x.c.label.replace('harmonic ', 'n = ')}: ${x.ratio.toPrecision(3)}`).join(', ')}; the engine runs the ideal triangle of the same fundamental`,
   );
@@ -251,16 +333,34 @@ export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFr
   const up = departures.filter((x) => x.ratio > 1 + HARMONIC_DEPARTURE).map((x) => x.c.label);
   const down = departures.filter((x) => x.ratio < 1 - HARMONIC_DEPARTURE).map((x) => x.c.label);
   if (up.length + down.length > 0) {
-    const what = [up.length > 0 ? `amplifies ${up.join(', ')}` : '', down.length > 0 ? `attenuates ${down.join(', ')}` : ''].filter((x) => x !== '').join(' and ');
+    const what = [
+      up.length > 0 ? `amplifies ${up.join(', ')}` : '',
+      down.length > 0 ? `attenuates ${down.join(', ')}` : '',
+    ]
+      .filter((x) => x !== '')
+      .join(' and ');
     triNotes.push(
       `relative to the fundamental the actuator ${what} by more than ${100 * HARMONIC_DEPARTURE} %: the real motion is not a triangle (${down.length > 0 ? 'rounded' : 'sharpened'} turning points${up.length > 0 ? ', ringing' : ''}), so the triangle row, run as an ideal triangle, overstates how constant its speed is`,
     );
   }
-  const exact = actuatorRequirement({ ...d, waveform: 'triangle', amplitude: aTri }, act).requirement.voltage_peak_V;
-  triNotes.push(`an exact triangle motion of this amplitude needs a pre-compensated voltage of ${formatSI(exact, 'V', 4)} peak (vs ${formatSI(V, 'V', 4)} for the plain triangle voltage)`);
+  const exact = actuatorRequirement({ ...d, waveform: 'triangle', amplitude: aTri }, act).requirement
+    .voltage_peak_V;
+  triNotes.push(
+    `an exact triangle motion of this amplitude needs a pre-compensated voltage of ${formatSI(exact, 'V', 4)} peak (vs ${formatSI(V, 'V', 4)} for the plain triangle voltage)`,
+  );
   // i = C dV/dt: a triangle voltage rises by 2V in half a period, so |i| = 4 f C V
   const iTri = C === null ? null : 4 * f * C * V;
-  waveforms.push({ waveform: 'triangle', amplitude_m: aTri, second_amplitude_m: null, second_frequency_Hz: null, components: harm, current_peak_A: iTri, current_exceeded: currentCheck(iTri), filtered_peak_m: filtered, notes: triNotes });
+  waveforms.push({
+    waveform: 'triangle',
+    amplitude_m: aTri,
+    second_amplitude_m: null,
+    second_frequency_Hz: null,
+    components: harm,
+    current_peak_A: iTri,
+    current_exceeded: currentCheck(iTri),
+    filtered_peak_m: filtered,
+    notes: triNotes,
+  });
 
   // two tones, V/2 each
   const t1 = part('tone 1', f, V / 2);
@@ -268,11 +368,26 @@ export function planComparison(s: Scenario, opts: Pick<CompareOptions, 'secondFr
   const iTwo = C === null ? null : TWO_PI * C * (f + f2) * (V / 2);
   const twoNotes: string[] = [];
   if (resolved.resonance_Hz !== null && f2 > resolved.resonance_Hz) {
-    twoNotes.push(`tone 2 (${formatSI(f2, 'Hz', 4)}) is above the resonance (${formatSI(resolved.resonance_Hz, 'Hz', 4)}): |H| = ${t2.response_magnitude.toPrecision(3)}, lagging the voltage by ${((-t2.response_phase_rad * 180) / Math.PI).toFixed(0)} deg`);
+    twoNotes.push(
+      `tone 2 (${formatSI(f2, 'Hz', 4)}) is above the resonance (${formatSI(resolved.resonance_Hz, 'Hz', 4)}): |H| = ${t2.response_magnitude.toPrecision(3)}, lagging the voltage by ${((-t2.response_phase_rad * 180) / Math.PI).toFixed(0)} deg`,
+    );
   }
-  waveforms.push({ waveform: 'two-tone', amplitude_m: t1.amplitude_m, second_amplitude_m: t2.amplitude_m, second_frequency_Hz: f2, components: [t1, t2], current_peak_A: iTwo, current_exceeded: currentCheck(iTwo), filtered_peak_m: null, notes: twoNotes });
+  waveforms.push({
+    waveform: 'two-tone',
+    amplitude_m: t1.amplitude_m,
+    second_amplitude_m: t2.amplitude_m,
+    second_frequency_Hz: f2,
+    components: [t1, t2],
+    current_peak_A: iTwo,
+    current_exceeded: currentCheck(iTwo),
+    filtered_peak_m: null,
+    notes: twoNotes,
+  });
 
-  if (act.max_voltage !== undefined && V > act.max_voltage) notes.push(`the common peak voltage ${formatSI(V, 'V', 4)} is above actuator.max_voltage = ${formatSI(act.max_voltage, 'V', 4)} for every waveform`);
+  if (act.max_voltage !== undefined && V > act.max_voltage)
+    notes.push(
+      `the common peak voltage ${formatSI(V, 'V', 4)} is above actuator.max_voltage = ${formatSI(act.max_voltage, 'V', 4)} for every waveform`,
+    );
   return {
     basis: 'equal peak voltage',
     voltage_peak_V: V,
@@ -334,13 +449,17 @@ function twoToneTimeFraction(drive: DriveSpec, v_c: number): number | null {
   const motion = createDrive({ ...drive, drift: 0, vibration: undefined }, 0);
   const T = q / drive.frequency;
   let below = 0;
-  for (let i = 0; i < TIME_SAMPLES; i++) if (Math.abs(motion.velocity(((i + 0.5) * T) / TIME_SAMPLES)) < v_c) below++;
+  for (let i = 0; i < TIME_SAMPLES; i++)
+    if (Math.abs(motion.velocity(((i + 0.5) * T) / TIME_SAMPLES)) < v_c) below++;
   return below / TIME_SAMPLES;
 }
 
 /** The overrides that turn the scenario's drive into one plan's drive. */
 function planOverrides(p: WaveformPlan): Record<string, number | string> {
-  const o: Record<string, number | string> = { 'drive.waveform': p.waveform, 'drive.amplitude': p.amplitude_m };
+  const o: Record<string, number | string> = {
+    'drive.waveform': p.waveform,
+    'drive.amplitude': p.amplitude_m,
+  };
   if (p.waveform === 'two-tone') {
     o['drive.second_amplitude'] = p.second_amplitude_m ?? 0;
     o['drive.second_frequency'] = p.second_frequency_Hz ?? 0;
@@ -353,9 +472,14 @@ function pct(x: number | null): string {
 }
 
 /** The recommendation: the decoupled row with the highest gain over static, and why. */
-function recommend(rows: ComparisonRow[], basis: ComparisonPlan['basis']): WaveformComparison['recommendation'] {
+function recommend(
+  rows: ComparisonRow[],
+  basis: ComparisonPlan['basis'],
+): WaveformComparison['recommendation'] {
   const at = basis === 'equal peak voltage' ? 'at this peak voltage' : 'at this stroke';
-  const decoupled = rows.filter((r) => r.status === 'ok' && r.class === 'decoupled' && r.gain_over_static !== null);
+  const decoupled = rows.filter(
+    (r) => r.status === 'ok' && r.class === 'decoupled' && r.gain_over_static !== null,
+  );
   if (decoupled.length === 0) {
     const ran = rows.filter((r) => r.gain_over_static !== null);
     const best = ran.sort((a, b) => (b.gain_over_static ?? 0) - (a.gain_over_static ?? 0))[0];
@@ -368,7 +492,12 @@ function recommend(rows: ComparisonRow[], basis: ComparisonPlan['basis']): Wavef
   }
   decoupled.sort((a, b) => b.gain_over_static! - a.gain_over_static!);
   const win = decoupled[0];
-  const others = rows.filter((r) => r !== win).map((r) => `${r.waveform} ${r.gain_over_static === null ? 'not computed' : `${r.gain_over_static.toPrecision(3)}x`} (${r.class ?? r.status})`);
+  const others = rows
+    .filter((r) => r !== win)
+    .map(
+      (r) =>
+        `${r.waveform} ${r.gain_over_static === null ? 'not computed' : `${r.gain_over_static.toPrecision(3)}x`} (${r.class ?? r.status})`,
+    );
   return {
     waveform: win.waveform,
     reason: `${win.waveform}: decoupled with the highest gain over static ${at}, ${win.gain_over_static!.toPrecision(3)}x (vs ${others.join(', ')}); it spends ${pct(win.fraction_below_critical_time ?? win.fraction_below_critical)} of the time below the critical speed, in-band ripple ${pct(win.ripple_rel)}${win.current_exceeded ? '; but its peak reactive current exceeds actuator.max_current' : ''}`,
@@ -388,10 +517,19 @@ export function compareWaveforms(s: Scenario, opts: CompareOptions = {}): Wavefo
   const progress = opts.onProgress ?? (() => undefined);
   const n = plan.waveforms.length;
   progress(0, 'references');
-  const refs: References = computeReferences(s, { engine: opts.engine, seed: opts.seed, onProgress: (x) => progress(x / (n + 1), 'references') });
+  const refs: References = computeReferences(s, {
+    engine: opts.engine,
+    seed: opts.seed,
+    onProgress: (x) => progress(x / (n + 1), 'references'),
+  });
   const rows: ComparisonRow[] = plan.waveforms.map((p, i) => {
     const sw = withOverrides(s, planOverrides(p));
-    const a = runScenario(sw, { engine: opts.engine, seed: opts.seed, references: refs, onProgress: (x) => progress((i + 1 + x) / (n + 1), p.waveform) });
+    const a = runScenario(sw, {
+      engine: opts.engine,
+      seed: opts.seed,
+      references: refs,
+      onProgress: (x) => progress((i + 1 + x) / (n + 1), p.waveform),
+    });
     const sum = a.summary;
     const vc = sum.drive.critical_speed_m_s;
     return {
@@ -402,7 +540,8 @@ export function compareWaveforms(s: Scenario, opts: CompareOptions = {}): Wavefo
       peak_speed_m_s: sum.drive.peak_speed_m_s,
       critical_speed_m_s: vc,
       fraction_below_critical: sum.drive.fraction_below_critical,
-      fraction_below_critical_time: p.waveform === 'two-tone' && vc !== null ? twoToneTimeFraction(sw.drive, vc) : null,
+      fraction_below_critical_time:
+        p.waveform === 'two-tone' && vc !== null ? twoToneTimeFraction(sw.drive, vc) : null,
       gain_over_static: sum.driven?.gain_over_static ?? null,
       ripple_rel: sum.driven?.ripple_rel ?? null,
       ripple_full_band_rel: sum.driven?.ripple_full_band_rel ?? null,
@@ -419,7 +558,9 @@ export function compareWaveforms(s: Scenario, opts: CompareOptions = {}): Wavefo
       `two-tone: the tones are commensurate, so the motion repeats; the time spent below the critical speed over one common period is ${pct(two.fraction_below_critical_time)} (the summary's phase average: ${pct(two.fraction_below_critical)})`,
     );
   }
-  notes.push('the critical speed comes from each run (the locking rule with that run\'s returned field), so it can differ between waveforms');
+  notes.push(
+    "the critical speed comes from each run (the locking rule with that run's returned field), so it can differ between waveforms",
+  );
   return {
     version: RESULT_VERSION,
     tool_version: TOOL_VERSION,

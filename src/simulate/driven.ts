@@ -84,16 +84,45 @@ export class DrivenAnalysis {
   returned2 = 0;
   intracavity2 = 0;
 
-  constructor(p: CoupledParams, lanes: number, dt: number, samples: number, t0: number, o: Pick<DrivenOptions, 'detectionBandwidth_Hz' | 'hopDwell_s' | 'driveFrequency_Hz' | 'drivePhase_rad' | 'traceBuckets' | 'spectralSpread_Hz' | 'spectrumMode' | 'motion'>, optical: boolean) {
+  constructor(
+    p: CoupledParams,
+    lanes: number,
+    dt: number,
+    samples: number,
+    t0: number,
+    o: Pick<
+      DrivenOptions,
+      | 'detectionBandwidth_Hz'
+      | 'hopDwell_s'
+      | 'driveFrequency_Hz'
+      | 'drivePhase_rad'
+      | 'traceBuckets'
+      | 'spectralSpread_Hz'
+      | 'spectrumMode'
+      | 'motion'
+    >,
+    optical: boolean,
+  ) {
     const M = p.M;
     this.motion = o.motion;
     this.ext = Array.from({ length: lanes }, () => new RunningStats());
     this.out = Array.from({ length: lanes }, () => new RunningStats());
     this.ic = Array.from({ length: lanes }, () => new RunningStats());
-    this.band = Array.from({ length: lanes }, () => new BoxcarFilter({ dt_s: dt, bandwidth_Hz: o.detectionBandwidth_Hz }));
+    this.band = Array.from(
+      { length: lanes },
+      () => new BoxcarFilter({ dt_s: dt, bandwidth_Hz: o.detectionBandwidth_Hz }),
+    );
     this.hops = Array.from(
       { length: lanes },
-      () => new HopDetector({ dt_s: dt, dwell_s: o.hopDwell_s, modeCount: M, driveFrequency_Hz: o.driveFrequency_Hz, drivePhase_rad: o.drivePhase_rad, t0_s: t0 }),
+      () =>
+        new HopDetector({
+          dt_s: dt,
+          dwell_s: o.hopDwell_s,
+          modeCount: M,
+          driveFrequency_Hz: o.driveFrequency_Hz,
+          drivePhase_rad: o.drivePhase_rad,
+          t0_s: t0,
+        }),
     );
     const channels = [
       { key: 'mirror_position', label: 'mirror position', unit: 'm' },
@@ -103,7 +132,13 @@ export class DrivenAnalysis {
       { key: 'laser_output', label: 'laser output', unit: 'W' },
       ...p.modes.index.map((idx) => ({ key: `mode_${idx}`, label: `mode ${idx} intracavity`, unit: 'W' })),
     ];
-    this.dec = new MinMaxDecimator({ channels, totalSamples: samples, buckets: o.traceBuckets, dt_s: dt, t0_s: 0 });
+    this.dec = new MinMaxDecimator({
+      channels,
+      totalSamples: samples,
+      buckets: o.traceBuckets,
+      dt_s: dt,
+      t0_s: 0,
+    });
     this.row = new Float64Array(channels.length);
     // RIN: decimate so the sampled band covers the drive harmonics and the detection band
     const fMax = Math.max(o.detectionBandwidth_Hz * 4, (o.driveFrequency_Hz ?? 0) * 16);
@@ -112,7 +147,15 @@ export class DrivenAnalysis {
     this.rin = rinLen >= 64 ? new WelchPsd({ dt_s: dt, segmentLength: rinLen, decimation: rinDec }) : null;
     const optDec = Math.max(1, Math.floor(1 / (dt * 8 * Math.max(o.spectralSpread_Hz, 1))));
     const optLen = Math.min(4096, pow2Below(Math.floor(samples / optDec / 2.5)));
-    this.opt = optical && p.hasExternal && optLen >= 64 ? new OpticalSpectrum({ dt_s: dt, segmentLength: optLen, decimation: optDec, mode: p.modes.index[o.spectrumMode] }) : null;
+    this.opt =
+      optical && p.hasExternal && optLen >= 64
+        ? new OpticalSpectrum({
+            dt_s: dt,
+            segmentLength: optLen,
+            decimation: optDec,
+            mode: p.modes.index[o.spectrumMode],
+          })
+        : null;
     this.driveFrequency_Hz = o.driveFrequency_Hz;
   }
 
@@ -120,7 +163,17 @@ export class DrivenAnalysis {
   private readonly driveFrequency_Hz: number | null;
 
   /** One sample of lane l (the caller fills row[5..] with lane 0's mode powers first). */
-  push(l: number, pe: number, po: number, pi: number, dom: number, t: number, offset0: number, bRe: number, bIm: number): void {
+  push(
+    l: number,
+    pe: number,
+    po: number,
+    pi: number,
+    dom: number,
+    t: number,
+    offset0: number,
+    bRe: number,
+    bIm: number,
+  ): void {
     this.intracavity2 += pi;
     this.ext[l].push(pe);
     this.out[l].push(po);
@@ -140,7 +193,9 @@ export class DrivenAnalysis {
     }
   }
 
-  result(laneOffsets_m: number[]): Pick<DrivenResult, 'offsets' | 'traces' | 'rin' | 'optical' | 'fieldRatio'> {
+  result(
+    laneOffsets_m: number[],
+  ): Pick<DrivenResult, 'offsets' | 'traces' | 'rin' | 'optical' | 'fieldRatio'> {
     const period = this.driveFrequency_Hz ? 1 / this.driveFrequency_Hz : null;
     const optRes = this.opt ? this.opt.result() : null;
     return {
@@ -170,7 +225,13 @@ function pow2Below(n: number): number {
 export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   const L = o.laneOffsets_m.length;
   const M = p.M;
-  const e = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: o.maxExcursion_m }, p, L, o.motion, o.rng);
+  const e = createLaneEngine(
+    { kind: o.engine, dt: o.dt, maxExcursion_m: o.maxExcursion_m },
+    p,
+    L,
+    o.motion,
+    o.rng,
+  );
   e.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
   for (let l = 0; l < L; l++) {
     e.offset[l] = o.laneOffsets_m[l];
@@ -206,11 +267,24 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
         const j = l * M + m;
         const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
         pi += v;
-        if (v > domP) { domP = v; dom = m; }
+        if (v > domP) {
+          domP = v;
+          dom = m;
+        }
         an.returned2 += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
       }
       if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = en.Er[m] * en.Er[m] + en.Ei[m] * en.Ei[m];
-      an.push(l, externalPowerOf(en, l), laserOutputOf(en, l), pi, dom, en.t, en.offset[0], en.br[o.spectrumMode], en.bi[o.spectrumMode]);
+      an.push(
+        l,
+        externalPowerOf(en, l),
+        laserOutputOf(en, l),
+        pi,
+        dom,
+        en.t,
+        en.offset[0],
+        en.br[o.spectrumMode],
+        en.bi[o.spectrumMode],
+      );
     }
   };
   let analysed = 0;

@@ -50,7 +50,13 @@ export function exactEngineStep(s: Scenario, p: CoupledParams): number {
  * Plan the engines of a run. finesse is that of the external cavity, regrowth_s the
  * slowest response time (the static settle time), requested the user's choice.
  */
-export function planEngines(s: Scenario, p: CoupledParams, finesse: number, regrowth_s: number, requested: 'auto' | 'exact' | 'fast' | 'adiabatic'): EnginePlan {
+export function planEngines(
+  s: Scenario,
+  p: CoupledParams,
+  finesse: number,
+  regrowth_s: number,
+  requested: 'auto' | 'exact' | 'fast' | 'adiabatic',
+): EnginePlan {
   const lambda = s.laser.wavelength;
   const exactStep = exactEngineStep(s, p);
   const v = totalPeakSpeed(s);
@@ -71,11 +77,23 @@ export function planEngines(s: Scenario, p: CoupledParams, finesse: number, regr
   const adiabaticMeasure = (v * regrowth_s) / (lambda / (2 * F));
   const adiabaticValid = adiabaticMeasure <= 0.05;
   const moving = v > 0;
-  const basis = { exactStep_s: exactStep, fastStep_s: fastStep, peakSpeed_m_s: v, phasePerRoundTrip_rad: phaseRT, resonanceWidth_rad: width, adiabaticMeasure };
+  const basis = {
+    exactStep_s: exactStep,
+    fastStep_s: fastStep,
+    peakSpeed_m_s: v,
+    phasePerRoundTrip_rad: phaseRT,
+    resonanceWidth_rad: width,
+    adiabaticMeasure,
+  };
   const staticKind: EngineKind = requested === 'exact' || hLaser < 2 * exactStep ? 'exact' : 'fast';
   const stat = { kind: staticKind, dt: staticKind === 'exact' ? exactStep : hLaser };
   const fmt = (x: number) => x.toPrecision(3);
-  if (requested === 'exact') return { static: stat, driven: { kind: 'exact', dt: exactStep, reason: 'requested', warning: null }, basis };
+  if (requested === 'exact')
+    return {
+      static: stat,
+      driven: { kind: 'exact', dt: exactStep, reason: 'requested', warning: null },
+      basis,
+    };
   if (requested === 'fast') {
     return {
       static: stat,
@@ -83,7 +101,9 @@ export function planEngines(s: Scenario, p: CoupledParams, finesse: number, regr
         kind: 'fast',
         dt: Math.max(fastStep, exactStep),
         reason: 'requested',
-        warning: fastValid ? null : `the mean-field engine was requested but the round-trip phase changes by ${fmt(phaseRT)} rad per round trip, not small against the resonance width ${fmt(width)} rad`,
+        warning: fastValid
+          ? null
+          : `the mean-field engine was requested but the round-trip phase changes by ${fmt(phaseRT)} rad per round trip, not small against the resonance width ${fmt(width)} rad`,
       },
       basis,
     };
@@ -95,18 +115,34 @@ export function planEngines(s: Scenario, p: CoupledParams, finesse: number, regr
         kind: 'adiabatic',
         dt: 0,
         reason: 'requested',
-        warning: adiabaticValid ? null : `the adiabatic path was requested but v x regrowth time = ${fmt(adiabaticMeasure)} resonance widths, not << 1`,
+        warning: adiabaticValid
+          ? null
+          : `the adiabatic path was requested but v x regrowth time = ${fmt(adiabaticMeasure)} resonance widths, not << 1`,
       },
       basis,
     };
   }
   if (moving && p.hasExternal && adiabaticValid) {
-    return { static: stat, driven: { kind: 'adiabatic', dt: 0, reason: `mirror slow: v x regrowth time = ${fmt(adiabaticMeasure)} resonance widths <= 0.05`, warning: null }, basis };
+    return {
+      static: stat,
+      driven: {
+        kind: 'adiabatic',
+        dt: 0,
+        reason: `mirror slow: v x regrowth time = ${fmt(adiabaticMeasure)} resonance widths <= 0.05`,
+        warning: null,
+      },
+      basis,
+    };
   }
   if (fastValid && fastStep >= 2 * exactStep) {
     return {
       static: stat,
-      driven: { kind: 'fast', dt: fastStep, reason: `round-trip phase change ${fmt(phaseRT)} rad <= ${FAST_VALID_FRACTION} of the resonance width ${fmt(width)} rad, step ${fmt(fastStep / exactStep)} x the exact one`, warning: null },
+      driven: {
+        kind: 'fast',
+        dt: fastStep,
+        reason: `round-trip phase change ${fmt(phaseRT)} rad <= ${FAST_VALID_FRACTION} of the resonance width ${fmt(width)} rad, step ${fmt(fastStep / exactStep)} x the exact one`,
+        warning: null,
+      },
       basis,
     };
   }

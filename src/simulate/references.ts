@@ -35,11 +35,24 @@ export function laserOnlyStep(p: CoupledParams): number {
  * (random phases from the generator), for `settle_s` (default 400 photon lifetimes, at
  * least 50 tau_N), and average the last fifth.
  */
-export function freeRunning(p: CoupledParams, rng: NormalSource & { uniform(): number }, settle_s?: number): FreeRunningResult {
+export function freeRunning(
+  p: CoupledParams,
+  rng: NormalSource & { uniform(): number },
+  settle_s?: number,
+): FreeRunningResult {
   const M = p.M;
   const q: CoupledParams = { ...p, hasExternal: false, returnToLaser: false, kappa: 0, couplingOut: 0 };
   if (!Number.isFinite(p.gammaC)) {
-    return { Er: new Array(M).fill(0), Ei: new Array(M).fill(0), N: new Array(M).fill(0), intracavity_W: 0, output_W: 0, modePowers_W: new Array(M).fill(0), lasingModes: [], steps: 0 };
+    return {
+      Er: new Array(M).fill(0),
+      Ei: new Array(M).fill(0),
+      N: new Array(M).fill(0),
+      intracavity_W: 0,
+      output_W: 0,
+      modePowers_W: new Array(M).fill(0),
+      lasingModes: [],
+      steps: 0,
+    };
   }
   const dt = laserOnlyStep(p);
   const T = settle_s ?? Math.max(400 / p.gammaC, 50 * p.tauN);
@@ -50,7 +63,7 @@ export function freeRunning(p: CoupledParams, rng: NormalSource & { uniform(): n
   const Ei: number[] = [];
   const N: number[] = [];
   for (let m = 0; m < M; m++) {
-    const P0 = Math.max(p.spontaneous_W, (Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * M)));
+    const P0 = Math.max(p.spontaneous_W, Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * M));
     const th = 2 * Math.PI * rng.uniform();
     Er.push(Math.sqrt(P0) * Math.cos(th));
     Ei.push(Math.sqrt(P0) * Math.sin(th));
@@ -77,7 +90,9 @@ export function freeRunning(p: CoupledParams, rng: NormalSource & { uniform(): n
     intracavity_W: total,
     output_W: p.T2 * total,
     modePowers_W: modePowers,
-    lasingModes: p.modes.index.filter((_, m) => strongest > 0 && modePowers[m] >= 0.01 * strongest && modePowers[m] > 100 * p.spontaneous_W),
+    lasingModes: p.modes.index.filter(
+      (_, m) => strongest > 0 && modePowers[m] >= 0.01 * strongest && modePowers[m] > 100 * p.spontaneous_W,
+    ),
     steps,
   };
 }
@@ -110,7 +125,12 @@ export function laserOutputOf(e: LaneEngine, l: number): number {
       s += p.T2 * E2;
       continue;
     }
-    s += (1 - p.feedbackEfficiency) * p.T2 * E2 + e.ar[j] * e.ar[j] + e.ai[j] * e.ai[j] - e.br[j] * e.br[j] - e.bi[j] * e.bi[j];
+    s +=
+      (1 - p.feedbackEfficiency) * p.T2 * E2 +
+      e.ar[j] * e.ar[j] +
+      e.ai[j] * e.ai[j] -
+      e.br[j] * e.br[j] -
+      e.bi[j] * e.bi[j];
   }
   return s;
 }
@@ -228,7 +248,13 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   // grid given by number moves the mirror far between positions, so each position gets at
   // least a regrowth time's share (16 us x 64 / N, at most 16 us); the automatic grid is
   // fine enough (thousands of positions) that the walk itself is slow.
-  const perPosition_s = o.positions === 'auto' ? o.settle_s : Math.max(o.settle_s, Math.min(STATIC_REGROWTH_s, (STATIC_REGROWTH_s * 64) / Math.max(1, o.positions as number)));
+  const perPosition_s =
+    o.positions === 'auto'
+      ? o.settle_s
+      : Math.max(
+          o.settle_s,
+          Math.min(STATIC_REGROWTH_s, (STATIC_REGROWTH_s * 64) / Math.max(1, o.positions as number)),
+        );
   const contSteps = Math.max(50, Math.ceil(perPosition_s / o.dt));
   const avgSteps = Math.max(10, Math.floor(contSteps / 4));
   const maxExc = Math.abs(o.rest_m) + o.halfWavelength_m * 1.01;
@@ -252,16 +278,44 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   const chainLen = Math.min(16, N0);
   const K = Math.ceil(N0 / chainLen);
   const warm = Math.min(3, N0 - 1);
-  const chain = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, K, still, o.rng);
+  const chain = createLaneEngine(
+    { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+    p,
+    K,
+    still,
+    o.rng,
+  );
   chain.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
   const pos = (j: number, N: number) => (((j % N) + N) % N) * (o.halfWavelength_m / N);
   let positions = Array.from({ length: N0 }, (_, j) => pos(j, N0));
   let up: (LaneMeans | null)[] = new Array(N0).fill(null);
   let down: (LaneMeans | null)[] = new Array(N0).fill(null);
-  let store = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N0, still, o.rng);
-  let storeDown = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N0, still, o.rng);
+  let store = createLaneEngine(
+    { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+    p,
+    N0,
+    still,
+    o.rng,
+  );
+  let storeDown = createLaneEngine(
+    { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+    p,
+    N0,
+    still,
+    o.rng,
+  );
   const fail = (msg: string): StaticResult => ({
-    positions_m: positions, up: [], down: [], converged: false, levels: [], store, steps, laneSteps, worstBalance: worst, mismatch: 0, failed: msg,
+    positions_m: positions,
+    up: [],
+    down: [],
+    converged: false,
+    levels: [],
+    store,
+    steps,
+    laneSteps,
+    worstBalance: worst,
+    mismatch: 0,
+    failed: msg,
   });
   // walk: warm-up positions, then the chain's own positions up, then back down
   const walk: { offsetIndex: number; record: 'up' | 'down' | null }[] = [];
@@ -301,16 +355,26 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
     if (down[j] === null) down[j] = up[j];
   }
   const meanOf = (u: (LaneMeans | null)[], d: (LaneMeans | null)[]) =>
-    u.reduce((s, v, i) => s + 0.5 * ((v as LaneMeans).external_W + (d[i] as LaneMeans).external_W), 0) / u.length;
+    u.reduce((s, v, i) => s + 0.5 * ((v as LaneMeans).external_W + (d[i] as LaneMeans).external_W), 0) /
+    u.length;
   const levels = [{ positions: N0, mean_W: meanOf(up, down) }];
   let converged = !auto;
   // ---- refinement by midpoints
   if (auto) {
     let N = N0;
     // two positions per resonance width lambda / (2 F) over half a wavelength: N >= 2 F
-    const resolved = Math.min(STATIC_MAX_POSITIONS, Math.max(64, 2 * (o.finesse !== undefined && Number.isFinite(o.finesse) ? o.finesse : 1)));
+    const resolved = Math.min(
+      STATIC_MAX_POSITIONS,
+      Math.max(64, 2 * (o.finesse !== undefined && Number.isFinite(o.finesse) ? o.finesse : 1)),
+    );
     while (N < STATIC_MAX_POSITIONS) {
-      const mids = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, 2 * N, still, o.rng);
+      const mids = createLaneEngine(
+        { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+        p,
+        2 * N,
+        still,
+        o.rng,
+      );
       for (let j = 0; j < N; j++) {
         mids.copyLane(store, j, j); // up branch from the left neighbour
         mids.copyLane(storeDown, (j + 1) % N, N + j); // down branch from the right neighbour
@@ -326,8 +390,20 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       const N2 = 2 * N;
       const up2: LaneMeans[] = new Array(N2);
       const down2: LaneMeans[] = new Array(N2);
-      const store2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N2, still, o.rng);
-      const storeDown2 = createLaneEngine({ kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true }, p, N2, still, o.rng);
+      const store2 = createLaneEngine(
+        { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+        p,
+        N2,
+        still,
+        o.rng,
+      );
+      const storeDown2 = createLaneEngine(
+        { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+        p,
+        N2,
+        still,
+        o.rng,
+      );
       for (let j = 0; j < N; j++) {
         up2[2 * j] = up[j] as LaneMeans;
         down2[2 * j] = down[j] as LaneMeans;

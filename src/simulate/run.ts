@@ -8,11 +8,24 @@ import { createHash } from 'node:crypto';
 import type { Scenario } from '../scenario/schema';
 import { normaliseScenarioForJson, scenarioSha256 } from '../scenario/canonical';
 import type { RunArtifacts, SpectraSet } from '../results/artifacts';
-import { RESULT_VERSION, RunSummary, Warning, StaticCurve, DrivenSummary, DriveSummary } from '../results/summary';
+import {
+  RESULT_VERSION,
+  RunSummary,
+  Warning,
+  StaticCurve,
+  DrivenSummary,
+  DriveSummary,
+} from '../results/summary';
 import { TOOL_VERSION } from '../version';
 import { deriveAll } from '../physics/derive';
 import type { CoupledParams } from '../physics/coupled/params';
-import { createDrive, peakAcceleration, peakSpeed, strokePeakToPeak, fractionBelowSpeed } from '../physics/drive';
+import {
+  createDrive,
+  peakAcceleration,
+  peakSpeed,
+  strokePeakToPeak,
+  fractionBelowSpeed,
+} from '../physics/drive';
 import { createRng } from '../numerics/rng';
 import { classifyRun } from '../analysis/classify';
 import { designRule } from '../analysis/decoupling';
@@ -57,7 +70,9 @@ export function referenceKey(s: Scenario, seed = s.simulation.seed, staticEngine
     substeps: s.simulation.substeps,
     seed,
   };
-  return createHash('sha256').update(JSON.stringify(relevant, (_k, v) => (v === Infinity ? 'flat' : v))).digest('hex');
+  return createHash('sha256')
+    .update(JSON.stringify(relevant, (_k, v) => (v === Infinity ? 'flat' : v)))
+    .digest('hex');
 }
 
 /** Settle time per static position when continuing from a neighbour, s. */
@@ -77,7 +92,13 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
   const seed = opts.seed ?? s.simulation.seed;
   const { derived, params } = deriveAll(s);
   const req = staticEngineRequest(s, opts);
-  const plan = planEngines(s, params, derived.finesse_external, staticSettleTime(params), req === 'exact' ? 'exact' : 'auto');
+  const plan = planEngines(
+    s,
+    params,
+    derived.finesse_external,
+    staticSettleTime(params),
+    req === 'exact' ? 'exact' : 'auto',
+  );
   const rng = createRng(seed);
   const free = freeRunning(params, rng.fork(1));
   let stat: StaticResult | null = null;
@@ -95,7 +116,10 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
       rng: rng.fork(2),
     });
   }
-  return { key: referenceKey(s, seed, req), data: { free, stat, wall_s: (Date.now() - t0) / 1000, staticEngine: plan.static.kind } };
+  return {
+    key: referenceKey(s, seed, req),
+    data: { free, stat, wall_s: (Date.now() - t0) / 1000, staticEngine: plan.static.kind },
+  };
 }
 
 function mmm(values: number[]): { mean: number; min: number; max: number } {
@@ -116,7 +140,12 @@ function mmm(values: number[]): { mean: number; min: number; max: number } {
  * the given rest offsets moving with the drive: the curve averaged along one drive period
  * of x(t) (2000 samples), then over the lanes; W.
  */
-export function quasiStaticMean(stat: StaticResult, offsets_m: number[], drive: Scenario['drive'], half_m: number): number {
+export function quasiStaticMean(
+  stat: StaticResult,
+  offsets_m: number[],
+  drive: Scenario['drive'],
+  half_m: number,
+): number {
   const N = stat.positions_m.length;
   const cell = half_m / N;
   const motion = createDrive({ ...drive, drift: 0, vibration: undefined }, 0);
@@ -147,12 +176,17 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const progress = opts.onProgress ?? (() => undefined);
 
   const refKey = referenceKey(s, seed, staticEngineRequest(s, opts));
-  const refs = opts.references && opts.references.key === refKey ? opts.references : computeReferences(s, { ...opts, seed, onProgress: (f) => progress(0.4 * f, 'references') });
+  const refs =
+    opts.references && opts.references.key === refKey
+      ? opts.references
+      : computeReferences(s, { ...opts, seed, onProgress: (f) => progress(0.4 * f, 'references') });
   const { free, stat } = refs.data;
   progress(0.4, 'driven run');
 
   const drive = s.drive;
-  const moving = drive.waveform !== 'off' && (drive.amplitude > 0 || (drive.waveform === 'two-tone' && drive.second_amplitude > 0));
+  const moving =
+    drive.waveform !== 'off' &&
+    (drive.amplitude > 0 || (drive.waveform === 'two-tone' && drive.second_amplitude > 0));
   const f = moving ? drive.frequency : null;
   const vPeak = peakSpeed(drive);
   const lambda = s.laser.wavelength;
@@ -176,7 +210,8 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   if (status === 'ok' && params.hasExternal && Number.isFinite(params.gammaC)) {
     // the lanes start from settled static states: one drive period (both turning points) and
     // a few response times bring them to the periodic regime
-    settle_s = s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 1 / f : 0) : s.simulation.settle;
+    settle_s =
+      s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 1 / f : 0) : s.simulation.settle;
     // analysed window: whole drive periods, holding >= 4 detection windows (the first fills, then >= 3)
     const minWindow = 4 / bandwidth;
     if (f) {
@@ -194,7 +229,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       const half = lambda / 2;
       const laneOffsets = Array.from({ length: lanes }, (_, l) => (l * half) / lanes);
       const F = derived.finesse_external;
-      const spread = Math.max((F / Math.PI) * (2 * vPeak) / lambda, f ? 8 * f : 0, 1e5);
+      const spread = Math.max(((F / Math.PI) * (2 * vPeak)) / lambda, f ? 8 * f : 0, 1e5);
       // strongest mode of the static reference (up branch at position 0), for the optical spectrum
       const specMode = stat ? stat.up[0].dominant : 0;
       const common = {
@@ -206,40 +241,47 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
         spectralSpread_Hz: spread,
         spectrumMode: specMode,
       };
-      driven = engine === 'adiabatic' && stat
-        ? drivenAdiabatic(params, stat, {
-            ...common,
-            motion: createDrive(drive, seed),
-            rest_m: drive.offset,
-            laneOffsets_m: laneOffsets,
-            analysed_s,
-            halfWavelength_m: half,
-            peakSpeed_m_s: plan.basis.peakSpeed_m_s,
-          })
-        : drivenRun(params, {
-        engine: engine === 'adiabatic' ? 'exact' : engine,
-        dt,
-        motion: createDrive(drive, seed),
-        laneOffsets_m: laneOffsets,
-        start: stat ? { store: stat.store, positions_m: stat.positions_m } : null,
-        initial: free,
-        settleSteps,
-        analysedSteps,
-        ...common,
-        rng: createRng(seed).fork(3),
-        maxExcursion_m: Math.abs(drive.offset) + half + drive.amplitude + drive.second_amplitude + Math.abs(drive.drift) * (settle_s + analysed_s) + 5 * (drive.vibration?.rms ?? 0),
-        onProgress: (x) => progress(0.4 + 0.6 * x, 'driven run'),
-      });
+      driven =
+        engine === 'adiabatic' && stat
+          ? drivenAdiabatic(params, stat, {
+              ...common,
+              motion: createDrive(drive, seed),
+              rest_m: drive.offset,
+              laneOffsets_m: laneOffsets,
+              analysed_s,
+              halfWavelength_m: half,
+              peakSpeed_m_s: plan.basis.peakSpeed_m_s,
+            })
+          : drivenRun(params, {
+              engine: engine === 'adiabatic' ? 'exact' : engine,
+              dt,
+              motion: createDrive(drive, seed),
+              laneOffsets_m: laneOffsets,
+              start: stat ? { store: stat.store, positions_m: stat.positions_m } : null,
+              initial: free,
+              settleSteps,
+              analysedSteps,
+              ...common,
+              rng: createRng(seed).fork(3),
+              maxExcursion_m:
+                Math.abs(drive.offset) +
+                half +
+                drive.amplitude +
+                drive.second_amplitude +
+                Math.abs(drive.drift) * (settle_s + analysed_s) +
+                5 * (drive.vibration?.rms ?? 0),
+              onProgress: (x) => progress(0.4 + 0.6 * x, 'driven run'),
+            });
       if (driven.failed) {
         status = 'numerical-failure';
         message = driven.failed;
       }
       // MODEL.md 3.1: the mean-field laser equation needs the returned light's spread well below FSR1
-      const spreadDoppler = (F / Math.PI) * (2 * vPeak) / lambda;
+      const spreadDoppler = ((F / Math.PI) * (2 * vPeak)) / lambda;
       if (spreadDoppler > 0.2 * derived.fsr_laser_Hz) {
         warnings.push({
           code: 'doppler-spread',
-          message: `frequency spread of the returned light (F/pi) 2 v / lambda = ${(spreadDoppler / 1e6).toFixed(1)} MHz reaches ${(100 * spreadDoppler / derived.fsr_laser_Hz).toFixed(0)} % of the laser mode spacing; the per-mode mean-field model is strained`,
+          message: `frequency spread of the returned light (F/pi) 2 v / lambda = ${(spreadDoppler / 1e6).toFixed(1)} MHz reaches ${((100 * spreadDoppler) / derived.fsr_laser_Hz).toFixed(0)} % of the laser mode spacing; the per-mode mean-field model is strained`,
         });
       }
     }
@@ -253,10 +295,14 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     const avg = stat.up.map((u, i) => 0.5 * (u.external_W + stat.down[i].external_W));
     const ext = mmm(both.map((v) => v.external_W));
     const meanExt = avg.reduce((a, b) => a + b, 0) / avg.length;
-    const hyst = stat.up.reduce((a, u, i) => a + Math.abs(u.external_W - stat.down[i].external_W), 0) / stat.up.length;
+    const hyst =
+      stat.up.reduce((a, u, i) => a + Math.abs(u.external_W - stat.down[i].external_W), 0) / stat.up.length;
     staticSummary = {
       external_W: { ...ext, mean: meanExt },
-      laser_output_W: { ...mmm(both.map((v) => v.laserOutput_W)), mean: mmm(both.map((v) => v.laserOutput_W)).mean },
+      laser_output_W: {
+        ...mmm(both.map((v) => v.laserOutput_W)),
+        mean: mmm(both.map((v) => v.laserOutput_W)).mean,
+      },
       intracavity_W: mmm(both.map((v) => v.intracavity_W)),
       hysteresis_rel: meanExt > 0 ? hyst / meanExt : 0,
       positions: stat.positions_m.length,
@@ -270,7 +316,10 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       laser_output_down_W: stat.down.map((v) => v.laserOutput_W),
     };
     if (!stat.converged) {
-      warnings.push({ code: 'static-not-converged', message: `static mean not converged to 1 % at ${stat.positions_m.length} positions (levels: ${stat.levels.map((l) => `${l.positions}: ${l.mean_W.toExponential(3)} W`).join(', ')})` });
+      warnings.push({
+        code: 'static-not-converged',
+        message: `static mean not converged to 1 % at ${stat.positions_m.length} positions (levels: ${stat.levels.map((l) => `${l.positions}: ${l.mean_W.toExponential(3)} W`).join(', ')})`,
+      });
     }
   }
 
@@ -292,29 +341,51 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     const means = offs.map((o) => o.external.mean);
     const meanExt = means.reduce((a, b) => a + b, 0) / means.length;
     // pooled standard deviation over all offsets: within-offset variance plus spread of the means
-    const pooledVar = offs.reduce((a, o) => a + o.external.variance + (o.external.mean - meanExt) ** 2, 0) / offs.length;
+    const pooledVar =
+      offs.reduce((a, o) => a + o.external.variance + (o.external.mean - meanExt) ** 2, 0) / offs.length;
     const outMeans = offs.map((o) => o.laserOutput.mean);
     const meanOut = outMeans.reduce((a, b) => a + b, 0) / outMeans.length;
-    const outVar = offs.reduce((a, o) => a + o.laserOutput.variance + (o.laserOutput.mean - meanOut) ** 2, 0) / offs.length;
+    const outVar =
+      offs.reduce((a, o) => a + o.laserOutput.variance + (o.laserOutput.mean - meanOut) ** 2, 0) /
+      offs.length;
     const hopsPerS = offs.reduce((a, o) => a + o.hops.hopsPerSecond, 0) / offs.length;
     const hopsPerPeriod = f ? offs.reduce((a, o) => a + (o.hops.hopsPerPeriod ?? 0), 0) / offs.length : 0;
     const ripple = offs.reduce((a, o) => a + o.band.ripple_rel, 0) / offs.length;
     const rippleFull = offs.reduce((a, o) => a + o.band.ripple_full_band_rel, 0) / offs.length;
     if (!offs.every((o) => o.band.enoughWindows)) {
-      warnings.push({ code: 'short-window', message: 'the analysed window holds fewer than three detection-band windows after the first filled; the in-band ripple is uncertain' });
+      warnings.push({
+        code: 'short-window',
+        message:
+          'the analysed window holds fewer than three detection-band windows after the first filled; the in-band ripple is uncertain',
+      });
     }
-    const occupation = params.modes.index.map((index, m) => ({ index, fraction: offs.reduce((a, o) => a + o.hops.occupation[m], 0) / offs.length }));
-    const hist = offs[0].hops.phaseHistogram.map((_, k) => offs.reduce((a, o) => a + o.hops.phaseHistogram[k], 0));
+    const occupation = params.modes.index.map((index, m) => ({
+      index,
+      fraction: offs.reduce((a, o) => a + o.hops.occupation[m], 0) / offs.length,
+    }));
+    const hist = offs[0].hops.phaseHistogram.map((_, k) =>
+      offs.reduce((a, o) => a + o.hops.phaseHistogram[k], 0),
+    );
     const staticMean = staticSummary ? staticSummary.external_W.mean : null;
     const gos = staticMean && staticMean > 0 ? meanExt / staticMean : null;
     // What the still-mirror curve alone predicts at the same rest offsets and strokes: a few
     // rest offsets sample a peaked static curve coarsely, so a small stroke can show a
     // "gain" over the static mean that is only sampling. The class is judged against this.
-    const quasi = stat && !stat.failed ? quasiStaticMean(stat, offs.map((o) => o.offset_m), drive, lambda / 2) : null;
+    const quasi =
+      stat && !stat.failed
+        ? quasiStaticMean(
+            stat,
+            offs.map((o) => o.offset_m),
+            drive,
+            lambda / 2,
+          )
+        : null;
     const goqs = quasi !== null && quasi > 0 ? meanExt / quasi : null;
-    const gows = staticSummary && staticSummary.external_W.min > 0 ? meanExt / staticSummary.external_W.min : null;
+    const gows =
+      staticSummary && staticSummary.external_W.min > 0 ? meanExt / staticSummary.external_W.min : null;
     const incoherentLevel = derived.incoherent_enhancement * free.intracavity_W;
-    const incoherentFraction = Number.isFinite(incoherentLevel) && incoherentLevel > 0 ? meanExt / incoherentLevel : null;
+    const incoherentFraction =
+      Number.isFinite(incoherentLevel) && incoherentLevel > 0 ? meanExt / incoherentLevel : null;
     const cls = classifyRun(
       {
         status,
@@ -368,31 +439,50 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     peak_doppler_Hz: (2 * vPeak) / lambda,
     critical_speed_m_s: rule.criticalSpeed_m_s,
     critical_speed_landau_zener_m_s: params.hasExternal ? rule.criticalSpeedLandauZener_m_s : null,
-    fraction_below_critical: rule.criticalSpeed_m_s !== null ? (moving ? fractionBelowSpeed(drive, rule.criticalSpeed_m_s) : 1) : null,
+    fraction_below_critical:
+      rule.criticalSpeed_m_s !== null
+        ? moving
+          ? fractionBelowSpeed(drive, rule.criticalSpeed_m_s)
+          : 1
+        : null,
     locking_half_width_Hz: rule.lockingHalfWidth_Hz,
   };
-  const balance = driven && !driven.failed
-    ? {
-        laser_relative_error: Math.max(driven.balance.laser, stat?.worstBalance ?? 0),
-        external_relative_error: driven.balance.external,
-        relative_error: Math.max(driven.balance.laser, driven.balance.external, stat?.worstBalance ?? 0),
-        interface_mismatch_rel: driven.balance.mismatch,
-      }
-    : null;
+  const balance =
+    driven && !driven.failed
+      ? {
+          laser_relative_error: Math.max(driven.balance.laser, stat?.worstBalance ?? 0),
+          external_relative_error: driven.balance.external,
+          relative_error: Math.max(driven.balance.laser, driven.balance.external, stat?.worstBalance ?? 0),
+          interface_mismatch_rel: driven.balance.mismatch,
+        }
+      : null;
   if (balance) {
     if (balance.interface_mismatch_rel > 0.05) {
-      warnings.push({ code: 'interface-mismatch', message: `interface mismatch at M2 ${(100 * balance.interface_mismatch_rel).toFixed(1)} % > 5 %: the mean-field laser equation's approximation is large here (MODEL.md 3.3)` });
+      warnings.push({
+        code: 'interface-mismatch',
+        message: `interface mismatch at M2 ${(100 * balance.interface_mismatch_rel).toFixed(1)} % > 5 %: the mean-field laser equation's approximation is large here (MODEL.md 3.3)`,
+      });
     }
     if (balance.relative_error > 1e-4) {
-      warnings.push({ code: 'power-balance', message: `power balance closes only to ${balance.relative_error.toExponential(2)} (> 1e-4): reduce the step (simulation.substeps)` });
+      warnings.push({
+        code: 'power-balance',
+        message: `power balance closes only to ${balance.relative_error.toExponential(2)} (> 1e-4): reduce the step (simulation.substeps)`,
+      });
     }
   }
-  if (!params.hasExternal) warnings.push({ code: 'no-external', message: 'no external section: only the free-running reference was computed' });
+  if (!params.hasExternal)
+    warnings.push({
+      code: 'no-external',
+      message: 'no external section: only the free-running reference was computed',
+    });
 
   const steps = driven ? driven.steps : 0;
   const laneSteps = driven ? driven.laneSteps : 0;
   const wall = (Date.now() - wall0) / 1000;
-  const drivenWall = Math.max(1e-9, wall - (opts.references && opts.references.key === refKey ? 0 : refs.data.wall_s));
+  const drivenWall = Math.max(
+    1e-9,
+    wall - (opts.references && opts.references.key === refKey ? 0 : refs.data.wall_s),
+  );
   const summary: RunSummary = {
     version: RESULT_VERSION,
     tool_version: TOOL_VERSION,
@@ -405,7 +495,12 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     status,
     message,
     derived,
-    free_running: { intracavity_W: free.intracavity_W, output_W: free.output_W, lasing_modes: free.lasingModes, mode_powers_W: free.modePowers_W },
+    free_running: {
+      intracavity_W: free.intracavity_W,
+      output_W: free.output_W,
+      lasing_modes: free.lasingModes,
+      mode_powers_W: free.modePowers_W,
+    },
     static: staticSummary,
     driven: drivenSummary,
     drive: driveSummary,
@@ -419,8 +514,19 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     warnings,
     actuator: s.actuator ? actuatorSheet(s) : null,
   };
-  const spectra: SpectraSet | null = driven && !driven.failed
-    ? { rin: driven.rin, optical: driven.optical, drive_harmonics_Hz: f && driven.rin ? driveHarmonics(f, driven.rin.f_Hz[driven.rin.f_Hz.length - 1], 50) : [] }
-    : null;
-  return { summary, traces: driven && !driven.failed ? driven.traces : null, spectra, static_curve: staticCurve };
+  const spectra: SpectraSet | null =
+    driven && !driven.failed
+      ? {
+          rin: driven.rin,
+          optical: driven.optical,
+          drive_harmonics_Hz:
+            f && driven.rin ? driveHarmonics(f, driven.rin.f_Hz[driven.rin.f_Hz.length - 1], 50) : [],
+        }
+      : null;
+  return {
+    summary,
+    traces: driven && !driven.failed ? driven.traces : null,
+    spectra,
+    static_curve: staticCurve,
+  };
 }

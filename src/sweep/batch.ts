@@ -83,7 +83,9 @@ export const BATCH_INDEX_FILE = BATCH_FILES.index;
 export function findScenarioFiles(paths: readonly string[]): string[] {
   const out = new Set<string>();
   const walk = (dir: string) => {
-    for (const e of fs.readdirSync(dir, { withFileTypes: true }).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0))) {
+    for (const e of fs
+      .readdirSync(dir, { withFileTypes: true })
+      .sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0))) {
       if (e.name.startsWith('.') || e.name === 'node_modules') continue;
       const p = path.join(dir, e.name);
       if (e.isDirectory()) walk(p);
@@ -95,7 +97,9 @@ export function findScenarioFiles(paths: readonly string[]): string[] {
     try {
       st = fs.statSync(p);
     } catch {
-      throw new InputError(p, [{ path: '', message: 'expected a scenario file or a folder of them, found no such path' }]);
+      throw new InputError(p, [
+        { path: '', message: 'expected a scenario file or a folder of them, found no such path' },
+      ]);
     }
     if (st.isDirectory()) walk(p);
     else out.add(p);
@@ -133,9 +137,20 @@ function guessKind(file: string): 'run' | 'sweep' {
 
 function entryBase(file: string): BatchEntry {
   return {
-    file, name: path.basename(file), kind: guessKind(file), status: 'bad-input', class: null, error: null,
-    enhancement: null, gain_over_static: null, ripple_rel: null, hops_per_s: null,
-    figures_from: null, points: null, folder: null, wall_s: 0,
+    file,
+    name: path.basename(file),
+    kind: guessKind(file),
+    status: 'bad-input',
+    class: null,
+    error: null,
+    enhancement: null,
+    gain_over_static: null,
+    ripple_rel: null,
+    hops_per_s: null,
+    figures_from: null,
+    points: null,
+    folder: null,
+    wall_s: 0,
   };
 }
 
@@ -261,25 +276,30 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
   const onAbort = () => void exec.destroy();
   opts.signal?.addEventListener('abort', onAbort);
   try {
-    const runs = jobs.filter((j) => j.entry.kind === 'run').map(async ({ entry: e, scenario, dir }) => {
-      const t0 = Date.now();
-      try {
-        const prior = opts.resume ? finishedRun(dir, scenarioSha256(scenario)) : null;
-        if (prior) {
-          fillFromRun(e, prior);
-        } else {
-          const art = await exec.run({ type: 'run', scenario });
-          fs.mkdirSync(dir, { recursive: true });
-          opts.hooks.writeRun(dir, art);
-          fillFromRun(e, art.summary);
+    const runs = jobs
+      .filter((j) => j.entry.kind === 'run')
+      .map(async ({ entry: e, scenario, dir }) => {
+        const t0 = Date.now();
+        try {
+          const prior = opts.resume ? finishedRun(dir, scenarioSha256(scenario)) : null;
+          if (prior) {
+            fillFromRun(e, prior);
+          } else {
+            const art = await exec.run({ type: 'run', scenario });
+            fs.mkdirSync(dir, { recursive: true });
+            opts.hooks.writeRun(dir, art);
+            fillFromRun(e, art.summary);
+          }
+        } catch (err) {
+          e.status = 'failed';
+          e.error =
+            err instanceof ExecutorStopped || opts.signal?.aborted
+              ? 'stopped before it finished'
+              : errorText(err);
         }
-      } catch (err) {
-        e.status = 'failed';
-        e.error = err instanceof ExecutorStopped || opts.signal?.aborted ? 'stopped before it finished' : errorText(err);
-      }
-      e.wall_s = (Date.now() - t0) / 1000;
-      finish(e);
-    });
+        e.wall_s = (Date.now() - t0) / 1000;
+        finish(e);
+      });
     for (const { entry: e, scenario, dir } of jobs.filter((j) => j.entry.kind === 'sweep')) {
       const t0 = Date.now();
       if (opts.signal?.aborted) {
@@ -322,7 +342,12 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
 }
 
 /** Counts of a batch index by status. */
-export function batchCounts(index: readonly BatchIndexEntry[]): { total: number; ok: number; failed: number; bad_input: number } {
+export function batchCounts(index: readonly BatchIndexEntry[]): {
+  total: number;
+  ok: number;
+  failed: number;
+  bad_input: number;
+} {
   return {
     total: index.length,
     ok: index.filter((x) => x.status === 'ok').length,

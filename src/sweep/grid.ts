@@ -61,20 +61,32 @@ export function withoutSweep(s: Scenario): Scenario {
  * every key from the schema and validates the result. Errors name `where` (the key path
  * of the value in the sweep section) and the file.
  */
-function siValue(base: Scenario, key: string, value: number | string, where: string, file: string | null): number {
+function siValue(
+  base: Scenario,
+  key: string,
+  value: number | string,
+  where: string,
+  file: string | null,
+): number {
   let s: Scenario;
   try {
     s = withOverrides(base, { [key]: value });
   } catch (err) {
     if (err instanceof InputError) {
-      const detail = err.problems.map((p) => (p.path !== '' && p.path !== key ? `${p.path}: ${p.message}` : p.message)).join('; ');
-      throw new InputError(file, [{ path: where, message: `${key} = ${JSON.stringify(value)} is not valid: ${detail}` }]);
+      const detail = err.problems
+        .map((p) => (p.path !== '' && p.path !== key ? `${p.path}: ${p.message}` : p.message))
+        .join('; ');
+      throw new InputError(file, [
+        { path: where, message: `${key} = ${JSON.stringify(value)} is not valid: ${detail}` },
+      ]);
     }
     throw err;
   }
   const v = valueAtPath(s, key);
   if (typeof v !== 'number') {
-    throw new InputError(file, [{ path: where, message: `expected a numeric value for ${key}, found ${JSON.stringify(v)}` }]);
+    throw new InputError(file, [
+      { path: where, message: `expected a numeric value for ${key}, found ${JSON.stringify(v)}` },
+    ]);
   }
   return v;
 }
@@ -114,17 +126,24 @@ function expandAxis(base: Scenario, spec: SweepAxisSpec, i: number, file: string
   if (!known.includes(key)) {
     const near = nearestKey(key, known);
     throw new InputError(file, [
-      { path: where('key'), message: `expected the key path of a numeric scenario value${near ? ` (did you mean '${near}'?)` : ''}, found '${spec.key}'` },
+      {
+        path: where('key'),
+        message: `expected the key path of a numeric scenario value${near ? ` (did you mean '${near}'?)` : ''}, found '${spec.key}'`,
+      },
     ]);
   }
   if ('values' in spec) {
-    const values = spec.values.map((v, j) => siValue(base, key, v, formatKeyPath(['sweep', 'axes', i, 'values', j]), file));
+    const values = spec.values.map((v, j) =>
+      siValue(base, key, v, formatKeyPath(['sweep', 'axes', i, 'values', j]), file),
+    );
     return { key, values, scale: explicitScale(values) };
   }
   const from = siValue(base, key, spec.from, where('from'), file);
   const to = siValue(base, key, spec.to, where('to'), file);
   if (spec.scale === 'log' && !(from > 0 && to > 0)) {
-    throw new InputError(file, [{ path: where('scale'), message: `expected from and to > 0 for a log axis, found ${from} and ${to}` }]);
+    throw new InputError(file, [
+      { path: where('scale'), message: `expected from and to > 0 for a log axis, found ${from} and ${to}` },
+    ]);
   }
   // The schema's bounds are intervals, so valid end points make every value between valid;
   // combinations of axes are checked when each point's scenario is built.
@@ -138,21 +157,31 @@ function expandAxis(base: Scenario, spec: SweepAxisSpec, i: number, file: string
  * larger than MAX_GRID_POINTS. A scenario without `sweep` is refused too.
  */
 export function expandGrid(scenario: Scenario, file: string | null = null): SweepGrid {
-  if (!scenario.sweep) throw new InputError(file, [{ path: 'sweep', message: 'expected a sweep section with axes, found none' }]);
+  if (!scenario.sweep)
+    throw new InputError(file, [
+      { path: 'sweep', message: 'expected a sweep section with axes, found none' },
+    ]);
   const base = withoutSweep(scenario);
   const axes: GridAxis[] = [];
   const seen = new Set<string>();
   scenario.sweep.axes.forEach((spec, i) => {
     const axis = expandAxis(base, spec, i, file);
     if (seen.has(axis.key)) {
-      throw new InputError(file, [{ path: formatKeyPath(['sweep', 'axes', i, 'key']), message: `expected each key once, found '${axis.key}' again` }]);
+      throw new InputError(file, [
+        {
+          path: formatKeyPath(['sweep', 'axes', i, 'key']),
+          message: `expected each key once, found '${axis.key}' again`,
+        },
+      ]);
     }
     seen.add(axis.key);
     axes.push(axis);
   });
   const total = axes.reduce((n, a) => n * a.values.length, 1);
   if (total > MAX_GRID_POINTS) {
-    throw new InputError(file, [{ path: 'sweep.axes', message: `expected at most ${MAX_GRID_POINTS} points in all, found ${total}` }]);
+    throw new InputError(file, [
+      { path: 'sweep.axes', message: `expected at most ${MAX_GRID_POINTS} points in all, found ${total}` },
+    ]);
   }
   return { base, axes, total };
 }
@@ -163,7 +192,8 @@ export function expandGrid(scenario: Scenario, file: string | null = null): Swee
  */
 export function gridIndices(axes: readonly { values: readonly number[] }[], index: number): number[] {
   const total = axes.reduce((n, a) => n * a.values.length, 1);
-  if (!Number.isInteger(index) || index < 0 || index >= total) throw new RangeError(`point index ${index} outside 0..${total - 1}`);
+  if (!Number.isInteger(index) || index < 0 || index >= total)
+    throw new RangeError(`point index ${index} outside 0..${total - 1}`);
   const out = new Array<number>(axes.length);
   let rest = index;
   for (let k = axes.length - 1; k >= 0; k--) {

@@ -75,15 +75,31 @@ function curves(
   axes: MapAxis[],
   byIndex: (PointRecord | undefined)[],
   hopLimitPerPeriod: number,
-): Pick<SweepMap, 'amplitude_key' | 'frequency_key' | 'onset_curve' | 'decoupling_boundary' | 'critical_curve'> {
+): Pick<
+  SweepMap,
+  'amplitude_key' | 'frequency_key' | 'onset_curve' | 'decoupling_boundary' | 'critical_curve'
+> {
   const ia = axes.findIndex((a) => a.key === AMPLITUDE_KEY);
   const jf = axes.findIndex((a) => a.key === FREQUENCY_KEY);
-  const none = { amplitude_key: null, frequency_key: null, onset_curve: null, decoupling_boundary: null, critical_curve: null };
+  const none = {
+    amplitude_key: null,
+    frequency_key: null,
+    onset_curve: null,
+    decoupling_boundary: null,
+    critical_curve: null,
+  };
   if (ia < 0 || jf < 0) return none;
   const keys = { amplitude_key: AMPLITUDE_KEY, frequency_key: FREQUENCY_KEY };
-  const vc = median(byIndex.flatMap((r) => { const v = r ? finite(r.summary.drive?.critical_speed_m_s) : null; return v === null ? [] : [v]; }));
+  const vc = median(
+    byIndex.flatMap((r) => {
+      const v = r ? finite(r.summary.drive?.critical_speed_m_s) : null;
+      return v === null ? [] : [v];
+    }),
+  );
   const critical_curve: CurvePoint[] | null =
-    vc === null ? null : axes[jf].values.map((f) => ({ frequency_Hz: f, amplitude_m: vc / (2 * Math.PI * f) }));
+    vc === null
+      ? null
+      : axes[jf].values.map((f) => ({ frequency_Hz: f, amplitude_m: vc / (2 * Math.PI * f) }));
   // With a third axis of several values a column over amplitude is not one curve; draw none.
   if (axes.some((a, k) => k !== ia && k !== jf && a.values.length > 1)) {
     return { ...keys, onset_curve: null, decoupling_boundary: null, critical_curve };
@@ -125,7 +141,9 @@ export function buildSweepMap(input: MapInput): SweepMap {
     metrics[name] = Array.from(byIndex, (r) => (r && r.summary.status === 'ok' ? finite(get(r)) : null));
   }
   const classes: (RunClass | null)[] = Array.from(byIndex, (r) => (r ? r.summary.class : null));
-  const class_reasons: (string | null)[] = Array.from(byIndex, (r) => (r ? r.summary.class_reason ?? r.summary.message : null));
+  const class_reasons: (string | null)[] = Array.from(byIndex, (r) =>
+    r ? (r.summary.class_reason ?? r.summary.message) : null,
+  );
   const finished = byIndex.filter((r) => r !== undefined).length;
   const failed = classes.filter((c) => c === 'numerical-failure').length;
   const hopLimit = input.scenario?.analysis.max_hops_per_period ?? 0;

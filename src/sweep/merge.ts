@@ -12,7 +12,15 @@ import type { Scenario } from '../scenario/schema';
 import type { SweepMap } from '../results/map';
 import { buildSweepMap, withOperatingPoint } from './map';
 import type { PointRecord, SweepHeader } from './persist';
-import { describeDropped, formatPointLine, makeHeader, readHeader, readPoints, SWEEP_FILES, writeHeader } from './persist';
+import {
+  describeDropped,
+  formatPointLine,
+  makeHeader,
+  readHeader,
+  readPoints,
+  SWEEP_FILES,
+  writeHeader,
+} from './persist';
 
 export interface MergeOptions {
   /** output folder; default `<parent of the first folder>/<scenario name>-merged` */
@@ -51,10 +59,14 @@ export function defaultMergeDir(firstDir: string, name: string): string {
  */
 export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): MergeOutcome {
   const warn = opts.onWarning ?? (() => undefined);
-  if (dirs.length === 0) throw new InputError(null, [{ path: 'DIR', message: 'expected at least one sweep folder' }]);
+  if (dirs.length === 0)
+    throw new InputError(null, [{ path: 'DIR', message: 'expected at least one sweep folder' }]);
   const headers: SweepHeader[] = dirs.map((d) => {
     const h = readHeader(d);
-    if (!h) throw new InputError(path.join(d, SWEEP_FILES.header), [{ path: '', message: `expected a sweep folder holding ${SWEEP_FILES.header}, found none` }]);
+    if (!h)
+      throw new InputError(path.join(d, SWEEP_FILES.header), [
+        { path: '', message: `expected a sweep folder holding ${SWEEP_FILES.header}, found none` },
+      ]);
     return h;
   });
   const hashes = new Set(headers.map((h) => h.scenario_sha256));
@@ -63,13 +75,21 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
       path: '',
       message: `${d}: scenario '${headers[i].name}', sha256 ${headers[i].scenario_sha256.slice(0, 16)}...`,
     }));
-    throw new InputError(null, [{ path: '', message: 'refusing to merge shards of different scenarios (their scenario hashes differ):' }, ...problems]);
+    throw new InputError(null, [
+      {
+        path: '',
+        message: 'refusing to merge shards of different scenarios (their scenario hashes differ):',
+      },
+      ...problems,
+    ]);
   }
   const first = headers[0];
   const outDir = opts.outDir ?? defaultMergeDir(dirs[0], first.name);
   const resolvedOut = path.resolve(outDir);
   if (dirs.some((d) => path.resolve(d) === resolvedOut)) {
-    throw new InputError(null, [{ path: '--out', message: `expected an output folder other than the shards, found ${outDir}` }]);
+    throw new InputError(null, [
+      { path: '--out', message: `expected an output folder other than the shards, found ${outDir}` },
+    ]);
   }
 
   const byIndex = new Map<number, PointRecord>();
@@ -81,7 +101,10 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
     for (const m of describeDropped(file, read.dropped)) warn(m);
     for (const r of read.records) {
       if (r.index >= first.total_points) {
-        conflicts.push({ path: '', message: `${file}: point ${r.index} is outside the grid of ${first.total_points} points` });
+        conflicts.push({
+          path: '',
+          message: `${file}: point ${r.index} is outside the grid of ${first.total_points} points`,
+        });
         continue;
       }
       const prior = byIndex.get(r.index);
@@ -90,18 +113,26 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
       } else if (pointIdentity(prior) === pointIdentity(r)) {
         duplicates++;
       } else {
-        conflicts.push({ path: '', message: `${file}: point ${r.index} differs from the same point in another shard` });
+        conflicts.push({
+          path: '',
+          message: `${file}: point ${r.index} differs from the same point in another shard`,
+        });
       }
     }
   });
-  if (conflicts.length > 0) throw new InputError(null, [{ path: '', message: 'refusing to merge:' }, ...conflicts.slice(0, 20)]);
-  if (duplicates > 0) warn(`${duplicates} point(s) appear in more than one shard with identical results; kept once`);
+  if (conflicts.length > 0)
+    throw new InputError(null, [{ path: '', message: 'refusing to merge:' }, ...conflicts.slice(0, 20)]);
+  if (duplicates > 0)
+    warn(`${duplicates} point(s) appear in more than one shard with identical results; kept once`);
 
   const records = [...byIndex.values()].sort((a, b) => a.index - b.index);
   let scenario: Scenario | null = null;
   const parsed = scenarioSchema.safeParse(first.scenario);
   if (parsed.success) scenario = parsed.data;
-  else warn(`the scenario stored in ${path.join(dirs[0], SWEEP_FILES.header)} no longer validates; the map is drawn without its thresholds`);
+  else
+    warn(
+      `the scenario stored in ${path.join(dirs[0], SWEEP_FILES.header)} no longer validates; the map is drawn without its thresholds`,
+    );
 
   fs.mkdirSync(outDir, { recursive: true });
   const header = makeHeader({
@@ -118,7 +149,13 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
   fs.renameSync(tmp, path.join(outDir, SWEEP_FILES.points));
   writeHeader(outDir, header);
   const map = withOperatingPoint(
-    buildSweepMap({ name: first.name, scenario_sha256: first.scenario_sha256, axes: first.axes, records, scenario }),
+    buildSweepMap({
+      name: first.name,
+      scenario_sha256: first.scenario_sha256,
+      axes: first.axes,
+      records,
+      scenario,
+    }),
     scenario,
   );
   fs.writeFileSync(path.join(outDir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);

@@ -8,7 +8,14 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import type { RunSummary, RunClass, DrivenSummary, DriveSummary, MinMeanMax, Warning } from '../results/summary';
+import type {
+  RunSummary,
+  RunClass,
+  DrivenSummary,
+  DriveSummary,
+  MinMeanMax,
+  Warning,
+} from '../results/summary';
 import { RESULT_VERSION } from '../results/summary';
 import type { MapAxis } from '../results/map';
 import { InputError } from '../scenario/errors';
@@ -59,7 +66,8 @@ export function pointSummaryOf(s: RunSummary): PointSummary {
   const failed = s.status !== 'ok' || s.driven === null;
   return {
     status: failed ? 'numerical-failure' : 'ok',
-    message: s.message ?? (s.driven === null && s.status === 'ok' ? 'the run produced no driven result' : null),
+    message:
+      s.message ?? (s.driven === null && s.status === 'ok' ? 'the run produced no driven result' : null),
     class: failed ? 'numerical-failure' : s.driven!.class,
     class_reason: failed ? (s.message ?? 'numerical failure') : s.driven!.class_reason,
     engine: s.engine,
@@ -77,7 +85,11 @@ export function pointSummaryOf(s: RunSummary): PointSummary {
         }
       : null,
     free_running: s.free_running
-      ? { intracavity_W: s.free_running.intracavity_W, output_W: s.free_running.output_W, lasing_modes: s.free_running.lasing_modes }
+      ? {
+          intracavity_W: s.free_running.intracavity_W,
+          output_W: s.free_running.output_W,
+          lasing_modes: s.free_running.lasing_modes,
+        }
       : null,
     power_balance: s.power_balance,
     warnings: s.warnings ?? [],
@@ -146,9 +158,13 @@ function isRecord(v: unknown): v is PointRecord {
   if (v === null || typeof v !== 'object') return false;
   const r = v as Record<string, unknown>;
   return (
-    typeof r.index === 'number' && Number.isInteger(r.index) && r.index >= 0 &&
-    r.axes !== null && typeof r.axes === 'object' &&
-    r.summary !== null && typeof r.summary === 'object'
+    typeof r.index === 'number' &&
+    Number.isInteger(r.index) &&
+    r.index >= 0 &&
+    r.axes !== null &&
+    typeof r.axes === 'object' &&
+    r.summary !== null &&
+    typeof r.summary === 'object'
   );
 }
 
@@ -171,7 +187,10 @@ export function readPoints(file: string): PointsRead {
     line++;
     const nl = buf.indexOf(0x0a, start);
     if (nl < 0) {
-      dropped.push({ line, reason: 'the last line is incomplete (no newline: a point was being written when the sweep stopped)' });
+      dropped.push({
+        line,
+        reason: 'the last line is incomplete (no newline: a point was being written when the sweep stopped)',
+      });
       break;
     }
     const text = buf.toString('utf8', start, nl).trim();
@@ -262,11 +281,24 @@ export function readHeader(dir: string): SweepHeader | null {
   try {
     v = JSON.parse(fs.readFileSync(file, 'utf8'));
   } catch (err) {
-    throw new InputError(file, [{ path: '', message: `expected a sweep header (JSON), found unreadable text: ${(err as Error).message}` }]);
+    throw new InputError(file, [
+      {
+        path: '',
+        message: `expected a sweep header (JSON), found unreadable text: ${(err as Error).message}`,
+      },
+    ]);
   }
   const h = v as Partial<SweepHeader>;
-  if (!h || typeof h !== 'object' || typeof h.scenario_sha256 !== 'string' || !Array.isArray(h.axes) || typeof h.total_points !== 'number') {
-    throw new InputError(file, [{ path: '', message: 'expected a sweep header with scenario_sha256, axes and total_points' }]);
+  if (
+    !h ||
+    typeof h !== 'object' ||
+    typeof h.scenario_sha256 !== 'string' ||
+    !Array.isArray(h.axes) ||
+    typeof h.total_points !== 'number'
+  ) {
+    throw new InputError(file, [
+      { path: '', message: 'expected a sweep header with scenario_sha256, axes and total_points' },
+    ]);
   }
   return h as SweepHeader;
 }
@@ -279,7 +311,9 @@ export function assertSameSweep(dir: string, existing: SweepHeader, wanted: Swee
   const file = path.join(dir, SWEEP_FILES.header);
   const problems: string[] = [];
   if (existing.scenario_sha256 !== wanted.scenario_sha256) {
-    problems.push(`it holds a sweep of another scenario or engine choice ('${existing.name}', sha256 ${existing.scenario_sha256.slice(0, 12)}..., this one ${wanted.scenario_sha256.slice(0, 12)}...)`);
+    problems.push(
+      `it holds a sweep of another scenario or engine choice ('${existing.name}', sha256 ${existing.scenario_sha256.slice(0, 12)}..., this one ${wanted.scenario_sha256.slice(0, 12)}...)`,
+    );
   } else if (existing.total_points !== wanted.total_points) {
     problems.push(`it holds ${existing.total_points} grid points, this sweep ${wanted.total_points}`);
   }
@@ -288,6 +322,8 @@ export function assertSameSweep(dir: string, existing: SweepHeader, wanted: Swee
     problems.push(`it holds ${sh(existing.shard)}, this run is ${sh(wanted.shard)}`);
   }
   if (problems.length > 0) {
-    throw new InputError(file, [{ path: '', message: `cannot resume here: ${problems.join('; ')}. Use another --out folder.` }]);
+    throw new InputError(file, [
+      { path: '', message: `cannot resume here: ${problems.join('; ')}. Use another --out folder.` },
+    ]);
   }
 }

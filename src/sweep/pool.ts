@@ -27,7 +27,10 @@ export class ExecutorStopped extends Error {
 
 /** Default thread count: os.availableParallelism() (at least 1). */
 export function defaultJobs(): number {
-  return Math.max(1, typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length);
+  return Math.max(
+    1,
+    typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length,
+  );
 }
 
 /**

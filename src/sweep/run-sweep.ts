@@ -17,7 +17,18 @@ import { expandGrid, gridPoint } from './grid';
 import { withOverrides } from '../scenario/validate';
 import { buildSweepMap, withOperatingPoint } from './map';
 import type { PointRecord, SweepHeader } from './persist';
-import { assertSameSweep, describeDropped, failedPointSummary, makeHeader, PointWriter, readHeader, readPoints, repairPoints, SWEEP_FILES, writeHeader } from './persist';
+import {
+  assertSameSweep,
+  describeDropped,
+  failedPointSummary,
+  makeHeader,
+  PointWriter,
+  readHeader,
+  readPoints,
+  repairPoints,
+  SWEEP_FILES,
+  writeHeader,
+} from './persist';
 import type { Executor } from './pool';
 import { createExecutor, ExecutorStopped } from './pool';
 import type { Shard } from './shard';
@@ -69,7 +80,12 @@ export function withEngine(s: Scenario, engine: EngineChoice | undefined): Scena
 }
 
 /** The sweep.json a scenario (with its engine choice applied) and shard give. */
-export function sweepHeaderFor(scenario: Scenario, source: string | null, shard: Shard | null, engine?: EngineChoice): SweepHeader {
+export function sweepHeaderFor(
+  scenario: Scenario,
+  source: string | null,
+  shard: Shard | null,
+  engine?: EngineChoice,
+): SweepHeader {
   const s = withEngine(scenario, engine);
   const grid = expandGrid(s, source);
   return makeHeader({
@@ -106,7 +122,9 @@ function errorText(err: unknown): string {
 }
 
 function pointLabel(axes: Record<string, number>): string {
-  return Object.entries(axes).map(([k, v]) => `${k} = ${v}`).join(', ');
+  return Object.entries(axes)
+    .map(([k, v]) => `${k} = ${v}`)
+    .join(', ');
 }
 
 /**
@@ -134,12 +152,19 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     const read = readPoints(pointsFile);
     for (const m of describeDropped(pointsFile, read.dropped)) warn(m);
     if (!existing && read.records.length > 0) {
-      throw new InputError(path.join(dir, SWEEP_FILES.header), [{ path: '', message: `cannot resume: ${pointsFile} has points but sweep.json is missing, so their scenario is unknown` }]);
+      throw new InputError(path.join(dir, SWEEP_FILES.header), [
+        {
+          path: '',
+          message: `cannot resume: ${pointsFile} has points but sweep.json is missing, so their scenario is unknown`,
+        },
+      ]);
     }
     kept = repairPoints(pointsFile, read);
   } else if (fs.existsSync(pointsFile) && fs.statSync(pointsFile).size > 0) {
     fs.renameSync(pointsFile, `${pointsFile}.previous`);
-    warn(`${dir}: the earlier points were moved to ${SWEEP_FILES.points}.previous (use --resume to continue a sweep)`);
+    warn(
+      `${dir}: the earlier points were moved to ${SWEEP_FILES.points}.previous (use --resume to continue a sweep)`,
+    );
   }
   writeHeader(dir, existing && opts.resume ? { ...header, created: existing.created } : header);
 
@@ -159,7 +184,13 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
       ps = withOverrides(grid.base, pt.axes);
     } catch (err) {
       if (err instanceof InputError) {
-        throw new InputError(source, err.problems.map((p) => ({ path: p.path, message: `at sweep point ${index} (${pointLabel(pt.axes)}): ${p.message}` })));
+        throw new InputError(
+          source,
+          err.problems.map((p) => ({
+            path: p.path,
+            message: `at sweep point ${index} (${pointLabel(pt.axes)}): ${p.message}`,
+          })),
+        );
       }
       throw err;
     }
@@ -198,22 +229,31 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
           slots.release();
           break outer;
         }
-        const task = track(exec.run({ type: 'point', index: p.index, axes: p.axes, scenario: p.scenario, referenceKey: key }));
-        task.then(
-          (rec) => {
-            writer.write(rec);
-            records.push(rec);
-            opts.onProgress?.(records.length, planned.length, rec);
-          },
-          (err: unknown) => {
-            if (stopped || err instanceof ExecutorStopped) return;
-            // The thread itself failed (out of memory, a crash): record it like a failed run.
-            const rec: PointRecord = { index: p.index, axes: p.axes, summary: failedPointSummary(`worker failed: ${errorText(err)}`), wall_s: 0 };
-            writer.write(rec);
-            records.push(rec);
-            opts.onProgress?.(records.length, planned.length, rec);
-          },
-        ).finally(() => slots.release());
+        const task = track(
+          exec.run({ type: 'point', index: p.index, axes: p.axes, scenario: p.scenario, referenceKey: key }),
+        );
+        task
+          .then(
+            (rec) => {
+              writer.write(rec);
+              records.push(rec);
+              opts.onProgress?.(records.length, planned.length, rec);
+            },
+            (err: unknown) => {
+              if (stopped || err instanceof ExecutorStopped) return;
+              // The thread itself failed (out of memory, a crash): record it like a failed run.
+              const rec: PointRecord = {
+                index: p.index,
+                axes: p.axes,
+                summary: failedPointSummary(`worker failed: ${errorText(err)}`),
+                wall_s: 0,
+              };
+              writer.write(rec);
+              records.push(rec);
+              opts.onProgress?.(records.length, planned.length, rec);
+            },
+          )
+          .finally(() => slots.release());
       }
     }
     while (inFlight.size > 0) await Promise.allSettled([...inFlight]);
@@ -224,7 +264,16 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   }
 
   records.sort((a, b) => a.index - b.index);
-  const map = withOperatingPoint(buildSweepMap({ name: header.name, scenario_sha256: header.scenario_sha256, axes: header.axes, records, scenario: s }), s);
+  const map = withOperatingPoint(
+    buildSweepMap({
+      name: header.name,
+      scenario_sha256: header.scenario_sha256,
+      axes: header.axes,
+      records,
+      scenario: s,
+    }),
+    s,
+  );
   fs.writeFileSync(path.join(dir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
   const finishedHere = records.filter((r) => plannedSet.has(r.index)).length;
   return {

@@ -43,9 +43,17 @@ export function shardFromSlurm(env: NodeJS.ProcessEnv = process.env): Shard | nu
   if (id === undefined || count === undefined || id === '' || count === '') return null;
   const step = env.SLURM_ARRAY_TASK_STEP;
   if (step !== undefined && step !== '' && step !== '1') {
-    throw new InputError(null, [{ path: 'SLURM_ARRAY_TASK_STEP', message: `expected a job array without a step (1), found ${step}; pass --shard I/N instead` }]);
+    throw new InputError(null, [
+      {
+        path: 'SLURM_ARRAY_TASK_STEP',
+        message: `expected a job array without a step (1), found ${step}; pass --shard I/N instead`,
+      },
+    ]);
   }
-  const min = env.SLURM_ARRAY_TASK_MIN !== undefined && env.SLURM_ARRAY_TASK_MIN !== '' ? Number(env.SLURM_ARRAY_TASK_MIN) : 0;
+  const min =
+    env.SLURM_ARRAY_TASK_MIN !== undefined && env.SLURM_ARRAY_TASK_MIN !== ''
+      ? Number(env.SLURM_ARRAY_TASK_MIN)
+      : 0;
   const i = Number(id) - min + 1;
   return parseShard(`${i}/${Number(count)}`, 'SLURM_ARRAY_TASK_ID / SLURM_ARRAY_TASK_COUNT');
 }

@@ -56,7 +56,8 @@ function referencesFor(task: PointTask): References {
   }
   const refs = computeReferences(task.scenario);
   referenceCache.set(task.referenceKey, refs);
-  while (referenceCache.size > REFERENCE_CACHE_SIZE) referenceCache.delete(referenceCache.keys().next().value as string);
+  while (referenceCache.size > REFERENCE_CACHE_SIZE)
+    referenceCache.delete(referenceCache.keys().next().value as string);
   return refs;
 }
 

@@ -52,12 +52,26 @@ export function sheetRows(sheet: ActuatorSheet): Row[] {
     if (r.moving_mass_kg !== null) add('moving mass', fmt(r.moving_mass_kg * 1e3, 'g'));
     if (r.stiffness_N_m !== null) add('stiffness', fmt(r.stiffness_N_m, 'N/m'));
     if (a.force_N !== null) add('peak force on moving mass', fmt(a.force_N, 'N'));
-    rows.push(limitRow('resonance margin f0 / f', byKey('actuator.min_resonance_margin'), a.resonance_margin === null ? '-' : a.resonance_margin.toPrecision(4)));
+    rows.push(
+      limitRow(
+        'resonance margin f0 / f',
+        byKey('actuator.min_resonance_margin'),
+        a.resonance_margin === null ? '-' : a.resonance_margin.toPrecision(4),
+      ),
+    );
     if (a.resonance_margin !== null) {
-      rows.push({ quantity: 'drive below resonance', value: a.above_resonance ? 'no' : 'yes', limit: 'yes', status: a.above_resonance ? 'EXCEEDED' : 'OK' });
+      rows.push({
+        quantity: 'drive below resonance',
+        value: a.above_resonance ? 'no' : 'yes',
+        limit: 'yes',
+        status: a.above_resonance ? 'EXCEEDED' : 'OK',
+      });
     }
     for (const c of a.components) {
-      add(`  ${c.label}: |H| at ${fmt(c.frequency_Hz, 'Hz')}`, `${c.response_magnitude.toPrecision(4)} (${((c.response_phase_rad * 180) / Math.PI).toFixed(1)} deg)`);
+      add(
+        `  ${c.label}: |H| at ${fmt(c.frequency_Hz, 'Hz')}`,
+        `${c.response_magnitude.toPrecision(4)} (${((c.response_phase_rad * 180) / Math.PI).toFixed(1)} deg)`,
+      );
       if (a.components.length > 1) add(`  ${c.label}: voltage amplitude`, fmt(c.voltage_V, 'V'));
     }
     rows.push(limitRow('peak voltage', byKey('actuator.max_voltage'), fmt(a.voltage_peak_V, 'V')));
@@ -78,8 +92,16 @@ export function formatSheet(sheet: ActuatorSheet): string {
   const wq = w('quantity');
   const wv = w('value');
   const wl = w('limit');
-  const line = (r: Row) => `${r.quantity.padEnd(wq)}  ${r.value.padEnd(wv)}  ${r.limit.padEnd(wl)}  ${r.status}`.trimEnd();
-  const out = [`drive and actuator: ${sheet.name}`, '', line(head), '-'.repeat(wq + wv + wl + 14), ...rows.map(line), ''];
+  const line = (r: Row) =>
+    `${r.quantity.padEnd(wq)}  ${r.value.padEnd(wv)}  ${r.limit.padEnd(wl)}  ${r.status}`.trimEnd();
+  const out = [
+    `drive and actuator: ${sheet.name}`,
+    '',
+    line(head),
+    '-'.repeat(wq + wv + wl + 14),
+    ...rows.map(line),
+    '',
+  ];
   out.push(sheet.ok ? 'all limits met' : `limits exceeded: ${sheet.exceeded.join(', ')}`);
   for (const n of sheet.notes) out.push(`note: ${n}`);
   return `${out.join('\n')}\n`;
@@ -89,12 +111,17 @@ export function formatSheet(sheet: ActuatorSheet): string {
 export function registerActuator(program: Command, ctx: CommandContext): void {
   program
     .command('actuator')
-    .description('drive and actuator requirements of a scenario (stroke, speed, Doppler shift, voltage, current, resonance margin)')
+    .description(
+      'drive and actuator requirements of a scenario (stroke, speed, Doppler shift, voltage, current, resonance margin)',
+    )
     .argument('<file>', 'scenario file (YAML or JSON)')
     .option('--json', 'print the sheet as JSON (SI values)')
     .action(async (file: string, opts: { json?: boolean }) => {
       const loaded = loadScenarioFile(file);
-      for (const w of loaded.warnings) process.stderr.write(`dithercav: warning: ${file}: ${w.path === '' ? '' : `${w.path}: `}${w.message}\n`);
+      for (const w of loaded.warnings)
+        process.stderr.write(
+          `dithercav: warning: ${file}: ${w.path === '' ? '' : `${w.path}: `}${w.message}\n`,
+        );
       const sheet = actuatorSheet(loaded.scenario);
       process.stdout.write(opts.json ? `${JSON.stringify(sheet, null, 2)}\n` : formatSheet(sheet));
       ctx.setExit(0);

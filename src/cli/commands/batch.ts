@@ -31,7 +31,9 @@ interface BatchCliOptions {
 export function registerBatch(program: Command, ctx: CommandContext): void {
   program
     .command('batch')
-    .description('every scenario file under the paths (run or sweep by content), one folder each plus index.json and index.html')
+    .description(
+      'every scenario file under the paths (run or sweep by content), one folder each plus index.json and index.html',
+    )
     .argument('<paths...>', 'scenario files or folders to search (recursive) for .yaml, .yml, .json')
     .option('--out <dir>', 'output folder (default reports/batch/)')
     .option('--jobs <n>', 'worker threads (default: the available processors)')
@@ -60,7 +62,8 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
           hooks,
           onWarning: (m) => log(`warning: ${m}`),
           onEntry: (e, done, total) => {
-            const what = e.status === 'ok' ? `ok${e.class ? ` (${e.class})` : ''}` : `${e.status}: ${e.error ?? ''}`;
+            const what =
+              e.status === 'ok' ? `ok${e.class ? ` (${e.class})` : ''}` : `${e.status}: ${e.error ?? ''}`;
             if (!opts.quiet || e.status !== 'ok') log(`batch [${done}/${total}] ${e.file}: ${what}`);
           },
           onSweepProgress: (name, done, total) => {
@@ -84,7 +87,9 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
         process.stderr.write(`dithercav batch: index.html could not be written: ${(err as Error).message}\n`);
       }
       const c = batchCounts(index);
-      process.stdout.write(`batch: ${c.total} scenario(s): ${c.ok} ok, ${c.failed} failed, ${c.bad_input} bad input -> ${path.join(outDir, 'index.json')}\n`);
+      process.stdout.write(
+        `batch: ${c.total} scenario(s): ${c.ok} ok, ${c.failed} failed, ${c.bad_input} bad input -> ${path.join(outDir, 'index.json')}\n`,
+      );
       if (stop.signal.aborted) process.exit(130);
       if (c.total === 0) {
         process.stderr.write(`dithercav batch: no .yaml, .yml or .json files under ${paths.join(', ')}\n`);

@@ -38,12 +38,26 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
 
   section('Laser (M1 to M2)', [
     ['wavelength', q(s.laser.wavelength, 'm')],
-    ['cavity length L1', q(s.laser.cavity_length, 'm'), `refractive index ${formatNumber(s.laser.refractive_index)}`],
+    [
+      'cavity length L1',
+      q(s.laser.cavity_length, 'm'),
+      `refractive index ${formatNumber(s.laser.refractive_index)}`,
+    ],
     ['free spectral range', q(d.fsr_laser_Hz, 'Hz'), 'c / (2 n L1)'],
     ['round-trip time', q(d.roundtrip_laser_s, 's'), '2 n L1 / c'],
-    ['photon lifetime', q(d.photon_lifetime_s, 's'), `decay rate ${formatNumber(d.photon_decay_rate_per_s)} /s`],
+    [
+      'photon lifetime',
+      q(d.photon_lifetime_s, 's'),
+      `decay rate ${formatNumber(d.photon_decay_rate_per_s)} /s`,
+    ],
     ['inversion lifetime', q(s.laser.gain.inversion_lifetime, 's')],
-    ['laser class', d.laser_class, d.laser_class === 'A' ? 'inversion follows the field (adiabatic)' : 'inversion integrated (relaxation oscillations)'],
+    [
+      'laser class',
+      d.laser_class,
+      d.laser_class === 'A'
+        ? 'inversion follows the field (adiabatic)'
+        : 'inversion integrated (relaxation oscillations)',
+    ],
     ['pump ratio', formatNumber(s.laser.gain.pump_ratio), '1 = threshold of the gain peak'],
     ['free-running estimate', q(d.free_running_estimate_W, 'W'), 'one-way intracavity power'],
   ]);
@@ -55,10 +69,17 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
       ['round-trip time', q(d.roundtrip_external_s, 's'), '2 L2 / c'],
       ['finesse', formatNumber(d.finesse_external)],
       ['linewidth (FWHM)', q(d.linewidth_external_Hz, 'Hz')],
-      ['incoherent enhancement', formatNumber(d.incoherent_enhancement), 'phase-averaged circulating / incident'],
+      [
+        'incoherent enhancement',
+        formatNumber(d.incoherent_enhancement),
+        'phase-averaged circulating / incident',
+      ],
       ['feedback efficiency', formatNumber(d.feedback_efficiency), source(d.feedback_efficiency_source)],
       ['round-trip efficiency', formatNumber(d.roundtrip_efficiency), source(d.roundtrip_efficiency_source)],
-      ['return to laser', s.external.return_to_laser ? 'yes' : 'no (reference: the laser ignores its feedback)'],
+      [
+        'return to laser',
+        s.external.return_to_laser ? 'yes' : 'no (reference: the laser ignores its feedback)',
+      ],
     ]);
   } else {
     out.push('', bold('External cavity', colour), '  none: the laser runs alone');
@@ -68,13 +89,21 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
   const waist = b.gap_waist_m === null ? 'none in the gap' : q(b.gap_waist_m, 'm');
   // a waist on M2 itself comes out of the ABCD algebra as a rounding residue (~1e-17 m)
   const waistAt =
-    b.gap_waist_position_m === null ? '' : Math.abs(b.gap_waist_position_m) < 1e-9 ? 'at M2' : `${q(b.gap_waist_position_m, 'm')} from M2`;
+    b.gap_waist_position_m === null
+      ? ''
+      : Math.abs(b.gap_waist_position_m) < 1e-9
+        ? 'at M2'
+        : `${q(b.gap_waist_position_m, 'm')} from M2`;
   section('Beams (TEM00)', [
     ['radius at M1', q(b.radius_at_M1_m, 'm')],
     ['radius at M2', q(b.radius_at_M2_m, 'm')],
     ['radius at M3', q(b.radius_at_M3_m, 'm')],
     ['waist in the gap', waist, waistAt],
-    ['peak intensity per watt', b.peak_intensity_per_W_m2 === null ? 'n/a' : `${formatNumber(b.peak_intensity_per_W_m2)} W/m^2 per W`, 'at the gap waist, per watt circulating'],
+    [
+      'peak intensity per watt',
+      b.peak_intensity_per_W_m2 === null ? 'n/a' : `${formatNumber(b.peak_intensity_per_W_m2)} W/m^2 per W`,
+      'at the gap waist, per watt circulating',
+    ],
     ['laser g1 g2', formatNumber(b.laser_g1g2), b.laser_stable ? 'stable' : 'UNSTABLE'],
     ['external g2 g3', formatNumber(b.external_g2g3), b.external_stable ? 'stable' : 'UNSTABLE'],
   ]);
@@ -83,14 +112,29 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
   out.push('', bold(`Laser modes (${d.modes.length})`, colour));
   out.push(
     formatTable(
-      d.modes.map((m) => [String(m.index), q(m.detuning_Hz, 'Hz'), q(m.frequency_Hz, 'Hz', 10), formatNumber(m.gain_rel)]),
-      { header: ['index', 'offset from gain peak', 'frequency', 'gain (1 = peak)'], align: ['right', 'right', 'right', 'right'], colour, indent: '  ' },
+      d.modes.map((m) => [
+        String(m.index),
+        q(m.detuning_Hz, 'Hz'),
+        q(m.frequency_Hz, 'Hz', 10),
+        formatNumber(m.gain_rel),
+      ]),
+      {
+        header: ['index', 'offset from gain peak', 'frequency', 'gain (1 = peak)'],
+        align: ['right', 'right', 'right', 'right'],
+        colour,
+        indent: '  ',
+      },
     ),
   );
 
   if (loaded.warnings.length > 0) {
     out.push('', bold('Warnings', colour));
-    out.push(formatProblems(file, loaded.warnings).split('\n').map((l) => `  ${l}`).join('\n'));
+    out.push(
+      formatProblems(file, loaded.warnings)
+        .split('\n')
+        .map((l) => `  ${l}`)
+        .join('\n'),
+    );
   }
   return `${out.join('\n')}\n`;
 }
@@ -99,7 +143,9 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
 export function registerCheck(program: Command, ctx: CommandContext): void {
   program
     .command('check')
-    .description('validate a scenario and print its derived quantities (FSRs, finesse, lifetimes, modes, beams, coupling)')
+    .description(
+      'validate a scenario and print its derived quantities (FSRs, finesse, lifetimes, modes, beams, coupling)',
+    )
     .argument('<file>', 'scenario file (YAML or JSON)')
     .option('--json', 'print { file, scenario_sha256, derived, warnings } as JSON')
     .action((file: string, opts: { json?: boolean }) => {
@@ -110,7 +156,11 @@ export function registerCheck(program: Command, ctx: CommandContext): void {
           file,
           scenario_sha256: loaded.sha256,
           derived,
-          warnings: loaded.warnings.map((w) => ({ path: w.path, message: w.message, ...(w.line !== undefined ? { line: w.line } : {}) })),
+          warnings: loaded.warnings.map((w) => ({
+            path: w.path,
+            message: w.message,
+            ...(w.line !== undefined ? { line: w.line } : {}),
+          })),
         };
         process.stdout.write(`${JSON.stringify(body, null, 2)}\n`);
       } else {

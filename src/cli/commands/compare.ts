@@ -21,12 +21,16 @@ import { safeFolderName } from '../../sweep/batch';
 export const COMPARE_FILE = 'compare.json';
 
 const nc = 'not computed';
-const si = (v: number | null | undefined, unit: string) => (v === null || v === undefined || !Number.isFinite(v) ? nc : formatSI(v, unit, 3));
-const num = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? nc : String(Number(v.toPrecision(digits))));
-const pct = (v: number | null | undefined) => (v === null || v === undefined || !Number.isFinite(v) ? nc : `${(100 * v).toFixed(1)} %`);
+const si = (v: number | null | undefined, unit: string) =>
+  v === null || v === undefined || !Number.isFinite(v) ? nc : formatSI(v, unit, 3);
+const num = (v: number | null | undefined, digits = 3) =>
+  v === null || v === undefined || !Number.isFinite(v) ? nc : String(Number(v.toPrecision(digits)));
+const pct = (v: number | null | undefined) =>
+  v === null || v === undefined || !Number.isFinite(v) ? nc : `${(100 * v).toFixed(1)} %`;
 
 function amplitudes(r: ComparisonRow): string {
-  if (r.waveform === 'two-tone') return `${si(r.amplitude_m, 'm')} @ ${si(r.components[0].frequency_Hz, 'Hz')} + ${si(r.second_amplitude_m, 'm')} @ ${si(r.second_frequency_Hz, 'Hz')}`;
+  if (r.waveform === 'two-tone')
+    return `${si(r.amplitude_m, 'm')} @ ${si(r.components[0].frequency_Hz, 'Hz')} + ${si(r.second_amplitude_m, 'm')} @ ${si(r.second_frequency_Hz, 'Hz')}`;
   return si(r.amplitude_m, 'm');
 }
 
@@ -53,14 +57,28 @@ export function formatComparison(c: WaveformComparison): string {
     `waveforms compared: ${c.name}, drive ${si(c.frequency_Hz, 'Hz')}, at ${basis}`,
     '',
     formatTable(rows, {
-      header: ['waveform', 'amplitude(s)', 'peak speed', 'time below v_c', 'gain over static', 'ripple in band', 'hops/period', 'class'],
+      header: [
+        'waveform',
+        'amplitude(s)',
+        'peak speed',
+        'time below v_c',
+        'gain over static',
+        'ripple in band',
+        'hops/period',
+        'class',
+      ],
       align: ['left', 'left', 'right', 'right', 'right', 'right', 'right', 'left'],
     }),
     '',
-    c.recommendation.waveform === null ? `no recommendation: ${c.recommendation.reason}` : `recommended: ${c.recommendation.reason}`,
+    c.recommendation.waveform === null
+      ? `no recommendation: ${c.recommendation.reason}`
+      : `recommended: ${c.recommendation.reason}`,
   ];
   for (const r of c.rows) {
-    if (r.current_peak_A !== null) lines.push(`${r.waveform}: peak reactive current ${si(r.current_peak_A, 'A')}${r.current_exceeded ? ' EXCEEDS actuator.max_current' : ''}`);
+    if (r.current_peak_A !== null)
+      lines.push(
+        `${r.waveform}: peak reactive current ${si(r.current_peak_A, 'A')}${r.current_exceeded ? ' EXCEEDS actuator.max_current' : ''}`,
+      );
     if (r.status !== 'ok') lines.push(`${r.waveform}: numerical failure: ${r.message ?? 'unknown'}`);
     for (const n of r.notes) lines.push(`${r.waveform}: ${n}`);
   }
@@ -72,27 +90,39 @@ export function formatComparison(c: WaveformComparison): string {
 function setsSecondFrequency(raw: unknown): boolean {
   if (raw === null || typeof raw !== 'object') return false;
   const drive = (raw as Record<string, unknown>).drive;
-  return drive !== null && typeof drive === 'object' && (drive as Record<string, unknown>).second_frequency !== undefined;
+  return (
+    drive !== null &&
+    typeof drive === 'object' &&
+    (drive as Record<string, unknown>).second_frequency !== undefined
+  );
 }
 
 /** Register `dithercav compare FILE [--out DIR] [--json] [--quiet]`. */
 export function registerCompare(program: Command, ctx: CommandContext): void {
   program
     .command('compare')
-    .description('sine, triangle and two-tone drives at equal peak actuator voltage (equal stroke without an actuator): which decouples better')
+    .description(
+      'sine, triangle and two-tone drives at equal peak actuator voltage (equal stroke without an actuator): which decouples better',
+    )
     .argument('<file>', 'scenario file (YAML or JSON)')
     .option('--out <dir>', 'output folder (default reports/<scenario name>-compare/)')
     .option('--json', 'print compare.json to stdout instead of the table')
     .option('--quiet', 'no progress output')
     .action((file: string, o: { out?: string; json?: boolean; quiet?: boolean }) => {
       const loaded = loadScenarioFile(file);
-      for (const w of loaded.warnings) process.stderr.write(`dithercav: warning: ${file}: ${w.path === '' ? '' : `${w.path}: `}${w.message}\n`);
+      for (const w of loaded.warnings)
+        process.stderr.write(
+          `dithercav: warning: ${file}: ${w.path === '' ? '' : `${w.path}: `}${w.message}\n`,
+        );
       const s = loaded.scenario;
       const out = o.out ?? path.join('reports', `${safeFolderName(s.name)}-compare`);
       const progress = createRunProgress({ label: `compare ${s.name}`, quiet: o.quiet });
       let result: WaveformComparison;
       try {
-        result = compareWaveforms(s, { secondFrequencyGiven: s.drive.waveform === 'two-tone' || setsSecondFrequency(loaded.raw), onProgress: progress.onProgress });
+        result = compareWaveforms(s, {
+          secondFrequencyGiven: s.drive.waveform === 'two-tone' || setsSecondFrequency(loaded.raw),
+          onProgress: progress.onProgress,
+        });
       } catch (err) {
         // the comparison's own checks know the key, not the file
         if (err instanceof InputError && err.file === null) throw new InputError(file, err.problems);
@@ -103,7 +133,11 @@ export function registerCompare(program: Command, ctx: CommandContext): void {
       mkdirSync(out, { recursive: true });
       const target = path.join(out, COMPARE_FILE);
       writeFileSync(target, `${JSON.stringify(result, null, 1)}\n`);
-      process.stdout.write(o.json ? `${JSON.stringify(result, null, 2)}\n` : `${formatComparison(result)}\n\nresults in ${target}\n`);
+      process.stdout.write(
+        o.json
+          ? `${JSON.stringify(result, null, 2)}\n`
+          : `${formatComparison(result)}\n\nresults in ${target}\n`,
+      );
       if (result.rows.some((r) => r.status !== 'ok')) ctx.setExit(1);
     });
 }

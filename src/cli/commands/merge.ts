@@ -23,14 +23,19 @@ export function registerMerge(program: Command, ctx: CommandContext): void {
         if (!opts.quiet) process.stderr.write(`dithercav merge: warning: ${m}\n`);
       };
       const out = mergeShards(dirs, { outDir: opts.out, onWarning: warn });
-      if (out.missing > 0) warn(`${out.missing} of ${out.header.total_points} grid points are in none of the folders (a shard missing?)`);
+      if (out.missing > 0)
+        warn(
+          `${out.missing} of ${out.header.total_points} grid points are in none of the folders (a shard missing?)`,
+        );
       try {
         writeSweepReport(out.dir);
       } catch (err) {
         process.stderr.write(`dithercav merge: the report could not be written: ${(err as Error).message}\n`);
         ctx.setExit(1);
       }
-      process.stdout.write(`merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`);
+      process.stdout.write(
+        `merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`,
+      );
       const pointLine = recommendedPointLine(out.map);
       if (pointLine !== null) process.stdout.write(`${pointLine}\n`);
       ctx.setExit(0);

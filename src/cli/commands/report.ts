@@ -10,7 +10,9 @@ import type { CommandContext } from '../main';
 export function registerReport(program: Command, ctx: CommandContext): void {
   program
     .command('report')
-    .description('rebuild the HTML report of a run, sweep or batch folder from its saved results (no simulation)')
+    .description(
+      'rebuild the HTML report of a run, sweep or batch folder from its saved results (no simulation)',
+    )
     .argument('<dir>', 'result folder: a run (summary.json), a sweep (map.json) or a batch (index.json)')
     .action((dir: string) => {
       const r = rebuildReport(dir);

@@ -20,24 +20,46 @@ import { safeFolderName } from '../../sweep/batch';
 function parseSeed(text: string | undefined): number | undefined {
   if (text === undefined) return undefined;
   const n = Number(text);
-  if (!Number.isInteger(n) || n < 0 || n > 2 ** 32 - 1) throw new InputError(null, [{ path: '--seed', message: `expected a whole number from 0 to 4294967295, found '${text}'` }]);
+  if (!Number.isInteger(n) || n < 0 || n > 2 ** 32 - 1)
+    throw new InputError(null, [
+      { path: '--seed', message: `expected a whole number from 0 to 4294967295, found '${text}'` },
+    ]);
   return n;
 }
 
-const w = (v: number | null | undefined) => (v === null || v === undefined || !Number.isFinite(v) ? 'not computed' : formatSI(v, 'W'));
-const num = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? 'not computed' : String(Number(v.toPrecision(digits))));
+const w = (v: number | null | undefined) =>
+  v === null || v === undefined || !Number.isFinite(v) ? 'not computed' : formatSI(v, 'W');
+const num = (v: number | null | undefined, digits = 3) =>
+  v === null || v === undefined || !Number.isFinite(v)
+    ? 'not computed'
+    : String(Number(v.toPrecision(digits)));
 
 /** The short table printed after a run. */
 export function formatRunTable(s: RunSummary): string {
   const rows: string[][] = [['', 'gap (external) power', 'laser output', 'laser intracavity']];
   rows.push(['free-running', '-', w(s.free_running.output_W), w(s.free_running.intracavity_W)]);
   if (s.static) {
-    rows.push(['static mean', w(s.static.external_W.mean), w(s.static.laser_output_W.mean), w(s.static.intracavity_W.mean)]);
+    rows.push([
+      'static mean',
+      w(s.static.external_W.mean),
+      w(s.static.laser_output_W.mean),
+      w(s.static.intracavity_W.mean),
+    ]);
     rows.push(['static min / max', `${w(s.static.external_W.min)} / ${w(s.static.external_W.max)}`, '', '']);
   }
   if (s.driven) {
-    rows.push(['driven mean', w(s.driven.external_mean_W), w(s.driven.laser_output_mean_W), w(s.driven.laser_intracavity_mean_W)]);
-    rows.push(['driven spread over offsets', `${w(s.driven.external_mean_by_offset_W.min)} .. ${w(s.driven.external_mean_by_offset_W.max)}`, '', '']);
+    rows.push([
+      'driven mean',
+      w(s.driven.external_mean_W),
+      w(s.driven.laser_output_mean_W),
+      w(s.driven.laser_intracavity_mean_W),
+    ]);
+    rows.push([
+      'driven spread over offsets',
+      `${w(s.driven.external_mean_by_offset_W.min)} .. ${w(s.driven.external_mean_by_offset_W.max)}`,
+      '',
+      '',
+    ]);
   }
   const lines = [formatTable(rows)];
   if (s.driven) {
@@ -45,13 +67,22 @@ export function formatRunTable(s: RunSummary): string {
     lines.push(
       formatTable([
         ['class', `${s.driven.class} (${s.driven.class_reason})`],
-        ['gain over static (over the curve at the same offsets)', `${num(s.driven.gain_over_static)} (${num(s.driven.gain_over_quasi_static)})`],
+        [
+          'gain over static (over the curve at the same offsets)',
+          `${num(s.driven.gain_over_static)} (${num(s.driven.gain_over_quasi_static)})`,
+        ],
         ['enhancement (gap / free-running intracavity)', num(s.driven.enhancement)],
         ['gap power / phase-averaged (decoupled) level', num(s.driven.incoherent_fraction)],
         ['ripple in band / full band', `${num(s.driven.ripple_rel)} / ${num(s.driven.ripple_full_band_rel)}`],
         ['hops per second / per period', `${num(s.driven.hops_per_s)} / ${num(s.driven.hops_per_period)}`],
-        ['peak mirror speed / critical speed', `${num(s.drive.peak_speed_m_s)} m/s / ${num(s.drive.critical_speed_m_s)} m/s`],
-        ['power balance error / interface mismatch', `${num(s.power_balance?.relative_error, 2)} / ${num(s.power_balance?.interface_mismatch_rel, 2)}`],
+        [
+          'peak mirror speed / critical speed',
+          `${num(s.drive.peak_speed_m_s)} m/s / ${num(s.drive.critical_speed_m_s)} m/s`,
+        ],
+        [
+          'power balance error / interface mismatch',
+          `${num(s.power_balance?.relative_error, 2)} / ${num(s.power_balance?.interface_mismatch_rel, 2)}`,
+        ],
         ['engine', `${s.engine} (${s.engine_reason})`],
         ['time', `${s.timing.wall_s.toFixed(1)} s, ${formatSI(s.timing.mode_steps_per_s, 'mode-steps/s')}`],
       ]),
@@ -74,7 +105,10 @@ export function registerRun(program: Command, ctx: CommandContext): void {
     .action((file: string, o: { out?: string; engine?: EngineChoice; seed?: string; quiet?: boolean }) => {
       const seed = parseSeed(o.seed);
       const loaded = loadScenarioFile(file);
-      for (const wn of loaded.warnings ?? []) process.stderr.write(`dithercav: ${file}${wn.line !== undefined ? `:${wn.line}` : ''}: warning: ${wn.path}: ${wn.message}\n`);
+      for (const wn of loaded.warnings ?? [])
+        process.stderr.write(
+          `dithercav: ${file}${wn.line !== undefined ? `:${wn.line}` : ''}: warning: ${wn.path}: ${wn.message}\n`,
+        );
       const s = loaded.scenario;
       const out = o.out ?? path.join('reports', safeFolderName(s.name));
       const progress = createRunProgress({ label: `run ${s.name}`, quiet: o.quiet });
@@ -85,7 +119,9 @@ export function registerRun(program: Command, ctx: CommandContext): void {
         progress.stop();
       }
       const report = writeRunFolder(out, artifacts, 'dithercav run');
-      process.stdout.write(`${formatRunTable(artifacts.summary)}\n\nresults in ${out}${report ? ` (report: ${report})` : ''}\n`);
+      process.stdout.write(
+        `${formatRunTable(artifacts.summary)}\n\nresults in ${out}${report ? ` (report: ${report})` : ''}\n`,
+      );
       if (artifacts.summary.status !== 'ok') ctx.setExit(1);
     });
 }

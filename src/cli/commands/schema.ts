@@ -14,13 +14,17 @@ import { TOOL_VERSION } from '../../version';
  * `unrepresentable: 'any'` leaves them unconstrained rather than failing.
  */
 export function scenarioJsonSchema(): Record<string, unknown> {
-  const generated = z.toJSONSchema(scenarioSchema, { io: 'input', unrepresentable: 'any' }) as Record<string, unknown>;
+  const generated = z.toJSONSchema(scenarioSchema, { io: 'input', unrepresentable: 'any' }) as Record<
+    string,
+    unknown
+  >;
   const { $schema, ...rest } = generated;
   return {
     $schema,
     $id: `https://dithercav.invalid/schema/scenario-${TOOL_VERSION}.json`,
     title: 'dithercav scenario',
-    description: 'A laser with an external cavity whose return mirror is dithered; quantities are SI numbers or strings with units.',
+    description:
+      'A laser with an external cavity whose return mirror is dithered; quantities are SI numbers or strings with units.',
     ...rest,
   };
 }

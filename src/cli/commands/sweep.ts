@@ -24,7 +24,10 @@ import { recommendedPointLine } from '../format';
 export function parseJobs(text: string | undefined): number {
   if (text === undefined) return defaultJobs();
   const n = Number(text);
-  if (!Number.isInteger(n) || n < 1) throw new InputError(null, [{ path: '--jobs', message: `expected a whole number >= 1, found '${text}'` }]);
+  if (!Number.isInteger(n) || n < 1)
+    throw new InputError(null, [
+      { path: '--jobs', message: `expected a whole number >= 1, found '${text}'` },
+    ]);
   return n;
 }
 
@@ -33,7 +36,10 @@ export function parseJobs(text: string | undefined): number {
  * what finished, then exits 130); a second one quits at once. Returns the signal and a
  * function removing the handlers.
  */
-export function interruptOnSignal(onFirst: (message: string) => void): { signal: AbortSignal; dispose: () => void } {
+export function interruptOnSignal(onFirst: (message: string) => void): {
+  signal: AbortSignal;
+  dispose: () => void;
+} {
   const ac = new AbortController();
   const handler = () => {
     if (ac.signal.aborted) process.exit(130);
@@ -64,12 +70,17 @@ interface SweepCliOptions {
 export function registerSweep(program: Command, ctx: CommandContext): void {
   program
     .command('sweep')
-    .description("the grid in the scenario's sweep section; writes points.ndjson, map.json, sweep.json and report.html")
+    .description(
+      "the grid in the scenario's sweep section; writes points.ndjson, map.json, sweep.json and report.html",
+    )
     .argument('<file>', 'scenario file (YAML or JSON) with a sweep section')
     .option('--out <dir>', 'output folder (default reports/<scenario name>/)')
     .option('--jobs <n>', 'worker threads (default: the available processors)')
     .option('--resume', 'keep the points already in the folder and run the others')
-    .option('--shard <i/n>', 'run shard I of N (points with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT')
+    .option(
+      '--shard <i/n>',
+      'run shard I of N (points with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT',
+    )
     .option('--quiet', 'no progress output')
     .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
     .action(async (file: string, opts: SweepCliOptions) => {
@@ -78,9 +89,15 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       const loaded = loadScenarioFile(file);
       const s = loaded.scenario;
       if (!s.sweep) {
-        throw new InputError(file, [{ path: 'sweep', message: 'expected a sweep section with axes, found none (use `dithercav run` for one run)' }]);
+        throw new InputError(file, [
+          {
+            path: 'sweep',
+            message: 'expected a sweep section with axes, found none (use `dithercav run` for one run)',
+          },
+        ]);
       }
-      for (const w of loaded.warnings) process.stderr.write(`${file}: warning: ${w.path ? `${w.path}: ` : ''}${w.message}\n`);
+      for (const w of loaded.warnings)
+        process.stderr.write(`${file}: warning: ${w.path ? `${w.path}: ` : ''}${w.message}\n`);
       const base = opts.out ?? path.join('reports', safeFolderName(s.name));
       const dir = shard ? path.join(base, shardFolderName(shard)) : base;
       const label = `sweep ${s.name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`;
@@ -120,11 +137,15 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       const pointLine = recommendedPointLine(out.map);
       if (pointLine !== null) process.stdout.write(`${pointLine}\n`);
       if (stop.signal.aborted) {
-        process.stderr.write(`${label}: stopped; ${out.finished} finished points kept in ${dir} (continue with --resume)\n`);
+        process.stderr.write(
+          `${label}: stopped; ${out.finished} finished points kept in ${dir} (continue with --resume)\n`,
+        );
         process.exit(130);
       }
       if (out.failed > 0) {
-        process.stderr.write(`${label}: ${out.failed} point(s) failed (class numerical-failure, see points.ndjson)\n`);
+        process.stderr.write(
+          `${label}: ${out.failed} point(s) failed (class numerical-failure, see points.ndjson)\n`,
+        );
         ctx.setExit(1);
       } else if (out.interrupted) {
         ctx.setExit(1);

@@ -87,7 +87,14 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
    * @param rng normal deviates for spontaneous emission
    * @param maxExcursion_m bound on |offset + x(t)| over the run, sizes the history buffer
    */
-  constructor(p: CoupledParams, lanes: number, dt: number, motion: MirrorMotion, rng: NormalSource, maxExcursion_m: number) {
+  constructor(
+    p: CoupledParams,
+    lanes: number,
+    dt: number,
+    motion: MirrorMotion,
+    rng: NormalSource,
+    maxExcursion_m: number,
+  ) {
     super(p, lanes, dt, motion, rng);
     const LM = lanes * p.M;
     this.aDel2 = new Float64Array(LM);
@@ -96,7 +103,10 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
       if (!(maxDelay < 1e7)) throw new Error('external delay too long for the history buffer');
       const minDelay = (2 * (p.externalLength_m - Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
-      if (minDelay < 1.5) throw new Error(`time step ${dt} s too long for the external delay (${minDelay.toFixed(2)} steps); use more substeps`);
+      if (minDelay < 1.5)
+        throw new Error(
+          `time step ${dt} s too long for the external delay (${minDelay.toFixed(2)} steps); use more substeps`,
+        );
       while (cap < maxDelay + 6) cap *= 2;
     }
     this.cap = cap;
@@ -104,12 +114,22 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     this.ringRe = new Float64Array(LM * cap);
     this.ringIm = new Float64Array(LM * cap);
     const M = p.M;
-    this.e0r = new Float64Array(M); this.e0i = new Float64Array(M); this.n0 = new Float64Array(M);
-    this.sr = new Float64Array(M); this.si = new Float64Array(M); this.sn = new Float64Array(M);
-    this.accR = new Float64Array(M); this.accI = new Float64Array(M); this.accN = new Float64Array(M);
-    this.kr = new Float64Array(M); this.ki = new Float64Array(M); this.kn = new Float64Array(M);
-    this.bhr = new Float64Array(M); this.bhi = new Float64Array(M);
-    this.b1r = new Float64Array(M); this.b1i = new Float64Array(M);
+    this.e0r = new Float64Array(M);
+    this.e0i = new Float64Array(M);
+    this.n0 = new Float64Array(M);
+    this.sr = new Float64Array(M);
+    this.si = new Float64Array(M);
+    this.sn = new Float64Array(M);
+    this.accR = new Float64Array(M);
+    this.accI = new Float64Array(M);
+    this.accN = new Float64Array(M);
+    this.kr = new Float64Array(M);
+    this.ki = new Float64Array(M);
+    this.kn = new Float64Array(M);
+    this.bhr = new Float64Array(M);
+    this.bhi = new Float64Array(M);
+    this.b1r = new Float64Array(M);
+    this.b1i = new Float64Array(M);
     this.ad1 = new Float64Array(M);
     this.sat = new Float64Array(M);
     this.delayPerMetre = 2 / SPEED_OF_LIGHT_m_s / dt;
@@ -126,7 +146,8 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     this.kReturn = p.returnToLaser;
     let offConst = true;
     const c0 = M > 1 ? p.cross[1] : 0;
-    for (let m = 0; m < M; m++) for (let k = 0; k < M; k++) if (m !== k && p.cross[m * M + k] !== c0) offConst = false;
+    for (let m = 0; m < M; m++)
+      for (let k = 0; k < M; k++) if (m !== k && p.cross[m * M + k] !== c0) offConst = false;
     this.crossOff = offConst ? Float64Array.of(c0) : null;
   }
 
@@ -140,9 +161,13 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       for (let m = 0; m < M; m++) {
         const js = from * M + m;
         const jd = to * M + m;
-        this.Er[jd] = other.Er[js]; this.Ei[jd] = other.Ei[js]; this.N[jd] = other.N[js];
-        this.br[jd] = other.br[js]; this.bi[jd] = other.bi[js];
-        this.ar[jd] = other.ar[js]; this.ai[jd] = other.ai[js];
+        this.Er[jd] = other.Er[js];
+        this.Ei[jd] = other.Ei[js];
+        this.N[jd] = other.N[js];
+        this.br[jd] = other.br[js];
+        this.bi[jd] = other.bi[js];
+        this.ar[jd] = other.ar[js];
+        this.ai[jd] = other.ai[js];
         this.aDel2[jd] = other.ar[js] * other.ar[js] + other.ai[js] * other.ai[js];
         for (let k = 0; k < this.cap; k++) {
           this.ringRe[jd * this.cap + k] = other.ar[js];
@@ -156,9 +181,13 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     for (let m = 0; m < M; m++) {
       const js = from * M + m;
       const jd = to * M + m;
-      this.Er[jd] = src.Er[js]; this.Ei[jd] = src.Ei[js]; this.N[jd] = src.N[js];
-      this.br[jd] = src.br[js]; this.bi[jd] = src.bi[js];
-      this.ar[jd] = src.ar[js]; this.ai[jd] = src.ai[js];
+      this.Er[jd] = src.Er[js];
+      this.Ei[jd] = src.Ei[js];
+      this.N[jd] = src.N[js];
+      this.br[jd] = src.br[js];
+      this.bi[jd] = src.bi[js];
+      this.ar[jd] = src.ar[js];
+      this.ai[jd] = src.ai[js];
       this.aDel2[jd] = src.aDel2[js];
       // align the ring so that src's newest sample becomes this engine's newest sample
       for (let k = 0; k < this.cap; k++) {
@@ -214,14 +243,27 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
 
   /** Delay tau(t) / dt of a lane, in samples. */
   delaySamples(t: number, l: number): number {
-    return (2 * (this.p.externalLength_m + this.offset[l] + this.motion.position(t))) / SPEED_OF_LIGHT_m_s / this.dt;
+    return (
+      (2 * (this.p.externalLength_m + this.offset[l] + this.motion.position(t))) /
+      SPEED_OF_LIGHT_m_s /
+      this.dt
+    );
   }
 
   /**
    * Interpolate the history of a for one lane-mode at `back` samples before the newest
    * (4-point Lagrange, stencil never newer than the newest sample) into out[0], out[1].
    */
-  private readHistory(j: number, w0: number, w1: number, w2: number, w3: number, start: number, out: Float64Array, o: number): void {
+  private readHistory(
+    j: number,
+    w0: number,
+    w1: number,
+    w2: number,
+    w3: number,
+    start: number,
+    out: Float64Array,
+    o: number,
+  ): void {
     const base = j * this.cap;
     const h = this.head - start;
     const i0 = base + (h & this.mask);
@@ -255,18 +297,31 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
    * at displacement x (rest offset included), from the history of a:
    * b = r3' a(t' - tau(t')) exp(-i phi_m(t')), into (outR, outI); |a_del|^2 into ad.
    */
-  private returned(l: number, s: number, x: number, outR: Float64Array, outI: Float64Array, ad: Float64Array | null): void {
+  private returned(
+    l: number,
+    s: number,
+    x: number,
+    outR: Float64Array,
+    outI: Float64Array,
+    ad: Float64Array | null,
+  ): void {
     const p = this.p;
     const back = this.delayPerMetre * (p.externalLength_m + x) - s;
     this.lagrangeWeights(back);
     const w = this.weights;
-    const w0 = w[0], w1 = w[1], w2 = w[2], w3 = w[3];
+    const w0 = w[0],
+      w1 = w[1],
+      w2 = w[2],
+      w3 = w[3];
     const M = this.M;
     const r3 = p.r3eff;
     const cap = this.cap;
     const mask = this.mask;
     const h = this.head - w[4];
-    const o0 = h & mask, o1 = (h - 1) & mask, o2 = (h - 2) & mask, o3 = (h - 3) & mask;
+    const o0 = h & mask,
+      o1 = (h - 1) & mask,
+      o2 = (h - 2) & mask,
+      o3 = (h - 3) & mask;
     const rr = this.ringRe;
     const ri = this.ringIm;
     this.phases.at(x);
@@ -290,7 +345,16 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
    * Laser right-hand side for one lane's modes at state (er, ei, n) with returned field
    * (bR, bI); derivatives into (kr, ki, kn); stage powers into stagePower.
    */
-  private rhs(er: Float64Array, ei: Float64Array, n: Float64Array, bR: Float64Array, bI: Float64Array, kr: Float64Array, ki: Float64Array, kn: Float64Array): void {
+  private rhs(
+    er: Float64Array,
+    ei: Float64Array,
+    n: Float64Array,
+    bR: Float64Array,
+    bI: Float64Array,
+    kr: Float64Array,
+    ki: Float64Array,
+    kn: Float64Array,
+  ): void {
     const M = this.M;
     const g = this.kGamma;
     const C = this.kCross;
@@ -301,7 +365,8 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       const c0 = this.crossOff[0];
       let tot = 0;
       for (let k = 0; k < M; k++) tot += er[k] * er[k] + ei[k] * ei[k];
-      for (let m = 0; m < M; m++) sat[m] = (c0 * tot + (C[m * M + m] - c0) * (er[m] * er[m] + ei[m] * ei[m])) * invPsat;
+      for (let m = 0; m < M; m++)
+        sat[m] = (c0 * tot + (C[m * M + m] - c0) * (er[m] * er[m] + ei[m] * ei[m])) * invPsat;
     } else {
       for (let m = 0; m < M; m++) {
         let s = 0;
@@ -364,15 +429,19 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
         this.returned(l, 0.5, this.offset[l] + xh, this.bhr, this.bhi, null);
         this.returned(l, 1, this.offset[l] + x1, this.b1r, this.b1i, this.ad1);
       }
-      const e0r = this.e0r, e0i = this.e0i, n0 = this.n0;
-      const b0r = this.bhr, b0i = this.bhi; // reused below after stage 1 (see copy)
+      const e0r = this.e0r,
+        e0i = this.e0i,
+        n0 = this.n0;
+      const b0r = this.bhr,
+        b0i = this.bhi; // reused below after stage 1 (see copy)
       for (let m = 0; m < M; m++) {
         e0r[m] = this.Er[off + m];
         e0i[m] = this.Ei[off + m];
         n0[m] = this.N[off + m];
       }
       // stage 1 at t with b(t)
-      const bcr = this.sr, bci = this.si; // temporarily hold b(t)
+      const bcr = this.sr,
+        bci = this.si; // temporarily hold b(t)
       for (let m = 0; m < M; m++) {
         bcr[m] = ext ? this.br[off + m] : 0;
         bci[m] = ext ? this.bi[off + m] : 0;
@@ -381,8 +450,12 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       let gainI = this.spGain;
       let lossI = this.spLoss;
       let injI = this.spInj;
-      const sr = this.sr, si = this.si, sn = this.sn;
-      const accR = this.accR, accI = this.accI, accN = this.accN;
+      const sr = this.sr,
+        si = this.si,
+        sn = this.sn;
+      const accR = this.accR,
+        accI = this.accI,
+        accN = this.accN;
       for (let m = 0; m < M; m++) {
         accR[m] = this.kr[m];
         accI[m] = this.ki[m];
@@ -391,7 +464,10 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
         si[m] = e0i[m] + half * this.ki[m];
         sn[m] = n0[m] + half * this.kn[m];
       }
-      if (!ext) { b0r.fill(0); b0i.fill(0); }
+      if (!ext) {
+        b0r.fill(0);
+        b0i.fill(0);
+      }
       // stages 2 and 3 at t + dt/2 (RK4 weights 2), each setting up the next stage's state
       for (let stage = 2; stage <= 3; stage++) {
         this.rhs(sr, si, sn, b0r, b0i, this.kr, this.ki, this.kn);
@@ -408,7 +484,10 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
           sn[m] = n0[m] + next * this.kn[m];
         }
       }
-      if (!ext) { this.b1r.fill(0); this.b1i.fill(0); }
+      if (!ext) {
+        this.b1r.fill(0);
+        this.b1i.fill(0);
+      }
       // stage 4 at t + dt
       this.rhs(sr, si, sn, this.b1r, this.b1i, this.kr, this.ki, this.kn);
       gainI += this.spGain;
@@ -435,7 +514,10 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
           im += noiseSigma * this.rng.normal();
           noiseE += re * re + im * im - before;
         }
-        if (re * re + im * im < FLUSH) { re = 0; im = 0; }
+        if (re * re + im * im < FLUSH) {
+          re = 0;
+          im = 0;
+        }
         if (!(Number.isFinite(re) && Number.isFinite(im) && Number.isFinite(nn))) {
           this.failed = true;
           this.failMessage = `non-finite laser field in mode ${p.modes.index[m]} at t = ${this.t.toExponential(3)} s`;
@@ -450,7 +532,10 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
           const b1i = this.b1i[m];
           const a1r = this.kCouple * re - this.kR2 * b1r;
           const a1i = this.kCouple * im - this.kR2 * b1i;
-          const a0r = this.ar[j], a0i = this.ai[j], b0rr = this.br[j], b0ii = this.bi[j];
+          const a0r = this.ar[j],
+            a0i = this.ai[j],
+            b0rr = this.br[j],
+            b0ii = this.bi[j];
           const a02 = a0r * a0r + a0i * a0i;
           const a12 = a1r * a1r + a1i * a1i;
           const bb0 = b0rr * b0rr + b0ii * b0ii;
@@ -460,9 +545,11 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
           extScale += 0.5 * (a02 + a12);
           // power the laser receives: exact (eta T2 |b|^2 + 2 r2 t2 sqrt(eta) Re(E b*)) minus
           // the mean-field injection work 2 t2 sqrt(eta) Re(E b*)
-          const e1Re = re, e1Im = im;
+          const e1Re = re,
+            e1Im = im;
           const rp1 = e1Re * b1r + e1Im * b1i;
-          const oldRe = e0r[m], oldIm = e0i[m];
+          const oldRe = e0r[m],
+            oldIm = e0i[m];
           const rp0 = oldRe * b0rr + oldIm * b0ii;
           if (this.kReturn) {
             mis += 0.5 * (etaT2 * (bb0 + bb1) + 2 * (this.kR2 - 1) * this.kCouple * (rp0 + rp1));
@@ -505,4 +592,3 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     return s * p.invPsat;
   }
 }
-

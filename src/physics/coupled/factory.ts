@@ -16,7 +16,13 @@ export interface EngineSpec {
   pullCorrection?: boolean;
 }
 
-export function createLaneEngine(spec: EngineSpec, p: CoupledParams, lanes: number, motion: MirrorMotion, rng: NormalSource): LaneEngine {
+export function createLaneEngine(
+  spec: EngineSpec,
+  p: CoupledParams,
+  lanes: number,
+  motion: MirrorMotion,
+  rng: NormalSource,
+): LaneEngine {
   return spec.kind === 'exact'
     ? new ExactEngine(p, lanes, spec.dt, motion, rng, spec.maxExcursion_m)
     : new FastEngine(p, lanes, spec.dt, motion, rng, spec.pullCorrection ?? false);

@@ -57,10 +57,19 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
    *   +0.5 % plain, +6 to +8 % corrected; the strongly coupled demo at 10 kHz x 200 nm:
    *   -1.5 % plain), so driven runs keep it off.
    */
-  constructor(p: CoupledParams, lanes: number, dt: number, motion: MirrorMotion, rng: NormalSource, readonly pullCorrection = false) {
+  constructor(
+    p: CoupledParams,
+    lanes: number,
+    dt: number,
+    motion: MirrorMotion,
+    rng: NormalSource,
+    readonly pullCorrection = false,
+  ) {
     super(p, lanes, dt, motion, rng);
     this.dw = new Float64Array(lanes * p.M);
-    const extLifetime = p.hasExternal ? p.roundTripExternal_s / Math.max(1e-12, 1 - (p.r2 * p.r3eff) ** 2) : dt;
+    const extLifetime = p.hasExternal
+      ? p.roundTripExternal_s / Math.max(1e-12, 1 - (p.r2 * p.r3eff) ** 2)
+      : dt;
     this.dwGain = Math.min(1, dt / extLifetime);
     this.sat = new Float64Array(p.M);
     this.zr = new Float64Array(p.M);
@@ -79,9 +88,13 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
     for (let m = 0; m < this.M; m++) {
       const js = from * this.M + m;
       const jd = to * this.M + m;
-      this.Er[jd] = other.Er[js]; this.Ei[jd] = other.Ei[js]; this.N[jd] = other.N[js];
-      this.ar[jd] = other.ar[js]; this.ai[jd] = other.ai[js];
-      this.br[jd] = other.br[js]; this.bi[jd] = other.bi[js];
+      this.Er[jd] = other.Er[js];
+      this.Ei[jd] = other.Ei[js];
+      this.N[jd] = other.N[js];
+      this.ar[jd] = other.ar[js];
+      this.ai[jd] = other.ai[js];
+      this.br[jd] = other.br[js];
+      this.bi[jd] = other.bi[js];
       this.dw[jd] = other instanceof FastEngine ? other.dw[js] : 0;
     }
   }
@@ -142,7 +155,17 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
    * each exponent has a real part bounded above by the largest eigenvalue's); a Taylor form
    * for |s tau| < 1e-4 (degenerate eigenvalues).
    */
-  private expm2(a11r: number, a11i: number, a12r: number, a12i: number, a21r: number, a21i: number, a22r: number, a22i: number, tau: number): void {
+  private expm2(
+    a11r: number,
+    a11i: number,
+    a12r: number,
+    a12i: number,
+    a21r: number,
+    a21i: number,
+    a22r: number,
+    a22i: number,
+    tau: number,
+  ): void {
     const cr = 0.5 * (a11r + a22r);
     const ci = 0.5 * (a11i + a22i);
     const dr = 0.5 * (a11r - a22r);
@@ -156,7 +179,8 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
     let si = Math.sqrt(Math.max(0, 0.5 * (mod - s2r)));
     if (s2i < 0) si = -si;
     let qr: number, qi: number, pr: number, pi: number; // Q = cosh part, P = sinh(s tau)/s part
-    const str = sr * tau, sti = si * tau;
+    const str = sr * tau,
+      sti = si * tau;
     if (str * str + sti * sti < 1e-8) {
       const ecr = Math.exp(cr * tau);
       const er = ecr * Math.cos(ci * tau);
@@ -218,7 +242,15 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
       const e = this.energy[l];
       this.inversionStep(l, half);
       if (ext) this.roundTripFactor(this.offset[l] + xMid);
-      let gain = 0, loss = 0, inj = 0, xin = 0, xlost = 0, xscale = 0, mis = 0, misScale = 0, noiseE = 0;
+      let gain = 0,
+        loss = 0,
+        inj = 0,
+        xin = 0,
+        xlost = 0,
+        xscale = 0,
+        mis = 0,
+        misScale = 0,
+        noiseE = 0;
       for (let m = 0; m < M; m++) {
         const j = off + m;
         const G = g * this.N[j];
@@ -237,14 +269,20 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
         const a22i = ext ? (th - r2 * zi) / tauE : 0;
         this.expm2(a11r, a11i, a12r, a12i, a21r, 0, a22r, a22i, h / QUAD_INTERVALS);
         // propagate over QUAD_INTERVALS sub-intervals; composite Simpson weights (1, 4, 2, ..., 4, 1) h / (3 n)
-        let Er = this.Er[j], Ei = this.Ei[j], Ar = this.ar[j], Ai = this.ai[j];
+        let Er = this.Er[j],
+          Ei = this.Ei[j],
+          Ar = this.ar[j],
+          Ai = this.ai[j];
         for (let k = 0; k <= QUAD_INTERVALS; k++) {
           if (k > 0) {
             const nEr = mx[0] * Er - mx[1] * Ei + mx[2] * Ar - mx[3] * Ai;
             const nEi = mx[0] * Ei + mx[1] * Er + mx[2] * Ai + mx[3] * Ar;
             const nAr = mx[4] * Er - mx[5] * Ei + mx[6] * Ar - mx[7] * Ai;
             const nAi = mx[4] * Ei + mx[5] * Er + mx[6] * Ai + mx[7] * Ar;
-            Er = nEr; Ei = nEi; Ar = nAr; Ai = nAi;
+            Er = nEr;
+            Ei = nEi;
+            Ar = nAr;
+            Ai = nAi;
           }
           const w = k === 0 || k === QUAD_INTERVALS ? 1 : k % 2 === 1 ? 4 : 2;
           const e2 = Er * Er + Ei * Ei;
@@ -252,7 +290,8 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
           loss += w * g * e2;
           if (ext) {
             // b = z a (z frozen over the step)
-            const br = zr * Ar - zi * Ai, bi = zr * Ai + zi * Ar;
+            const br = zr * Ar - zi * Ai,
+              bi = zr * Ai + zi * Ar;
             const rp = Er * br + Ei * bi;
             inj += w * 2 * kap * rp;
             const a2 = Ar * Ar + Ai * Ai;
@@ -264,15 +303,24 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
             misScale += w * etaT2 * e2;
           }
         }
-        let E2r = Er, E2i = Ei, A2r = Ar, A2i = Ai;
+        let E2r = Er,
+          E2i = Ei,
+          A2r = Ar,
+          A2i = Ai;
         if (noiseSigma > 0) {
           const before = E2r * E2r + E2i * E2i;
           E2r += noiseSigma * this.rng.normal();
           E2i += noiseSigma * this.rng.normal();
           noiseE += E2r * E2r + E2i * E2i - before;
         }
-        if (E2r * E2r + E2i * E2i < FLUSH) { E2r = 0; E2i = 0; }
-        if (A2r * A2r + A2i * A2i < FLUSH) { A2r = 0; A2i = 0; }
+        if (E2r * E2r + E2i * E2i < FLUSH) {
+          E2r = 0;
+          E2i = 0;
+        }
+        if (A2r * A2r + A2i * A2i < FLUSH) {
+          A2r = 0;
+          A2i = 0;
+        }
         if (!(Number.isFinite(E2r) && Number.isFinite(E2i) && Number.isFinite(A2r) && Number.isFinite(A2i))) {
           this.failed = true;
           this.failMessage = `non-finite field in mode ${p.modes.index[m]} at t = ${this.t.toExponential(3)} s (fast engine)`;

@@ -40,9 +40,17 @@ export interface LaneEnergy {
 
 export function emptyEnergy(): LaneEnergy {
   return {
-    laserStart: 0, gain: 0, coldLoss: 0, injection: 0, noise: 0,
-    externalStart: 0, externalIn: 0, externalLost: 0, externalScale: 0,
-    mismatch: 0, mismatchScale: 0,
+    laserStart: 0,
+    gain: 0,
+    coldLoss: 0,
+    injection: 0,
+    noise: 0,
+    externalStart: 0,
+    externalIn: 0,
+    externalLost: 0,
+    externalScale: 0,
+    mismatch: 0,
+    mismatchScale: 0,
   };
 }
 
@@ -84,7 +92,10 @@ export interface LaneEngine {
  * external: stored change - (in - lost), over the integral of |a|^2; and the interface
  * mismatch over the power the laser puts into the external mode.
  */
-export function balanceErrors(engine: LaneEngine, l: number): { laser: number; external: number; mismatch: number } {
+export function balanceErrors(
+  engine: LaneEngine,
+  l: number,
+): { laser: number; external: number; mismatch: number } {
   const e = engine.energy[l];
   const dL = engine.laserEnergy(l) - e.laserStart;
   const laserScale = Math.max(e.gain, e.coldLoss, 1e-300);

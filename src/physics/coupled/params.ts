@@ -35,9 +35,15 @@ export interface CoupledParams {
   /** amplitude coefficients of M2: r2 = sqrt(R2), t2 = sqrt(T2) */
   r2: number;
   t2: number;
-  R1: number; T1: number; A1: number;
-  R2: number; T2: number; A2: number;
-  R3: number; T3: number; A3: number;
+  R1: number;
+  T1: number;
+  A1: number;
+  R2: number;
+  T2: number;
+  A2: number;
+  R3: number;
+  T3: number;
+  A3: number;
   gapTransmission: number;
   feedbackEfficiency: number;
   roundtripEfficiency: number;
@@ -61,7 +67,10 @@ export interface CoupledParams {
  * Build the engine parameters. feedback/roundtrip efficiencies are passed in (from the
  * Gaussian-beam optics or the scenario overrides).
  */
-export function buildCoupledParams(s: Scenario, efficiencies: { feedback: number; roundtrip: number }): CoupledParams {
+export function buildCoupledParams(
+  s: Scenario,
+  efficiencies: { feedback: number; roundtrip: number },
+): CoupledParams {
   const c = SPEED_OF_LIGHT_m_s;
   const L = s.laser;
   const modes = cavityModes(L);
@@ -108,9 +117,15 @@ export function buildCoupledParams(s: Scenario, efficiencies: { feedback: number
     returnToLaser,
     r2: Math.sqrt(R2),
     t2,
-    R1, T1: mirrorTransmission(L.rear_mirror), A1: L.rear_mirror.loss,
-    R2, T2, A2: L.output_coupler.loss,
-    R3, T3, A3: ext ? ext.return_mirror.loss : 0,
+    R1,
+    T1: mirrorTransmission(L.rear_mirror),
+    A1: L.rear_mirror.loss,
+    R2,
+    T2,
+    A2: L.output_coupler.loss,
+    R3,
+    T3,
+    A3: ext ? ext.return_mirror.loss : 0,
     gapTransmission: Tg,
     feedbackEfficiency: etaFb,
     roundtripEfficiency: etaRt,

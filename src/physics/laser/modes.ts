@@ -64,7 +64,7 @@ export function cavityModes(laser: LaserSpec): ModeSet {
       // Detuning formed from integer differences keeps full precision (nu ~ 5e14 Hz).
       const d = (q - qPeak) * fsr + (qPeak * fsr - nu0);
       const f = gainShape(g.shape, d, g.linewidth);
-      if (g.pump_ratio * f >= floor || (k === 0)) {
+      if (g.pump_ratio * f >= floor || k === 0) {
         candidates.push({ q, f, d });
         any = any || g.pump_ratio * f >= floor;
       }

@@ -28,7 +28,11 @@ export interface Complex {
  * @param gapTransmission single-pass power transmission of the gap element, 0..1
  * @param roundtripEfficiency eta_rt, 0..1
  */
-export function effectiveBackReflection(r3: number, gapTransmission: number, roundtripEfficiency: number): number {
+export function effectiveBackReflection(
+  r3: number,
+  gapTransmission: number,
+  roundtripEfficiency: number,
+): number {
   return r3 * gapTransmission * Math.sqrt(roundtripEfficiency);
 }
 

@@ -82,7 +82,9 @@ export function computeBeams(s: Scenario): BeamsResult {
   const laser = twoMirrorEigenmode(s.laser.cavity_length / n, r1, r2, wavelength);
   const notes: string[] = [];
   if (n !== 1) {
-    notes.push(`laser mode computed over the reduced length L1/n = ${fmt(s.laser.cavity_length / n)} m (gain medium taken as a flat-faced slab between the mirrors)`);
+    notes.push(
+      `laser mode computed over the reduced length L1/n = ${fmt(s.laser.cavity_length / n)} m (gain medium taken as a flat-faced slab between the mirrors)`,
+    );
   }
   if (laser.reason) notes.push(`laser cavity: ${laser.reason}.`);
 
@@ -103,7 +105,13 @@ export function computeBeams(s: Scenario): BeamsResult {
   const ext = s.external;
   if (!ext) {
     notes.push('no external cavity: feedback and round-trip efficiencies are 0.');
-    return { beams, feedbackEfficiency: 0, roundtripEfficiency: 0, feedbackSource: 'geometry', roundtripSource: 'geometry' };
+    return {
+      beams,
+      feedbackEfficiency: 0,
+      roundtripEfficiency: 0,
+      feedbackSource: 'geometry',
+      roundtripSource: 'geometry',
+    };
   }
 
   const l2 = ext.length;
@@ -131,15 +139,20 @@ export function computeBeams(s: Scenario): BeamsResult {
     }
     etaFb = returnOverlap(qOut, l2, r3);
     if (etaFb < POOR_MATCH) {
-      notes.push(`the beam returned by M3 overlaps the laser mode by only ${fmt(etaFb)} (mode mismatch at M2).`);
+      notes.push(
+        `the beam returned by M3 overlaps the laser mode by only ${fmt(etaFb)} (mode mismatch at M2).`,
+      );
     }
     if (external.qAtMirror1) {
       etaRt = gaussianOverlap(qOut, external.qAtMirror1);
-      if (etaRt < POOR_MATCH) notes.push(`the injected beam matches the external cavity's mode by only ${fmt(etaRt)}.`);
+      if (etaRt < POOR_MATCH)
+        notes.push(`the injected beam matches the external cavity's mode by only ${fmt(etaRt)}.`);
     } else {
       const roundTrip = cascade(freeSpace(l2), curvedMirror(r3), freeSpace(l2), curvedMirror(r2Back));
       etaRt = gaussianOverlap(qOut, propagateQ(qOut, roundTrip));
-      notes.push(`the external cavity has no Gaussian eigenmode; round-trip efficiency ${fmt(etaRt)} is the overlap of the injected beam with itself after one round trip.`);
+      notes.push(
+        `the external cavity has no Gaussian eigenmode; round-trip efficiency ${fmt(etaRt)} is the overlap of the injected beam with itself after one round trip.`,
+      );
     }
   } else {
     etaFb = 0;
@@ -157,12 +170,16 @@ export function computeBeams(s: Scenario): BeamsResult {
   let feedbackSource: 'geometry' | 'scenario' = 'geometry';
   let roundtripSource: 'geometry' | 'scenario' = 'geometry';
   if (typeof ext.feedback_efficiency === 'number') {
-    notes.push(`feedback efficiency ${fmt(ext.feedback_efficiency)} taken from the scenario (geometry gives ${fmt(etaFb)}).`);
+    notes.push(
+      `feedback efficiency ${fmt(ext.feedback_efficiency)} taken from the scenario (geometry gives ${fmt(etaFb)}).`,
+    );
     etaFb = ext.feedback_efficiency;
     feedbackSource = 'scenario';
   }
   if (typeof ext.roundtrip_efficiency === 'number') {
-    notes.push(`round-trip efficiency ${fmt(ext.roundtrip_efficiency)} taken from the scenario (geometry gives ${fmt(etaRt)}).`);
+    notes.push(
+      `round-trip efficiency ${fmt(ext.roundtrip_efficiency)} taken from the scenario (geometry gives ${fmt(etaRt)}).`,
+    );
     etaRt = ext.roundtrip_efficiency;
     roundtripSource = 'scenario';
   }
@@ -181,7 +198,10 @@ export function computeBeams(s: Scenario): BeamsResult {
  * @param mirrorRadius_m mirror radius, > 0 concave towards the beam, Infinity flat
  */
 export function returnOverlap(qOut: Complex, distance_m: number, mirrorRadius_m: number): number {
-  const back = propagateQ(qOut, cascade(freeSpace(distance_m), curvedMirror(mirrorRadius_m), freeSpace(distance_m)));
+  const back = propagateQ(
+    qOut,
+    cascade(freeSpace(distance_m), curvedMirror(mirrorRadius_m), freeSpace(distance_m)),
+  );
   return gaussianOverlap(back, { re: -qOut.re, im: qOut.im });
 }
 

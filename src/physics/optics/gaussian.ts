@@ -110,7 +110,11 @@ export function propagateQ(q: Complex, m: RayMatrix): Complex {
 }
 
 /** q of a beam with waist radius w0 at a distance z past the waist: q = z + i pi w0^2 / lambda, m. */
-export function qFromWaist(waistRadius_m: number, distancePastWaist_m: number, wavelength_m: number): Complex {
+export function qFromWaist(
+  waistRadius_m: number,
+  distancePastWaist_m: number,
+  wavelength_m: number,
+): Complex {
   return { re: distancePastWaist_m, im: (Math.PI * waistRadius_m * waistRadius_m) / wavelength_m };
 }
 
@@ -173,7 +177,8 @@ export const STABILITY_EDGE_TOLERANCE = 1e-12;
  */
 export function resonatorStability(g1: number, g2: number): Stability {
   const p = g1 * g2;
-  if (Math.abs(p) <= STABILITY_EDGE_TOLERANCE || Math.abs(1 - p) <= STABILITY_EDGE_TOLERANCE) return 'marginal';
+  if (Math.abs(p) <= STABILITY_EDGE_TOLERANCE || Math.abs(1 - p) <= STABILITY_EDGE_TOLERANCE)
+    return 'marginal';
   return p > 0 && p < 1 ? 'stable' : 'unstable';
 }
 
@@ -212,14 +217,29 @@ export interface ResonatorMode {
  * @param radius1_m, radius2_m mirror radii, > 0 concave towards the resonator, Infinity flat
  * @param wavelength_m vacuum wavelength, m
  */
-export function twoMirrorEigenmode(length_m: number, radius1_m: number, radius2_m: number, wavelength_m: number): ResonatorMode {
+export function twoMirrorEigenmode(
+  length_m: number,
+  radius1_m: number,
+  radius2_m: number,
+  wavelength_m: number,
+): ResonatorMode {
   const g1 = gParameter(length_m, radius1_m);
   const g2 = gParameter(length_m, radius2_m);
   const g1g2 = g1 * g2;
   const stability = resonatorStability(g1, g2);
   const none = (reason: string): ResonatorMode => ({
-    g1, g2, g1g2, stability, hasMode: false, reason,
-    qAtMirror1: null, qAtMirror2: null, waistRadius_m: null, waistPosition_m: null, spotAtMirror1_m: null, spotAtMirror2_m: null,
+    g1,
+    g2,
+    g1g2,
+    stability,
+    hasMode: false,
+    reason,
+    qAtMirror1: null,
+    qAtMirror2: null,
+    waistRadius_m: null,
+    waistPosition_m: null,
+    spotAtMirror1_m: null,
+    spotAtMirror2_m: null,
   });
 
   let q1: Complex;
@@ -233,18 +253,31 @@ export function twoMirrorEigenmode(length_m: number, radius1_m: number, radius2_
     q1 = { re: u.re / u2, im: -u.im / u2 };
   } else if (stability === 'marginal' && Math.abs(g1) <= 1e-9 && Math.abs(g2) <= 1e-9) {
     q1 = { re: -length_m / 2, im: length_m / 2 };
-    reason = 'symmetric confocal resonator (g1 = g2 = 0): the mode is degenerate; the symmetric-limit mode is given';
+    reason =
+      'symmetric confocal resonator (g1 = g2 = 0): the mode is degenerate; the symmetric-limit mode is given';
   } else if (stability === 'marginal') {
-    const what = Math.abs(1 - g1g2) <= STABILITY_EDGE_TOLERANCE
-      ? (g1 === 1 && g2 === 1 ? 'plane-parallel (flat/flat)' : 'at the edge g1 g2 = 1')
-      : 'at the edge g1 g2 = 0 (e.g. hemispherical)';
-    return none(`resonator is marginally stable, ${what} (g1 g2 = ${g1g2.toPrecision(6)}): no finite Gaussian eigenmode`);
+    const what =
+      Math.abs(1 - g1g2) <= STABILITY_EDGE_TOLERANCE
+        ? g1 === 1 && g2 === 1
+          ? 'plane-parallel (flat/flat)'
+          : 'at the edge g1 g2 = 1'
+        : 'at the edge g1 g2 = 0 (e.g. hemispherical)';
+    return none(
+      `resonator is marginally stable, ${what} (g1 g2 = ${g1g2.toPrecision(6)}): no finite Gaussian eigenmode`,
+    );
   } else {
-    return none(`resonator is unstable (g1 g2 = ${g1g2.toPrecision(6)}, outside 0..1): no Gaussian eigenmode`);
+    return none(
+      `resonator is unstable (g1 g2 = ${g1g2.toPrecision(6)}, outside 0..1): no Gaussian eigenmode`,
+    );
   }
   const q2 = propagateQ(q1, freeSpace(length_m));
   return {
-    g1, g2, g1g2, stability, hasMode: true, reason,
+    g1,
+    g2,
+    g1g2,
+    stability,
+    hasMode: true,
+    reason,
     qAtMirror1: q1,
     qAtMirror2: q2,
     waistRadius_m: waistRadius_m(q1, wavelength_m),

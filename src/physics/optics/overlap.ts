@@ -29,7 +29,12 @@ export function gaussianOverlap(q1: Complex, q2: Complex): number {
  * @param separation_m distance d between the two waists along the axis, m
  * @param wavelength_m vacuum wavelength, m
  */
-export function waistOverlap(waist1_m: number, waist2_m: number, separation_m: number, wavelength_m: number): number {
+export function waistOverlap(
+  waist1_m: number,
+  waist2_m: number,
+  separation_m: number,
+  wavelength_m: number,
+): number {
   const ratio = waist1_m / waist2_m + waist2_m / waist1_m;
   const defocus = (wavelength_m * separation_m) / (Math.PI * waist1_m * waist2_m);
   return 4 / (ratio * ratio + defocus * defocus);
