@@ -13,7 +13,6 @@ import { MinMaxDecimator } from '../analysis/decimate';
 import { WelchPsd, RinSpectrum } from '../analysis/spectra';
 import { OpticalSpectrum, OpticalSpectrumResult } from '../analysis/opticalSpectrum';
 import type { TraceSet } from '../results/artifacts';
-import { externalPowerOf, laserOutputOf } from './references';
 
 export interface DrivenOptions {
   dt: number;
@@ -260,24 +259,23 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   const row = an.row;
   const onStep = (en: LaneEngine) => {
     for (let l = 0; l < L; l++) {
-      let pi = 0;
+      const pi = en.intracavityPower(l);
       let dom = 0;
       let domP = -1;
       for (let m = 0; m < M; m++) {
         const j = l * M + m;
         const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
-        pi += v;
         if (v > domP) {
           domP = v;
           dom = m;
         }
-        an.returned2 += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
       }
+      an.returned2 += en.returnedPower(l);
       if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = en.Er[m] * en.Er[m] + en.Ei[m] * en.Ei[m];
       an.push(
         l,
-        externalPowerOf(en, l),
-        laserOutputOf(en, l),
+        en.externalPower(l),
+        en.laserOutput(l),
         pi,
         dom,
         en.t,

@@ -1,15 +1,66 @@
 /**
- * Which engine runs what, and why (MODEL.md 3.4): the exact delay line always applies;
- * the mean-field engine where the round-trip phase changes little per round trip and its
- * longer step pays; the adiabatic path where the mirror crosses each resonance slowly
- * compared with the slowest response (the regrowth of a mode from noise).
+ * Which engine runs what, and why (docs/model.md §3.7): the round-trip engine (the
+ * reference) always applies; the modal engines (per-mode laser equation with the gap as a
+ * delay line, `modal`, or as a mean field, `meanfield`) only where their error against the
+ * round-trip engine is shown small (weak coupling, returned light close to the lasing
+ * line); the adiabatic path where the mirror crosses each resonance slowly compared with
+ * the slowest response (the regrowth of a mode from noise).
+ *
+ * Internally the engines keep their kinds ('roundtrip', 'exact' = modal, 'fast' =
+ * meanfield); users see the names of ENGINE_NAMES.
  */
 import type { Scenario } from '../scenario/schema';
 import type { CoupledParams } from '../physics/coupled/params';
 import type { EngineKind } from '../physics/coupled/factory';
 import { peakSpeed } from '../physics/drive';
+import { roundTripStepFor } from '../physics/coupled/roundtrip';
 
 export type DrivenEngine = EngineKind | 'adiabatic';
+
+/** The name users see for each engine kind. */
+export const ENGINE_NAMES: Record<DrivenEngine, string> = {
+  roundtrip: 'roundtrip',
+  exact: 'modal',
+  fast: 'meanfield',
+  adiabatic: 'adiabatic',
+};
+
+/** What a scenario or the command line may ask for; 'exact' and 'fast' are the 0.1 names, kept for one release. */
+export type EngineRequest = 'auto' | 'roundtrip' | 'modal' | 'meanfield' | 'adiabatic' | 'exact' | 'fast';
+
+/** The 0.1 engine names and what they are now. */
+export const DEPRECATED_ENGINE_NAMES: Partial<Record<EngineRequest, EngineRequest>> = {
+  exact: 'modal',
+  fast: 'meanfield',
+};
+
+/** The name users see for an engine kind. */
+export function engineName(kind: DrivenEngine): string {
+  return ENGINE_NAMES[kind];
+}
+
+/**
+ * Largest returned-to-laser power ratio at an external resonance for which a modal engine
+ * may stand in for the round-trip engine (docs/model.md §3.7): measured, the static mean gap
+ * power of the modal engines is within 2 % of the round-trip engine's below it.
+ */
+export const MODAL_MAX_RETURN_RATIO = 0.02;
+/** Largest spread of the returned light, as a fraction of the laser mode spacing, for a modal engine. */
+export const MODAL_MAX_SPREAD = 0.1;
+
+/**
+ * The a-priori measure of how strongly the gap couples back into the laser: the power the
+ * laser mode receives back at an external resonance over its own intracavity power,
+ * rho = eta T2 |b|^2 / |E|^2 = (eta T2)^2 R3' / (1 - r2 r3')^2 (0 when the laser ignores its
+ * feedback). The modal equation drops the Gires-Tournois return of this light (about
+ * T2 of it per bounce) and is first order in it.
+ */
+export function returnRatio(p: CoupledParams): number {
+  if (!p.hasExternal || !p.returnToLaser) return 0;
+  const etaT2 = p.feedbackEfficiency * p.T2;
+  const d = 1 - p.r2 * p.r3eff;
+  return d > 0 ? (etaT2 * etaT2 * p.r3eff * p.r3eff) / (d * d) : Infinity;
+}
 
 /** Largest round-trip phase change, as a fraction of the resonance width 2 pi / F, for the mean-field engine. */
 export const FAST_VALID_FRACTION = 0.01;
@@ -17,6 +68,10 @@ export const FAST_VALID_FRACTION = 0.01;
 export interface EnginePlan {
   static: { kind: EngineKind; dt: number };
   driven: { kind: DrivenEngine; dt: number; reason: string; warning: string | null };
+  /** why the round-trip engine was or was not needed */
+  modal: { allowed: boolean; returnRatio: number; spreadFraction: number; reason: string };
+  /** the round-trip engine's step, s */
+  roundTripStep_s: number;
   /** quantities the choice was made from */
   basis: {
     exactStep_s: number;
@@ -55,8 +110,70 @@ export function planEngines(
   p: CoupledParams,
   finesse: number,
   regrowth_s: number,
-  requested: 'auto' | 'exact' | 'fast' | 'adiabatic',
+  requestedIn: EngineRequest,
 ): EnginePlan {
+  const requested = DEPRECATED_ENGINE_NAMES[requestedIn] ?? requestedIn;
+  const modalRequest =
+    requested === 'modal'
+      ? 'exact'
+      : requested === 'meanfield'
+        ? 'fast'
+        : requested === 'adiabatic'
+          ? 'adiabatic'
+          : 'auto';
+  const m = planModalEngines(s, p, finesse, regrowth_s, modalRequest);
+  const rt = roundTripStepFor(p).dt;
+  const rho = returnRatio(p);
+  const F = Number.isFinite(finesse) && finesse > 0 ? finesse : 1;
+  const spread = ((F / Math.PI) * 2 * m.basis.peakSpeed_m_s) / s.laser.wavelength;
+  const spreadFraction = p.modes.fsr_Hz > 0 ? spread / p.modes.fsr_Hz : 0;
+  const fmt = (x: number) => x.toPrecision(3);
+  const allowed = rho <= MODAL_MAX_RETURN_RATIO && spreadFraction <= MODAL_MAX_SPREAD;
+  const modalReason = allowed
+    ? `weak coupling: returned-to-laser power ratio at resonance ${fmt(rho)} <= ${MODAL_MAX_RETURN_RATIO}, spread of the returned light ${fmt(100 * spreadFraction)} % of the mode spacing`
+    : rho > MODAL_MAX_RETURN_RATIO
+      ? `strong coupling: returned-to-laser power ratio at resonance ${fmt(rho)} > ${MODAL_MAX_RETURN_RATIO}`
+      : `spread of the returned light ${fmt(100 * spreadFraction)} % of the laser mode spacing > ${100 * MODAL_MAX_SPREAD} %`;
+  const modal = { allowed, returnRatio: rho, spreadFraction, reason: modalReason };
+  const rtStatic = { kind: 'roundtrip' as const, dt: rt };
+  const plan = (st: EnginePlan['static'], dr: EnginePlan['driven']): EnginePlan => ({
+    static: st,
+    driven: dr,
+    modal,
+    roundTripStep_s: rt,
+    basis: m.basis,
+  });
+  const notValid = `a modal engine was requested where it is not shown to hold (${modalReason}); the round-trip engine is the reference (docs/model.md §3.7)`;
+  if (requested === 'roundtrip')
+    return plan(rtStatic, { kind: 'roundtrip', dt: rt, reason: 'requested', warning: null });
+  if (requested === 'modal' || requested === 'meanfield') {
+    const w = [m.driven.warning, allowed ? null : notValid].filter((x) => x !== null).join('; ');
+    return plan(m.static, { ...m.driven, warning: w === '' ? null : w });
+  }
+  if (requested === 'adiabatic') return plan(allowed ? m.static : rtStatic, { ...m.driven });
+  // auto
+  if (allowed) return plan(m.static, { ...m.driven, reason: `${modalReason}; ${m.driven.reason}` });
+  if (m.driven.kind === 'adiabatic')
+    return plan(rtStatic, {
+      ...m.driven,
+      reason: `${m.driven.reason}; static curve from the round-trip engine (${modalReason})`,
+    });
+  return plan(rtStatic, {
+    kind: 'roundtrip',
+    dt: rt,
+    reason: `${modalReason}: round-trip engine`,
+    warning: null,
+  });
+}
+
+/** The plan among the modal engines and the adiabatic path alone (the 0.1 choice). */
+function planModalEngines(
+  s: Scenario,
+  p: CoupledParams,
+  finesse: number,
+  regrowth_s: number,
+  requested: 'auto' | 'exact' | 'fast' | 'adiabatic',
+): Pick<EnginePlan, 'static' | 'driven' | 'basis'> {
   const lambda = s.laser.wavelength;
   const exactStep = exactEngineStep(s, p);
   const v = totalPeakSpeed(s);

@@ -5,6 +5,7 @@
  */
 import type { CoupledParams } from '../physics/coupled/params';
 import { ExactEngine } from '../physics/coupled/exact';
+import { RoundTripEngine } from '../physics/coupled/roundtrip';
 import { balanceErrors } from '../physics/coupled/lane-engine';
 import type { LaneEngine, MirrorMotion, NormalSource } from '../physics/coupled/lane-engine';
 import { createLaneEngine, EngineKind } from '../physics/coupled/factory';
@@ -97,6 +98,63 @@ export function freeRunning(
   };
 }
 
+/**
+ * The free-running laser on the round-trip engine (docs/model.md §3.5): the same settle
+ * and averaging as freeRunning, from the modal single-mode estimate, with the whole band
+ * free to lase (mode powers by demodulation at the cold-cavity modes).
+ */
+export function freeRunningRoundTrip(
+  p: CoupledParams,
+  rng: NormalSource & { uniform(): number },
+  settle_s?: number,
+): FreeRunningResult {
+  const M = p.M;
+  const q: CoupledParams = { ...p, hasExternal: false, returnToLaser: false, kappa: 0, couplingOut: 0 };
+  if (!Number.isFinite(p.gammaC)) return freeRunning(p, rng, settle_s);
+  const still: MirrorMotion = { position: () => 0, velocity: () => 0 };
+  const eng = new RoundTripEngine(q, 1, still, rng, 0);
+  const T = settle_s ?? Math.max(400 / p.gammaC, 50 * p.tauN);
+  const steps = Math.max(1000, Math.ceil(T / eng.dt));
+  const Er: number[] = [];
+  const Ei: number[] = [];
+  const N: number[] = [];
+  for (let m = 0; m < M; m++) {
+    const P0 = Math.max(p.spontaneous_W, Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * M));
+    const th = 2 * Math.PI * rng.uniform();
+    Er.push(Math.sqrt(P0) * Math.cos(th));
+    Ei.push(Math.sqrt(P0) * Math.sin(th));
+    N.push(1);
+  }
+  eng.setLaserState(Er, Ei, N);
+  const avgFrom = Math.floor(steps * 0.8);
+  const acc = new Float64Array(M);
+  let total = 0;
+  let count = 0;
+  let k = 0;
+  eng.advance(steps, (e) => {
+    if (k++ >= avgFrom) {
+      for (let m = 0; m < M; m++) acc[m] += e.Er[m] * e.Er[m] + e.Ei[m] * e.Ei[m];
+      total += e.intracavityPower(0);
+      count++;
+    }
+  });
+  const modePowers = Array.from(acc, (v) => v / Math.max(count, 1));
+  const intracavity = total / Math.max(count, 1);
+  const strongest = Math.max(...modePowers);
+  return {
+    Er: Array.from(eng.Er),
+    Ei: Array.from(eng.Ei),
+    N: Array.from(eng.N),
+    intracavity_W: intracavity,
+    output_W: p.T2 * intracavity,
+    modePowers_W: modePowers,
+    lasingModes: p.modes.index.filter(
+      (_, m) => strongest > 0 && modePowers[m] >= 0.01 * strongest && modePowers[m] > 100 * p.spontaneous_W,
+    ),
+    steps,
+  };
+}
+
 /** Per-lane means collected over the last part of a settle. */
 export interface LaneMeans {
   external_W: number;
@@ -110,40 +168,14 @@ export interface LaneMeans {
   returned_W: number;
 }
 
-/**
- * Net power leaving through M2 on the outside, W: |a|^2 - |b|^2 for the matched part,
- * plus the unmatched part of the laser's output (1 - eta_fb) T2 |E|^2 (MODEL.md 3.3).
- */
+/** Net power leaving through M2 on the outside of lane l, W (the engine's own account). */
 export function laserOutputOf(e: LaneEngine, l: number): number {
-  const p = e.p;
-  const M = e.M;
-  let s = 0;
-  for (let m = 0; m < M; m++) {
-    const j = l * M + m;
-    const E2 = e.Er[j] * e.Er[j] + e.Ei[j] * e.Ei[j];
-    if (!p.hasExternal) {
-      s += p.T2 * E2;
-      continue;
-    }
-    s +=
-      (1 - p.feedbackEfficiency) * p.T2 * E2 +
-      e.ar[j] * e.ar[j] +
-      e.ai[j] * e.ai[j] -
-      e.br[j] * e.br[j] -
-      e.bi[j] * e.bi[j];
-  }
-  return s;
+  return e.laserOutput(l);
 }
 
-/** Circulating one-way power in the gap, sum over modes of |a_m|^2, W. */
+/** Circulating one-way power in the gap of lane l, W (the engine's own account). */
 export function externalPowerOf(e: LaneEngine, l: number): number {
-  const M = e.M;
-  let s = 0;
-  for (let m = 0; m < M; m++) {
-    const j = l * M + m;
-    s += e.ar[j] * e.ar[j] + e.ai[j] * e.ai[j];
-  }
-  return s;
+  return e.externalPower(l);
 }
 
 /** Advance all lanes `steps` steps and average the lane observables over the last `avgSteps`. */
@@ -162,14 +194,13 @@ export function settleLanes(e: LaneEngine, steps: number, avgSteps: number): Lan
     if (k++ < from) return;
     count++;
     for (let l = 0; l < L; l++) {
-      ext[l] += externalPowerOf(en, l);
-      out[l] += laserOutputOf(en, l);
+      ext[l] += en.externalPower(l);
+      out[l] += en.laserOutput(l);
+      ic[l] += en.intracavityPower(l);
+      ret[l] += en.returnedPower(l);
       for (let m = 0; m < M; m++) {
         const j = l * M + m;
-        const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
-        modeP[j] += v;
-        ic[l] += v;
-        ret[l] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
+        modeP[j] += en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
       }
     }
   });

@@ -19,6 +19,7 @@ import {
 import { TOOL_VERSION } from '../version';
 import { deriveAll } from '../physics/derive';
 import type { CoupledParams } from '../physics/coupled/params';
+import type { EngineKind } from '../physics/coupled/factory';
 import {
   createDrive,
   peakAcceleration,
@@ -30,14 +31,28 @@ import { createRng } from '../numerics/rng';
 import { classifyRun } from '../analysis/classify';
 import { designRule } from '../analysis/decoupling';
 import { driveHarmonics } from '../analysis/harmonics';
-import { freeRunning, FreeRunningResult, staticReference, StaticResult } from './references';
+import {
+  freeRunning,
+  freeRunningRoundTrip,
+  FreeRunningResult,
+  staticReference,
+  StaticResult,
+} from './references';
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
-import { planEngines, EnginePlan } from './engine-choice';
+import { planEngines, EnginePlan, EngineRequest, DEPRECATED_ENGINE_NAMES, engineName } from './engine-choice';
 import { actuatorSheet } from '../physics/actuator';
 
 /** What `simulation.engine` and the commands' `--engine` may ask for. */
-export const ENGINE_CHOICES = ['auto', 'exact', 'fast', 'adiabatic'] as const;
+export const ENGINE_CHOICES = [
+  'auto',
+  'roundtrip',
+  'modal',
+  'meanfield',
+  'adiabatic',
+  'exact',
+  'fast',
+] as const;
 export type EngineChoice = (typeof ENGINE_CHOICES)[number];
 
 export interface RunOptions {
@@ -83,8 +98,10 @@ export function staticSettleTime(p: CoupledParams): number {
 }
 
 /** Which engine settles the static reference: the exact one when the exact engine is requested, else the planner's choice. */
-function staticEngineRequest(s: Scenario, opts: RunOptions): 'exact' | 'auto' {
-  return (opts.engine ?? s.simulation.engine) === 'exact' ? 'exact' : 'auto';
+function staticEngineRequest(s: Scenario, opts: RunOptions): EngineRequest {
+  const r = opts.engine ?? s.simulation.engine;
+  const n = DEPRECATED_ENGINE_NAMES[r] ?? r;
+  return n === 'modal' || n === 'roundtrip' ? n : 'auto';
 }
 
 export function computeReferences(s: Scenario, opts: RunOptions = {}): References {
@@ -92,15 +109,12 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
   const seed = opts.seed ?? s.simulation.seed;
   const { derived, params } = deriveAll(s);
   const req = staticEngineRequest(s, opts);
-  const plan = planEngines(
-    s,
-    params,
-    derived.finesse_external,
-    staticSettleTime(params),
-    req === 'exact' ? 'exact' : 'auto',
-  );
+  const plan = planEngines(s, params, derived.finesse_external, staticSettleTime(params), req);
   const rng = createRng(seed);
-  const free = freeRunning(params, rng.fork(1));
+  const free =
+    plan.static.kind === 'roundtrip'
+      ? freeRunningRoundTrip(params, rng.fork(1))
+      : freeRunning(params, rng.fork(1));
   let stat: StaticResult | null = null;
   if (params.hasExternal && Number.isFinite(params.gammaC)) {
     opts.onProgress?.(0, 'static reference');
@@ -193,7 +207,13 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const tContStatic = staticSettleTime(params);
   const plan: EnginePlan = planEngines(s, params, derived.finesse_external, tContStatic, requested);
   const engine = plan.driven.kind;
-  const engineReason = `${plan.driven.reason}; static reference: ${refs.data.staticEngine} engine`;
+  const engineReason = `${plan.driven.reason}; static reference: ${engineName(refs.data.staticEngine as EngineKind)} engine`;
+  const deprecated = DEPRECATED_ENGINE_NAMES[requested];
+  if (deprecated)
+    warnings.push({
+      code: 'engine-name',
+      message: `engine '${requested}' is now called '${deprecated}'; the old name works for this release only`,
+    });
   if (plan.driven.warning) warnings.push({ code: 'engine-validity', message: plan.driven.warning });
   const dt = plan.driven.kind === 'adiabatic' ? plan.basis.exactStep_s : plan.driven.dt;
 
@@ -490,7 +510,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     scenario: normaliseScenarioForJson(s),
     scenario_sha256: scenarioSha256(s),
     seed,
-    engine,
+    engine: engineName(engine),
     engine_reason: engineReason,
     status,
     message,

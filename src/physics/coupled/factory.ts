@@ -1,10 +1,11 @@
 /** One place that builds a lane engine of either kind. */
 import { ExactEngine } from './exact';
 import { FastEngine } from './fast';
+import { RoundTripEngine, roundTripStepFor } from './roundtrip';
 import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
 import type { CoupledParams } from './params';
 
-export type EngineKind = 'exact' | 'fast';
+export type EngineKind = 'exact' | 'fast' | 'roundtrip';
 
 export interface EngineSpec {
   kind: EngineKind;
@@ -23,6 +24,13 @@ export function createLaneEngine(
   motion: MirrorMotion,
   rng: NormalSource,
 ): LaneEngine {
+  if (spec.kind === 'roundtrip') {
+    // the round-trip engine's step is fixed by its delay lines (docs/model.md §3.5)
+    const step = roundTripStepFor(p);
+    if (Math.abs(step.dt - spec.dt) > 1e-9 * step.dt)
+      throw new Error(`round-trip engine: step ${spec.dt} s requested, its own is ${step.dt} s`);
+    return new RoundTripEngine(p, lanes, motion, rng, spec.maxExcursion_m, step);
+  }
   return spec.kind === 'exact'
     ? new ExactEngine(p, lanes, spec.dt, motion, rng, spec.maxExcursion_m)
     : new FastEngine(p, lanes, spec.dt, motion, rng, spec.pullCorrection ?? false);

@@ -3,3 +3,5 @@ export * from './lane-engine';
 export * from './exact';
 export * from './fast';
 export * from './factory';
+export * from './roundtrip';
+export * from './roundtrip-step';

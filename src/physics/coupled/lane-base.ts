@@ -148,6 +148,60 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     return s * this.p.roundTripLaser_s;
   }
 
+  /** Circulating one-way power in the gap, sum over modes of |a_m|^2, W. */
+  externalPower(l: number): number {
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.ar[j] * this.ar[j] + this.ai[j] * this.ai[j];
+    }
+    return s;
+  }
+
+  /** One-way intracavity power, sum over modes of |E_m|^2, W. */
+  intracavityPower(l: number): number {
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+    }
+    return s;
+  }
+
+  /** Power returning to M2 from the gap, sum over modes of |b_m|^2, W. */
+  returnedPower(l: number): number {
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      s += this.br[j] * this.br[j] + this.bi[j] * this.bi[j];
+    }
+    return s;
+  }
+
+  /**
+   * Net power leaving through M2 on the outside, W: |a|^2 - |b|^2 for the matched part,
+   * plus the unmatched part of the laser's output (1 - eta_fb) T2 |E|^2 (docs/model.md §3.3).
+   */
+  laserOutput(l: number): number {
+    const p = this.p;
+    let s = 0;
+    for (let m = 0; m < this.M; m++) {
+      const j = l * this.M + m;
+      const E2 = this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+      if (!p.hasExternal) {
+        s += p.T2 * E2;
+        continue;
+      }
+      s +=
+        (1 - p.feedbackEfficiency) * p.T2 * E2 +
+        this.ar[j] * this.ar[j] +
+        this.ai[j] * this.ai[j] -
+        this.br[j] * this.br[j] -
+        this.bi[j] * this.bi[j];
+    }
+    return s;
+  }
+
   /** Start the energy bookkeeping of every lane from the present state. */
   resetEnergy(): void {
     for (let l = 0; l < this.L; l++) {

@@ -55,7 +55,7 @@ export function emptyEnergy(): LaneEnergy {
 }
 
 export interface LaneEngine {
-  readonly kind: 'exact' | 'fast';
+  readonly kind: 'exact' | 'fast' | 'roundtrip';
   readonly p: CoupledParams;
   readonly L: number;
   readonly M: number;
@@ -83,6 +83,14 @@ export interface LaneEngine {
   resetEnergy(): void;
   laserEnergy(l: number): number;
   externalEnergy(l: number): number;
+  /** circulating one-way power in the gap of lane l, W (docs/model.md §3.3, §3.5) */
+  externalPower(l: number): number;
+  /** one-way intracavity power of the laser at M2 of lane l, summed over modes, W */
+  intracavityPower(l: number): number;
+  /** power returning from the gap to M2 of lane l, W */
+  returnedPower(l: number): number;
+  /** net power leaving through M2 on the outside of lane l, W */
+  laserOutput(l: number): number;
   advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean;
 }
 

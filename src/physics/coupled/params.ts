@@ -3,6 +3,7 @@
  * Symbols follow MODEL.md section 3.
  */
 import { mirrorTransmission, Scenario } from '../../scenario/schema';
+import type { GainSpec } from '../../scenario/schema';
 import { SPEED_OF_LIGHT_m_s } from '../constants';
 import { cavityModes, crossSaturation, ModeSet } from '../laser/modes';
 
@@ -61,6 +62,8 @@ export interface CoupledParams {
   phasePerMetre: Float64Array;
   /** single-pass internal loss */
   internalLoss: number;
+  /** the gain line as the scenario gives it (the round-trip engine builds its packets from it) */
+  gain: GainSpec;
 }
 
 /**
@@ -136,5 +139,6 @@ export function buildCoupledParams(
     extPhase0,
     phasePerMetre,
     internalLoss: L.internal_loss,
+    gain: L.gain,
   };
 }

@@ -1,0 +1,874 @@
+/**
+ * The round-trip engine (reference), docs/model.md §3.5: the whole three-mirror system
+ * as two delay lines sampled every dt on the full band around the gain peak (the carrier
+ * nu_c), one complex envelope per travelling wave, every longitudinal mode, Doppler
+ * sideband and cross-mode injection in that one signal. At the plane of M2:
+ *
+ *   e(t) = r1 (1 - l) exp(-i 2 pi nu_c tau_L) v(t - tau_L) + w(t)   inside, arriving from M1
+ *   u(t) = r2 e(t) + t2 sqrt(eta_fb) b(t)                          inside, leaving towards M1
+ *   a(t) = t2 sqrt(eta_fb) e(t) - r2 b(t)                          gap, leaving towards M3
+ *   b(t) = r3' a(t - tau(t)) exp(-i 2 pi nu_c tau(t)),  tau(t) = 2 (L2 + x(t)) / c
+ *   v(t) = Amp[u](t)                                               the gain medium, both passes
+ *
+ * Amp is the packet bank of gain-packets.ts: with G0[x] = (chi0 / 2) sum_j w_j n_j y_j
+ * (y_j the packet-filtered x, chi0 = gamma_c tau_L the cold-cavity round-trip loss), the
+ * round trip's field gain exp(G0) is applied as exp(chi0 / 2) (1 + D / K)^K with
+ * D = G0 - chi0 / 2: D vanishes where the saturated gain meets the loss, so the error
+ * (D^2 / 2K per round trip) is nil at the lasing lines, and K sheets (each with its own
+ * filters) keep |D / K| <= 0.1 for high-gain media. The amplitude-phase coupling adds the
+ * phase (alpha / 2) chi0 (n - 1) per round trip (n the peak-normalised inversion), so a
+ * gain above its steady value raises the optical frequency (data-sheet sign, Henry 1982).
+ *
+ * Spontaneous emission w(t): white complex kicks shaped by a short FIR filter whose
+ * power response is the small-signal gain shape, scaled so that a cold-cavity mode below
+ * threshold holds P_sp f / (1 - p f) (first order in chi0).
+ *
+ * Mode powers (Er, Ei): e demodulated at every cold-cavity mode frequency and averaged
+ * over one laser round trip (a sliding window: adjacent modes are orthogonal over
+ * tau_L). Gap and intracavity powers are |a|^2 and |e|^2 averaged over the same window
+ * (which removes the beat notes between modes).
+ *
+ * Lanes (static positions or rest offsets) advance in lockstep; the step loop allocates
+ * nothing.
+ */
+import { SPEED_OF_LIGHT_m_s } from '../constants';
+import { ComplexDelayLines } from '../../numerics/delay-line';
+import { bankResponse, buildPacketBank, PacketBank } from '../laser/gain-packets';
+import type { CoupledParams } from './params';
+import { emptyEnergy } from './lane-engine';
+import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+import { chooseRoundTripStep, RoundTripStep } from './roundtrip-step';
+
+const FLUSH = 1e-150;
+/** Largest |D / K| per gain sheet. */
+export const SHEET_LIMIT = 0.1;
+
+/** Fraction of 2 pi of x (x may be large): keeps carrier phases exact. */
+function frac(x: number): number {
+  return x - Math.floor(x);
+}
+
+export class RoundTripEngine implements LaneEngine {
+  readonly kind = 'roundtrip' as const;
+  readonly L: number;
+  readonly M: number;
+  readonly dt: number;
+  t = 0;
+  readonly Er: Float64Array;
+  readonly Ei: Float64Array;
+  readonly N: Float64Array;
+  readonly ar: Float64Array;
+  readonly ai: Float64Array;
+  readonly br: Float64Array;
+  readonly bi: Float64Array;
+  readonly offset: Float64Array;
+  energy: LaneEnergy[];
+  failed = false;
+  failMessage = '';
+  readonly step: RoundTripStep;
+  readonly bank: PacketBank;
+  /** gain sheets per round trip */
+  readonly sheets: number;
+  /** worst relative error of the M2 scattering identity seen per lane since the last reset */
+  readonly m2Closure: Float64Array;
+
+  private readonly NL: number;
+  private readonly laser: ComplexDelayLines;
+  private readonly gap: ComplexDelayLines | null;
+  /** rings of |e|^2, |a|^2, |b|^2, |u|^2 over the last laser round trip, per lane */
+  private readonly pE: Float64Array;
+  private readonly pA: Float64Array;
+  private readonly pB: Float64Array;
+  private readonly sumE: Float64Array;
+  private readonly sumA: Float64Array;
+  private readonly sumB: Float64Array;
+  private readonly sumV: Float64Array;
+  /** ring of e over the last laser round trip, per lane (for the sliding demodulation) */
+  private readonly eRe: Float64Array;
+  private readonly eIm: Float64Array;
+  private readonly aRe: Float64Array;
+  private readonly aIm: Float64Array;
+  private slot = 0;
+  /** filter states (sheet, lane, filter) and previous inputs (sheet, lane) */
+  private readonly yr: Float64Array;
+  private readonly yi: Float64Array;
+  private readonly xpr: Float64Array;
+  private readonly xpi: Float64Array;
+  /** inversions (lane, inversion) */
+  private readonly inv: Float64Array;
+  private readonly nInv: number;
+  private readonly invSat: Float64Array;
+  /** demodulation phasors phi_m = exp(-i 2 pi delta_m t) and the per-step rotation */
+  private readonly phr: Float64Array;
+  private readonly phi: Float64Array;
+  private readonly rotR: Float64Array;
+  private readonly rotI: Float64Array;
+  /** exp(-i 2 pi delta_m tau_L): the phasor of the sample leaving the window */
+  private readonly oldR: Float64Array;
+  private readonly oldI: Float64Array;
+  private stepCount = 0;
+  /** noise: FIR taps and the add-ahead ring per lane */
+  private readonly firR: Float64Array;
+  private readonly firI: Float64Array;
+  private readonly ahead: Float64Array;
+  private readonly aheadMask: number;
+  private readonly noiseEvery: number;
+  private noiseCount = 0;
+  private readonly kickSigma: number;
+  // constants of the loop
+  private readonly rho1: number;
+  private readonly pcR: number;
+  private readonly pcI: number;
+  private readonly gapPhase0: number;
+  private readonly gapPhasePerMetre: number;
+  private readonly delayPerMetre: number;
+  private readonly halfChi0: number;
+  private readonly expHalfChi0: number;
+  private readonly satScale: number;
+  private readonly tmp = new Float64Array(2);
+  /** a weak external probe arriving at M2 from the gap side: amplitude (W^0.5) and detuning (Hz) */
+  private probeAmp = 0;
+  private probeDet = 0;
+
+  constructor(
+    readonly p: CoupledParams,
+    lanes: number,
+    readonly motion: MirrorMotion,
+    readonly rng: NormalSource,
+    maxExcursion_m: number,
+    step?: RoundTripStep,
+  ) {
+    const c = SPEED_OF_LIGHT_m_s;
+    this.L = lanes;
+    this.M = p.M;
+    this.step = step ?? roundTripStepFor(p);
+    const dt = this.step.dt;
+    this.dt = dt;
+    this.NL = this.step.laserSteps;
+    const LM = lanes * p.M;
+    this.Er = new Float64Array(LM);
+    this.Ei = new Float64Array(LM);
+    this.N = new Float64Array(LM);
+    this.ar = new Float64Array(LM);
+    this.ai = new Float64Array(LM);
+    this.br = new Float64Array(LM);
+    this.bi = new Float64Array(LM);
+    this.offset = new Float64Array(lanes);
+    this.energy = Array.from({ length: lanes }, () => emptyEnergy());
+    this.m2Closure = new Float64Array(lanes);
+    this.laser = new ComplexDelayLines(lanes, 2 * this.NL);
+    if (p.hasExternal) {
+      const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / c / dt;
+      const minDelay = (2 * (p.externalLength_m - Math.abs(maxExcursion_m))) / c / dt;
+      if (minDelay < 2)
+        throw new Error(
+          `round-trip engine: the gap delay (${minDelay.toFixed(2)} steps) is too short for the step ${dt} s`,
+        );
+      this.gap = new ComplexDelayLines(lanes, maxDelay + 2);
+    } else this.gap = null;
+    const NL = this.NL;
+    this.pE = new Float64Array(lanes * NL);
+    this.pA = new Float64Array(lanes * NL);
+    this.pB = new Float64Array(lanes * NL);
+    this.sumE = new Float64Array(lanes);
+    this.sumA = new Float64Array(lanes);
+    this.sumB = new Float64Array(lanes);
+    this.sumV = new Float64Array(lanes);
+    this.eRe = new Float64Array(lanes * NL);
+    this.eIm = new Float64Array(lanes * NL);
+    this.aRe = new Float64Array(lanes * NL);
+    this.aIm = new Float64Array(lanes * NL);
+    this.bank = buildPacketBank(p.gain, dt);
+    const chi0 = p.gammaC * p.roundTripLaser_s;
+    this.halfChi0 = 0.5 * chi0;
+    this.expHalfChi0 = Math.exp(0.5 * chi0);
+    // largest |D| over the band: where there is no gain (chi0 / 2) or at the small-signal peak
+    const dMax = Math.max(this.halfChi0, this.halfChi0 * Math.abs(p.pump - 1));
+    this.sheets = Math.max(1, Math.ceil(dMax / SHEET_LIMIT));
+    const F = this.bank.filters;
+    this.yr = new Float64Array(this.sheets * lanes * F);
+    this.yi = new Float64Array(this.sheets * lanes * F);
+    this.xpr = new Float64Array(this.sheets * lanes);
+    this.xpi = new Float64Array(this.sheets * lanes);
+    this.nInv = this.bank.inversions;
+    this.inv = new Float64Array(lanes * this.nInv).fill(1);
+    this.invSat = new Float64Array(this.nInv);
+    // demodulation at the cold-cavity modes (detuning from the gain peak = carrier)
+    const M = p.M;
+    this.phr = new Float64Array(M).fill(1);
+    this.phi = new Float64Array(M);
+    this.rotR = new Float64Array(M);
+    this.rotI = new Float64Array(M);
+    this.oldR = new Float64Array(M);
+    this.oldI = new Float64Array(M);
+    for (let m = 0; m < M; m++) {
+      const d = p.modes.detuning_Hz[m];
+      this.rotR[m] = Math.cos(2 * Math.PI * d * dt);
+      this.rotI[m] = -Math.sin(2 * Math.PI * d * dt);
+      // phi(n - NL) = phi(n) exp(+i 2 pi d tau_L): the leaving sample's phasor from the current one
+      this.oldR[m] = Math.cos(2 * Math.PI * frac(d * NL * dt));
+      this.oldI[m] = Math.sin(2 * Math.PI * frac(d * NL * dt));
+    }
+    // constants
+    this.rho1 = Math.sqrt(p.R1) * (1 - p.internalLoss);
+    const nuC = p.modes.gainPeak_Hz;
+    const cyc = frac(nuC * p.roundTripLaser_s);
+    this.pcR = Math.cos(2 * Math.PI * cyc);
+    this.pcI = -Math.sin(2 * Math.PI * cyc);
+    this.gapPhase0 = frac((2 * p.externalLength_m * nuC) / c);
+    this.gapPhasePerMetre = (2 * nuC) / c;
+    this.delayPerMetre = 2 / c / dt;
+    // the inversion is saturated by the power arriving at M2 from the medium: |u|^2 / R2 when
+    // nothing returns from the gap (so a free-running mode at line centre holds P_sat (p - 1))
+    this.satScale = p.R2 > 0 ? p.invPsat / p.R2 : p.invPsat;
+    // noise
+    const fir = noiseFir(this.bank, dt);
+    this.firR = fir.re;
+    this.firI = fir.im;
+    let cap = 8;
+    while (cap < fir.re.length + 2) cap *= 2;
+    this.ahead = new Float64Array(lanes * cap * 2);
+    this.aheadMask = cap - 1;
+    this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
+    // per-sample variance at the gain peak sigma0^2 = P_sp gamma_c NL^2 dt; a kick every
+    // noiseEvery steps carries that many samples' variance (independent kicks stay white)
+    const s2 = p.spontaneous_W * p.gammaC * NL * NL * dt * this.noiseEvery;
+    this.kickSigma = Math.sqrt(0.5 * s2);
+  }
+
+  /**
+   * Add a monochromatic probe field of amplitude `amp` (sqrt W) at detuning `detuning_Hz`
+   * from the carrier to the light arriving at M2 from the gap, in every lane (a seed laser
+   * shone in from outside; with the return mirror's reflectivity 0 it is all that arrives).
+   * Used to measure the laser cavity's reflectance seen from the gap (docs/model.md §3.5).
+   */
+  setProbe(amp: number, detuning_Hz: number): void {
+    this.probeAmp = amp;
+    this.probeDet = detuning_Hz;
+  }
+
+  // ---- LaneEngine -------------------------------------------------------------------
+
+  /**
+   * Start every lane from mode amplitudes (the fields of a modal state): the laser line is
+   * filled with sum_m E_m exp(i 2 pi delta_m t) over one round trip (consistent with the
+   * cold-cavity round trip), inversions at threshold, the gap empty.
+   */
+  setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
+    for (let l = 0; l < this.L; l++) this.seedLane(l, Er, Ei, N);
+  }
+
+  private seedLane(l: number, Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
+    const p = this.p;
+    const M = this.M;
+    const NL = this.NL;
+    const dt = this.dt;
+    // the ring holds v (after the medium) for the last NL steps: v(t_k) such that
+    // rho1 Pc v(t_k - tau_L) = e(t_k) for a steady cold-cavity mode; fill with e / rho1 at steady gain
+    for (let k = 0; k < this.laser.cap; k++) {
+      const tk = this.t - k * dt;
+      let re = 0;
+      let im = 0;
+      for (let m = 0; m < M; m++) {
+        const th = 2 * Math.PI * frac(p.modes.detuning_Hz[m] * tk);
+        re += Er[m] * Math.cos(th) - Ei[m] * Math.sin(th);
+        im += Er[m] * Math.sin(th) + Ei[m] * Math.cos(th);
+      }
+      const i = this.laser.index(l, k);
+      // e(t_k + tau_L) = rho1 Pc v(t_k) and exp(i 2 pi delta_m tau_L) = Pc for a cold-cavity
+      // mode, so v(t_k) = e(t_k) / rho1
+      const s = this.rho1 > 0 ? 1 / this.rho1 : 0;
+      this.laser.re[i] = s * re;
+      this.laser.im[i] = s * im;
+    }
+    this.inv.fill(1, l * this.nInv, (l + 1) * this.nInv);
+    for (let m = 0; m < M; m++) {
+      this.N[l * M + m] = N[m] ?? 1;
+      this.Er[l * M + m] = Er[m];
+      this.Ei[l * M + m] = Ei[m];
+    }
+    if (this.gap) this.gap.fill(l, 0, 0);
+    this.clearLaneFilters(l);
+    this.refreshWindows(l);
+  }
+
+  private clearLaneFilters(l: number): void {
+    const F = this.bank.filters;
+    for (let s = 0; s < this.sheets; s++) {
+      const base = (s * this.L + l) * F;
+      this.yr.fill(0, base, base + F);
+      this.yi.fill(0, base, base + F);
+      this.xpr[s * this.L + l] = 0;
+      this.xpi[s * this.L + l] = 0;
+    }
+  }
+
+  /** Recompute a lane's window sums from its rings (after a state change). */
+  private refreshWindows(l: number): void {
+    const NL = this.NL;
+    let sE = 0;
+    let sV = 0;
+    const p = this.p;
+    for (let k = 0; k < NL; k++) {
+      const iw = this.laser.index(l, k);
+      sV += this.laser.re[iw] * this.laser.re[iw] + this.laser.im[iw] * this.laser.im[iw];
+      // e over the window from the laser ring: e(t_n - k dt) = rho1 Pc v(t_n - k dt - tau_L)
+      const iv = this.laser.index(l, k + NL);
+      const vr = this.laser.re[iv];
+      const vi = this.laser.im[iv];
+      const j = l * NL + ((this.slot - k + NL * 4) % NL);
+      const er = this.rho1 * (vr * this.pcR - vi * this.pcI);
+      const ei = this.rho1 * (vr * this.pcI + vi * this.pcR);
+      this.eRe[j] = er;
+      this.eIm[j] = ei;
+      this.pE[j] = er * er + ei * ei;
+      this.pA[j] = 0;
+      this.pB[j] = 0;
+      this.aRe[j] = 0;
+      this.aIm[j] = 0;
+      sE += this.pE[j];
+    }
+    this.sumE[l] = sE;
+    this.sumV[l] = sV;
+    this.sumA[l] = 0;
+    this.sumB[l] = 0;
+    // demodulated mode amplitudes of the window
+    const M = this.M;
+    for (let m = 0; m < M; m++) {
+      let xr = 0;
+      let xi = 0;
+      for (let k = 0; k < NL; k++) {
+        const j = l * NL + ((this.slot - k + NL * 4) % NL);
+        const th = -2 * Math.PI * frac(p.modes.detuning_Hz[m] * (this.t - k * this.dt));
+        xr += this.eRe[j] * Math.cos(th) - this.eIm[j] * Math.sin(th);
+        xi += this.eRe[j] * Math.sin(th) + this.eIm[j] * Math.cos(th);
+      }
+      this.Er[l * M + m] = xr / NL;
+      this.Ei[l * M + m] = xi / NL;
+      this.ar[l * M + m] = 0;
+      this.ai[l * M + m] = 0;
+    }
+  }
+
+  copyLane(src: LaneEngine, from: number, to: number): void {
+    if (!(src instanceof RoundTripEngine) || src.NL !== this.NL || src.bank.filters !== this.bank.filters) {
+      const M = this.M;
+      const er: number[] = [];
+      const ei: number[] = [];
+      const n: number[] = [];
+      for (let m = 0; m < M; m++) {
+        er.push(src.Er[from * M + m]);
+        ei.push(src.Ei[from * M + m]);
+        n.push(src.N[from * M + m]);
+      }
+      this.seedLane(to, er, ei, n);
+      return;
+    }
+    this.laser.copyLine(src.laser, from, to);
+    if (this.gap && src.gap) this.gap.copyLine(src.gap, from, to);
+    this.copyFilters(src, from, to);
+    const nI = this.nInv;
+    for (let i = 0; i < nI; i++) this.inv[to * nI + i] = src.inv[from * nI + i];
+    this.copyWindows(src, from, to);
+  }
+
+  private copyFilters(src: RoundTripEngine, from: number, to: number): void {
+    const F = this.bank.filters;
+    for (let s = 0; s < this.sheets; s++) {
+      const bs = (s * src.L + from) * F;
+      const bd = (s * this.L + to) * F;
+      for (let j = 0; j < F; j++) {
+        this.yr[bd + j] = src.yr[bs + j];
+        this.yi[bd + j] = src.yi[bs + j];
+      }
+      this.xpr[s * this.L + to] = src.xpr[s * src.L + from];
+      this.xpi[s * this.L + to] = src.xpi[s * src.L + from];
+    }
+  }
+
+  /**
+   * Copy the window rings aligned at the newest sample, and rebuild the demodulated
+   * amplitudes at this engine's time (its phasors may differ from the source's).
+   */
+  private copyWindows(src: RoundTripEngine, from: number, to: number): void {
+    const NL = this.NL;
+    let sE = 0;
+    let sA = 0;
+    let sB = 0;
+    for (let k = 0; k < NL; k++) {
+      const js = from * NL + ((src.slot - k + NL * 4) % NL);
+      const jd = to * NL + ((this.slot - k + NL * 4) % NL);
+      this.eRe[jd] = src.eRe[js];
+      this.eIm[jd] = src.eIm[js];
+      this.aRe[jd] = src.aRe[js];
+      this.aIm[jd] = src.aIm[js];
+      this.pE[jd] = src.pE[js];
+      this.pA[jd] = src.pA[js];
+      this.pB[jd] = src.pB[js];
+      sE += this.pE[jd];
+      sA += this.pA[jd];
+      sB += this.pB[jd];
+    }
+    this.sumE[to] = sE;
+    this.sumA[to] = sA;
+    this.sumB[to] = sB;
+    this.sumV[to] = src.sumV[from];
+    const M = this.M;
+    const p = this.p;
+    for (let m = 0; m < M; m++) {
+      let xr = 0;
+      let xi = 0;
+      let yr = 0;
+      let yi = 0;
+      for (let k = 0; k < NL; k++) {
+        const j = to * NL + ((this.slot - k + NL * 4) % NL);
+        const th = -2 * Math.PI * frac(p.modes.detuning_Hz[m] * (this.t - k * this.dt));
+        const c = Math.cos(th);
+        const s = Math.sin(th);
+        xr += this.eRe[j] * c - this.eIm[j] * s;
+        xi += this.eRe[j] * s + this.eIm[j] * c;
+        yr += this.aRe[j] * c - this.aIm[j] * s;
+        yi += this.aRe[j] * s + this.aIm[j] * c;
+      }
+      this.Er[to * M + m] = xr / NL;
+      this.Ei[to * M + m] = xi / NL;
+      this.ar[to * M + m] = yr / NL;
+      this.ai[to * M + m] = yi / NL;
+      this.N[to * M + m] = src.N[from * M + m];
+      this.br[to * M + m] = src.br[from * M + m];
+      this.bi[to * M + m] = src.bi[from * M + m];
+    }
+  }
+
+  resetEnergy(): void {
+    for (let l = 0; l < this.L; l++) {
+      const e = emptyEnergy();
+      e.laserStart = this.laserEnergy(l);
+      e.externalStart = this.externalEnergy(l);
+      this.energy[l] = e;
+      this.m2Closure[l] = 0;
+    }
+  }
+
+  /** Light stored in the laser's delay line: dt sum |v|^2 over one round trip, J. */
+  laserEnergy(l: number): number {
+    return this.sumV[l] * this.dt;
+  }
+
+  /** Light stored in the gap's delay line: integral of |a|^2 over [t - tau, t], J. */
+  externalEnergy(l: number): number {
+    if (!this.gap) return 0;
+    const D = this.delayPerMetre * (this.p.externalLength_m + this.offset[l] + this.motion.position(this.t));
+    const whole = Math.floor(D);
+    const fr = D - whole;
+    let s = 0;
+    let prev = 0;
+    for (let k = 0; k <= whole; k++) {
+      const i = this.gap.index(l, k);
+      const v = this.gap.re[i] * this.gap.re[i] + this.gap.im[i] * this.gap.im[i];
+      if (k > 0) s += 0.5 * (v + prev);
+      prev = v;
+    }
+    if (fr > 0) {
+      const i = this.gap.index(l, whole + 1);
+      const next = this.gap.re[i] * this.gap.re[i] + this.gap.im[i] * this.gap.im[i];
+      const vEnd = prev + (next - prev) * fr;
+      s += 0.5 * (prev + vEnd) * fr;
+    }
+    return s * this.dt;
+  }
+
+  externalPower(l: number): number {
+    return this.sumA[l] / this.NL;
+  }
+
+  intracavityPower(l: number): number {
+    return this.sumE[l] / this.NL;
+  }
+
+  returnedPower(l: number): number {
+    return this.sumB[l] / this.NL;
+  }
+
+  /**
+   * Net power leaving through M2 on the outside, window-averaged: |a|^2 - |b|^2 of the
+   * matched part plus the unmatched share (1 - eta_fb) T2 |e|^2 (docs/model.md §3.3).
+   */
+  laserOutput(l: number): number {
+    const p = this.p;
+    const e2 = this.sumE[l] / this.NL;
+    if (!p.hasExternal) return p.T2 * e2;
+    return (1 - p.feedbackEfficiency) * p.T2 * e2 + (this.sumA[l] - this.sumB[l]) / this.NL;
+  }
+
+  advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
+    for (let s = 0; s < steps; s++) {
+      this.stepOnce();
+      if (this.failed) return false;
+      if (onStep) onStep(this);
+    }
+    return true;
+  }
+
+  // ---- the step ---------------------------------------------------------------------
+
+  private stepOnce(): void {
+    const p = this.p;
+    const dt = this.dt;
+    const t1 = this.t + dt;
+    const L = this.L;
+    const M = this.M;
+    const NL = this.NL;
+    const ext = this.gap !== null;
+    const x = ext ? this.motion.position(t1) : 0;
+    const bank = this.bank;
+    const F = bank.filters;
+    const K = this.sheets;
+    const wA = bank.weightA,
+      wB = bank.weightB,
+      iA = bank.invA,
+      iB = bank.invB,
+      sA = bank.satA,
+      sB = bank.satB;
+    const inv = this.inv;
+    const Ar = bank.Ar,
+      Ai = bank.Ai,
+      Br = bank.Br,
+      Bi = bank.Bi;
+    const yr = this.yr,
+      yi = this.yi;
+    const hc = this.halfChi0;
+    const eh = this.expHalfChi0;
+    const r2 = p.r2;
+    const cpl = p.couplingOut;
+    const back = p.returnToLaser;
+    const r3 = p.r3eff;
+    const rho1 = this.rho1;
+    const pcR = this.pcR,
+      pcI = this.pcI;
+    const alphaHalfChi = 0.5 * p.alpha * 2 * hc;
+    const invTauN = 1 / p.tauN;
+    const pump = p.pump;
+    const nI = this.nInv;
+    const invSat = this.invSat;
+    const satScale = this.satScale;
+    const tmp = this.tmp;
+    // noise cadence
+    let kick = 0;
+    if (++this.noiseCount >= this.noiseEvery) {
+      this.noiseCount = 0;
+      kick = this.kickSigma;
+    }
+    // advance the rings (shared heads) and the window slot
+    this.laser.advance();
+    if (this.gap) this.gap.advance();
+    const slot = (this.slot + 1) % NL;
+    this.slot = slot;
+    const aMask = this.aheadMask;
+    const aCap = aMask + 1;
+    const aPos = this.stepCount & aMask;
+    // rotate the demodulation phasors to t1
+    for (let m = 0; m < M; m++) {
+      const r = this.phr[m] * this.rotR[m] - this.phi[m] * this.rotI[m];
+      this.phi[m] = this.phr[m] * this.rotI[m] + this.phi[m] * this.rotR[m];
+      this.phr[m] = r;
+    }
+    this.stepCount++;
+    if ((this.stepCount & 1023) === 0) this.resyncPhasors(t1);
+    const etaT2 = cpl * cpl;
+    const Rsum = p.R2 + etaT2;
+    for (let l = 0; l < L; l++) {
+      const en = this.energy[l];
+      // ---- returned field b(t1) from the gap's history
+      let bR = 0;
+      let bI = 0;
+      let aDel2 = 0;
+      if (ext) {
+        const gap = this.gap as ComplexDelayLines;
+        const disp = this.offset[l] + x;
+        const D = this.delayPerMetre * (p.externalLength_m + disp);
+        // the head has moved to t1 (not yet written): a(t1 - tau) is D samples back from it,
+        // and the centred stencil's newest node (D - 1 back at the least) is already written
+        gap.read(l, D, tmp, 0);
+        aDel2 = tmp[0] * tmp[0] + tmp[1] * tmp[1];
+        const ph = 2 * Math.PI * frac(this.gapPhase0 + this.gapPhasePerMetre * disp);
+        const c = Math.cos(ph);
+        const s = Math.sin(ph);
+        // b = r3' a_del exp(-i ph)
+        bR = r3 * (tmp[0] * c + tmp[1] * s);
+        bI = r3 * (tmp[1] * c - tmp[0] * s);
+      }
+      if (this.probeAmp !== 0) {
+        const th = 2 * Math.PI * frac(this.probeDet * t1);
+        bR += this.probeAmp * Math.cos(th);
+        bI += this.probeAmp * Math.sin(th);
+      }
+      // ---- field arriving at M2 from M1: e = rho1 Pc v(t1 - tau_L) + w
+      const iv = this.laser.index(l, NL);
+      const vr = this.laser.re[iv];
+      const vi = this.laser.im[iv];
+      const vOld2 = vr * vr + vi * vi;
+      let eR = rho1 * (vr * pcR - vi * pcI);
+      let eI = rho1 * (vr * pcI + vi * pcR);
+      const aheadBase = l * aCap * 2;
+      if (kick > 0) {
+        const zr = kick * this.rng.normal();
+        const zi = kick * this.rng.normal();
+        const taps = this.firR.length;
+        for (let k = 0; k < taps; k++) {
+          const q = aheadBase + 2 * ((aPos + k) & aMask);
+          this.ahead[q] += this.firR[k] * zr - this.firI[k] * zi;
+          this.ahead[q + 1] += this.firR[k] * zi + this.firI[k] * zr;
+        }
+      }
+      {
+        const q = aheadBase + 2 * aPos;
+        const before = eR * eR + eI * eI;
+        eR += this.ahead[q];
+        eI += this.ahead[q + 1];
+        this.ahead[q] = 0;
+        this.ahead[q + 1] = 0;
+        if (eR * eR + eI * eI < FLUSH) {
+          eR = 0;
+          eI = 0;
+        }
+        en.noise += (eR * eR + eI * eI - before) * dt;
+      }
+      const e2 = eR * eR + eI * eI;
+      // ---- M2, the exact lossy beam splitter
+      let uR = r2 * eR;
+      let uI = r2 * eI;
+      if (back) {
+        uR += cpl * bR;
+        uI += cpl * bI;
+      }
+      let aR = cpl * eR - r2 * bR;
+      let aI = cpl * eI - r2 * bI;
+      if (!ext) {
+        aR = 0;
+        aI = 0;
+      }
+      const u2 = uR * uR + uI * uI;
+      const a2 = aR * aR + aI * aI;
+      const b2 = bR * bR + bI * bI;
+      if (ext && back) {
+        const lhs = u2 + a2;
+        const rhs = Rsum * (e2 + b2);
+        const errM2 = rhs > 0 ? Math.abs(lhs - rhs) / rhs : 0;
+        if (errM2 > this.m2Closure[l]) this.m2Closure[l] = errM2;
+      }
+      // ---- the gain medium: K sheets of (1 + D / K), D = G0 - chi0 / 2
+      let xr = uR;
+      let xi = uI;
+      invSat.fill(0);
+      const invBase = l * nI;
+      for (let s = 0; s < K; s++) {
+        const fb = (s * L + l) * F;
+        const xs = s * L + l;
+        const sr = xr + this.xpr[xs];
+        const si = xi + this.xpi[xs];
+        this.xpr[xs] = xr;
+        this.xpi[xs] = xi;
+        let gr = 0;
+        let gi = 0;
+        for (let j = 0; j < F; j++) {
+          const q = fb + j;
+          const y0r = yr[q];
+          const y0i = yi[q];
+          const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
+          const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
+          yr[q] = y1r;
+          yi[q] = y1i;
+          const wn = wA[j] * inv[invBase + iA[j]] + wB[j] * inv[invBase + iB[j]];
+          gr += wn * y1r;
+          gi += wn * y1i;
+          if (s === 0) {
+            const y2 = y1r * y1r + y1i * y1i;
+            invSat[iA[j]] += sA[j] * y2;
+            invSat[iB[j]] += sB[j] * y2;
+          }
+        }
+        // x <- x + (G0[x] - chi0/2 x) / K
+        xr += (hc * gr - hc * xr) / K;
+        xi += (hc * gi - hc * xi) / K;
+      }
+      // overall exp(chi0 / 2) and the alpha phase (alpha / 2) chi0 (nbar - 1)
+      let nbar = 0;
+      if (p.alpha !== 0) {
+        for (let i = 0; i < nI; i++) nbar += this.inv[invBase + i];
+        nbar /= nI;
+      }
+      let vR = eh * xr;
+      let vI = eh * xi;
+      if (p.alpha !== 0) {
+        const ph = alphaHalfChi * (nbar - 1);
+        const c = Math.cos(ph);
+        const s = Math.sin(ph);
+        const r = vR * c - vI * s;
+        vI = vR * s + vI * c;
+        vR = r;
+      }
+      // ---- inversions: exact exponential relaxation towards p / (1 + S / P_sat)
+      for (let i = 0; i < nI; i++) {
+        const S = invSat[i] * satScale;
+        const target = pump / (1 + S);
+        const decay = Math.exp(-(1 + S) * invTauN * dt);
+        const k = invBase + i;
+        this.inv[k] = target + (this.inv[k] - target) * decay;
+      }
+      const v2 = vR * vR + vI * vI;
+      if (!(v2 < 1e30)) {
+        this.failed = true;
+        this.failMessage = `non-finite laser field in lane ${l} at t = ${t1.toExponential(3)} s (round-trip engine)`;
+        return;
+      }
+      this.laser.set(l, vR, vI);
+      if (this.gap) this.gap.set(l, aR, aI);
+      // ---- bookkeeping (docs/model.md §3.5): telescopes exactly to round-off
+      en.gain += (v2 - u2) * dt;
+      en.coldLoss += ((1 - rho1 * rho1) * vOld2 + (1 - p.R2) * e2) * dt;
+      en.injection += (u2 - p.R2 * e2) * dt;
+      if (ext) {
+        en.externalIn += a2 * dt;
+        en.externalLost += aDel2 * dt;
+        en.externalScale += a2 * dt;
+      }
+      this.sumV[l] += v2 - vOld2;
+      // ---- windows over the last round trip
+      const j = l * NL + slot;
+      const eOldR = this.eRe[j];
+      const eOldI = this.eIm[j];
+      const aOldR = this.aRe[j];
+      const aOldI = this.aIm[j];
+      this.sumE[l] += e2 - this.pE[j];
+      this.sumA[l] += a2 - this.pA[j];
+      this.sumB[l] += b2 - this.pB[j];
+      this.pE[j] = e2;
+      this.pA[j] = a2;
+      this.pB[j] = b2;
+      this.eRe[j] = eR;
+      this.eIm[j] = eI;
+      this.aRe[j] = aR;
+      this.aIm[j] = aI;
+      const inv1 = 1 / NL;
+      const mb = l * M;
+      for (let m = 0; m < M; m++) {
+        const cr = this.phr[m];
+        const ci = this.phi[m];
+        // the leaving sample's phasor phi(t1 - tau_L) = phi(t1) * old
+        const or = cr * this.oldR[m] - ci * this.oldI[m];
+        const oi = cr * this.oldI[m] + ci * this.oldR[m];
+        const k = mb + m;
+        this.Er[k] += inv1 * (eR * cr - eI * ci - (eOldR * or - eOldI * oi));
+        this.Ei[k] += inv1 * (eR * ci + eI * cr - (eOldR * oi + eOldI * or));
+        this.ar[k] += inv1 * (aR * cr - aI * ci - (aOldR * or - aOldI * oi));
+        this.ai[k] += inv1 * (aR * ci + aI * cr - (aOldR * oi + aOldI * or));
+        this.br[k] = bR * cr - bI * ci;
+        this.bi[k] = bR * ci + bI * cr;
+        this.N[k] = this.inv[invBase + (nI === 1 ? 0 : this.nearestInversion(m))];
+      }
+    }
+    this.t = t1;
+  }
+
+  /** Inversion index of the Doppler class nearest a mode (homogeneous: the one). */
+  private nearestInversion(m: number): number {
+    if (this.nInv === 1) return 0;
+    // classes are symmetric and evenly spaced; inversion i is the class at centre_Hz[i]
+    const d = this.p.modes.detuning_Hz[m];
+    const c = this.bank.centre_Hz;
+    const step = this.nInv > 1 ? c[1] - c[0] : 1;
+    const i = Math.round((d - c[0]) / step);
+    return Math.min(this.nInv - 1, Math.max(0, i));
+  }
+
+  /** Recompute the demodulation phasors from the time (no drift of the recursion). */
+  private resyncPhasors(t: number): void {
+    const d = this.p.modes.detuning_Hz;
+    for (let m = 0; m < this.M; m++) {
+      const th = -2 * Math.PI * frac(d[m] * t);
+      this.phr[m] = Math.cos(th);
+      this.phi[m] = Math.sin(th);
+    }
+  }
+
+  /** Small-signal complex gain exponent G0 / (chi0 / 2) of the bank at detuning nu (tests, docs). */
+  smallSignal(nu_Hz: number, lane = 0): { re: number; im: number } {
+    const inv = this.inv.subarray(lane * this.nInv, (lane + 1) * this.nInv);
+    return bankResponse(this.bank, nu_Hz, inv);
+  }
+
+  /** Inversions of a lane (copy). */
+  inversions(l: number): number[] {
+    return Array.from(this.inv.subarray(l * this.nInv, (l + 1) * this.nInv));
+  }
+}
+
+/** The step the round-trip engine takes for these parameters. */
+export function roundTripStepFor(p: CoupledParams): RoundTripStep {
+  let maxDet = 0;
+  for (const d of p.modes.detuning_Hz) maxDet = Math.max(maxDet, Math.abs(d));
+  const gapLoss = p.hasExternal ? 1 - p.R2 * p.r3eff * p.r3eff : 0;
+  return chooseRoundTripStep(
+    p.roundTripLaser_s,
+    p.hasExternal ? p.roundTripExternal_s : 0,
+    p.gain,
+    maxDet,
+    p.modes.fsr_Hz,
+    gapLoss,
+  );
+}
+
+/**
+ * FIR taps h_k (complex) whose power response |H(nu)|^2 is the bank's small-signal gain
+ * shape Re sum_j w_j H_j(nu) (1 at the peak): h = inverse DFT of sqrt(shape) on a fine
+ * grid, centred, cut where the tail holds below 1e-4 of the energy.
+ */
+export function noiseFir(bank: PacketBank, dt: number): { re: Float64Array; im: Float64Array } {
+  const Nf = 1024;
+  const amp = new Float64Array(Nf);
+  for (let f = 0; f < Nf; f++) {
+    const nu = (f < Nf / 2 ? f : f - Nf) / (Nf * dt);
+    const g = bankResponse(bank, nu, null).re;
+    amp[f] = Math.sqrt(Math.max(0, g));
+  }
+  // h_k = (1/Nf) sum_f amp_f e^{i 2 pi f k / Nf}, k in [-Nf/2, Nf/2)
+  const hr = new Float64Array(Nf);
+  const hi = new Float64Array(Nf);
+  for (let k = 0; k < Nf; k++) {
+    let re = 0;
+    let im = 0;
+    for (let f = 0; f < Nf; f++) {
+      const th = (2 * Math.PI * f * k) / Nf;
+      re += amp[f] * Math.cos(th);
+      im += amp[f] * Math.sin(th);
+    }
+    hr[k] = re / Nf;
+    hi[k] = im / Nf;
+  }
+  // energy per lag (k and Nf - k are the lags +k and -k)
+  let total = 0;
+  for (let k = 0; k < Nf; k++) total += hr[k] * hr[k] + hi[k] * hi[k];
+  let half = 0;
+  let kept = hr[0] * hr[0] + hi[0] * hi[0];
+  while (half < Nf / 2 - 1 && kept < total * (1 - 1e-4)) {
+    half++;
+    kept +=
+      hr[half] * hr[half] +
+      hi[half] * hi[half] +
+      hr[Nf - half] * hr[Nf - half] +
+      hi[Nf - half] * hi[Nf - half];
+  }
+  // taps in time order: lag -half .. +half (a kick now adds h_{k - half} to step now + k)
+  const n = 2 * half + 1;
+  const re = new Float64Array(n);
+  const im = new Float64Array(n);
+  const norm = Math.sqrt(total / kept);
+  for (let k = 0; k < n; k++) {
+    const lag = k - half;
+    const i = (lag + Nf) % Nf;
+    re[k] = hr[i] * norm;
+    im[k] = hi[i] * norm;
+  }
+  return { re, im };
+}
