@@ -40,26 +40,32 @@ export function engineName(kind: DrivenEngine): string {
 }
 
 /**
- * Largest returned-to-laser power ratio at an external resonance for which a modal engine
- * may stand in for the round-trip engine (docs/model.md §3.7): measured, the static mean gap
- * power of the modal engines is within 2 % of the round-trip engine's below it.
+ * Largest coupling strength X (below) for which a modal engine may stand in for the
+ * round-trip engine (docs/model.md §3.7): measured, the mean gap power of the modal engine
+ * is within 2 % of the round-trip engine's below it (test/engine-choice-roundtrip.test.ts).
  */
-export const MODAL_MAX_RETURN_RATIO = 0.02;
+export const MODAL_MAX_COUPLING = 0.08;
 /** Largest spread of the returned light, as a fraction of the laser mode spacing, for a modal engine. */
 export const MODAL_MAX_SPREAD = 0.1;
 
 /**
- * The a-priori measure of how strongly the gap couples back into the laser: the power the
- * laser mode receives back at an external resonance over its own intracavity power,
- * rho = eta T2 |b|^2 / |E|^2 = (eta T2)^2 R3' / (1 - r2 r3')^2 (0 when the laser ignores its
- * feedback). The modal equation drops the Gires-Tournois return of this light (about
- * T2 of it per bounce) and is first order in it.
+ * The a-priori coupling strength X: how far the gap can move the laser's round-trip loss,
+ * as a fraction of the cold-cavity loss chi0 = gamma_c tau_L. The compound mirror
+ * r_eff(phi) = r2 + eta T2 r3' e^{-i phi} / (1 + r2 r3' e^{-i phi}) (§2.3) swings between
+ * phi = 0 and phi = pi; X = max |ln(|r_eff|^2 / R2)| / chi0 over those two. The modal
+ * equation is first order in the returned field and drops the Gires-Tournois return of
+ * the light that re-enters the laser off its resonance, so its error grows with X. 0 when
+ * the laser ignores its feedback.
  */
-export function returnRatio(p: CoupledParams): number {
+export function couplingStrength(p: CoupledParams): number {
   if (!p.hasExternal || !p.returnToLaser) return 0;
-  const etaT2 = p.feedbackEfficiency * p.T2;
-  const d = 1 - p.r2 * p.r3eff;
-  return d > 0 ? (etaT2 * etaT2 * p.r3eff * p.r3eff) / (d * d) : Infinity;
+  const chi0 = p.gammaC * p.roundTripLaser_s;
+  const k = p.feedbackEfficiency * p.T2 * p.r3eff;
+  const rPlus = p.r2 + k / (1 + p.r2 * p.r3eff);
+  const rMinus = p.r2 - k / (1 - p.r2 * p.r3eff);
+  if (!(chi0 > 0) || p.R2 <= 0) return Infinity;
+  const x = (r: number) => Math.abs(Math.log((r * r) / p.R2)) / chi0;
+  return Math.max(x(rPlus), rMinus > 0 ? x(rMinus) : Infinity);
 }
 
 /** Largest round-trip phase change, as a fraction of the resonance width 2 pi / F, for the mean-field engine. */
@@ -69,7 +75,7 @@ export interface EnginePlan {
   static: { kind: EngineKind; dt: number };
   driven: { kind: DrivenEngine; dt: number; reason: string; warning: string | null };
   /** why the round-trip engine was or was not needed */
-  modal: { allowed: boolean; returnRatio: number; spreadFraction: number; reason: string };
+  modal: { allowed: boolean; coupling: number; spreadFraction: number; reason: string };
   /** the round-trip engine's step, s */
   roundTripStep_s: number;
   /** quantities the choice was made from */
@@ -123,18 +129,19 @@ export function planEngines(
           : 'auto';
   const m = planModalEngines(s, p, finesse, regrowth_s, modalRequest);
   const rt = roundTripStepFor(p).dt;
-  const rho = returnRatio(p);
+  const X = couplingStrength(p);
   const F = Number.isFinite(finesse) && finesse > 0 ? finesse : 1;
   const spread = ((F / Math.PI) * 2 * m.basis.peakSpeed_m_s) / s.laser.wavelength;
-  const spreadFraction = p.modes.fsr_Hz > 0 ? spread / p.modes.fsr_Hz : 0;
+  // the spread matters only to a laser that feels the returned light
+  const spreadFraction = p.returnToLaser && p.modes.fsr_Hz > 0 ? spread / p.modes.fsr_Hz : 0;
   const fmt = (x: number) => x.toPrecision(3);
-  const allowed = rho <= MODAL_MAX_RETURN_RATIO && spreadFraction <= MODAL_MAX_SPREAD;
+  const allowed = X <= MODAL_MAX_COUPLING && spreadFraction <= MODAL_MAX_SPREAD;
   const modalReason = allowed
-    ? `weak coupling: returned-to-laser power ratio at resonance ${fmt(rho)} <= ${MODAL_MAX_RETURN_RATIO}, spread of the returned light ${fmt(100 * spreadFraction)} % of the mode spacing`
-    : rho > MODAL_MAX_RETURN_RATIO
-      ? `strong coupling: returned-to-laser power ratio at resonance ${fmt(rho)} > ${MODAL_MAX_RETURN_RATIO}`
+    ? `weak coupling: the gap moves the laser's round-trip loss by at most ${fmt(X)} of itself (<= ${MODAL_MAX_COUPLING}), spread of the returned light ${fmt(100 * spreadFraction)} % of the mode spacing`
+    : X > MODAL_MAX_COUPLING
+      ? `strong coupling: the gap moves the laser's round-trip loss by up to ${fmt(X)} of itself (> ${MODAL_MAX_COUPLING})`
       : `spread of the returned light ${fmt(100 * spreadFraction)} % of the laser mode spacing > ${100 * MODAL_MAX_SPREAD} %`;
-  const modal = { allowed, returnRatio: rho, spreadFraction, reason: modalReason };
+  const modal = { allowed, coupling: X, spreadFraction, reason: modalReason };
   const rtStatic = { kind: 'roundtrip' as const, dt: rt };
   const plan = (st: EnginePlan['static'], dr: EnginePlan['driven']): EnginePlan => ({
     static: st,

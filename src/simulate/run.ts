@@ -97,6 +97,17 @@ export function staticSettleTime(p: CoupledParams): number {
   return Math.min(40e-6, Math.max(4e-6, 40 * response));
 }
 
+/**
+ * Settle time per static position on the round-trip engine, s: 10 response times, at
+ * least 1 us (docs/model.md §4.1). Each position starts from its settled neighbour a
+ * fraction of a resonance width away, so the transient left is small; the refinement's
+ * convergence test (the mean moving < 1 % per doubling) guards the mean. The modal
+ * engines keep 40 response times (they are 10-40 times cheaper per simulated second).
+ */
+export function roundTripStaticSettleTime(p: CoupledParams): number {
+  return Math.max(1e-6, staticSettleTime(p) / 4);
+}
+
 /** Which engine settles the static reference: the exact one when the exact engine is requested, else the planner's choice. */
 function staticEngineRequest(s: Scenario, opts: RunOptions): EngineRequest {
   const r = opts.engine ?? s.simulation.engine;
@@ -121,7 +132,7 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
     stat = staticReference(params, {
       positions: s.simulation.static_positions,
       finesse: derived.finesse_external,
-      settle_s: staticSettleTime(params),
+      settle_s: plan.static.kind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
       dt: plan.static.dt,
       engine: plan.static.kind,
       halfWavelength_m: s.laser.wavelength / 2,

@@ -40,6 +40,14 @@ import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-
 import { chooseRoundTripStep, RoundTripStep } from './roundtrip-step';
 
 const FLUSH = 1e-150;
+const ACC_GAIN = 0;
+const ACC_COLD = 1;
+const ACC_INJ = 2;
+const ACC_NOISE = 3;
+const ACC_EXT_IN = 4;
+const ACC_EXT_LOST = 5;
+const ACC_EXT_SCALE = 6;
+const ACC = 7;
 /** Largest |D / K| per gain sheet. */
 export const SHEET_LIMIT = 0.1;
 
@@ -62,7 +70,6 @@ export class RoundTripEngine implements LaneEngine {
   readonly br: Float64Array;
   readonly bi: Float64Array;
   readonly offset: Float64Array;
-  energy: LaneEnergy[];
   failed = false;
   failMessage = '';
   readonly step: RoundTripStep;
@@ -72,6 +79,10 @@ export class RoundTripEngine implements LaneEngine {
   /** worst relative error of the M2 scattering identity seen per lane since the last reset */
   readonly m2Closure: Float64Array;
 
+  /** energy accumulators per lane (ACC slots, see ACC_*), J: typed storage keeps the loop free of allocation */
+  private readonly acc: Float64Array;
+  /** stored laser and gap energy at the start of the bookkeeping, per lane */
+  private readonly start: Float64Array;
   private readonly NL: number;
   private readonly laser: ComplexDelayLines;
   private readonly gap: ComplexDelayLines | null;
@@ -154,7 +165,8 @@ export class RoundTripEngine implements LaneEngine {
     this.br = new Float64Array(LM);
     this.bi = new Float64Array(LM);
     this.offset = new Float64Array(lanes);
-    this.energy = Array.from({ length: lanes }, () => emptyEnergy());
+    this.acc = new Float64Array(lanes * ACC);
+    this.start = new Float64Array(lanes * 2);
     this.m2Closure = new Float64Array(lanes);
     this.laser = new ComplexDelayLines(lanes, 2 * this.NL);
     if (p.hasExternal) {
@@ -441,13 +453,30 @@ export class RoundTripEngine implements LaneEngine {
   }
 
   resetEnergy(): void {
+    this.acc.fill(0);
     for (let l = 0; l < this.L; l++) {
-      const e = emptyEnergy();
-      e.laserStart = this.laserEnergy(l);
-      e.externalStart = this.externalEnergy(l);
-      this.energy[l] = e;
+      this.start[2 * l] = this.laserEnergy(l);
+      this.start[2 * l + 1] = this.externalEnergy(l);
       this.m2Closure[l] = 0;
     }
+  }
+
+  /** Per-lane energy bookkeeping (docs/model.md §3.5), J; no interface mismatch (M2 is exact). */
+  get energy(): LaneEnergy[] {
+    return Array.from({ length: this.L }, (_, l) => {
+      const a = l * ACC;
+      const e = emptyEnergy();
+      e.laserStart = this.start[2 * l];
+      e.externalStart = this.start[2 * l + 1];
+      e.gain = this.acc[a + ACC_GAIN];
+      e.coldLoss = this.acc[a + ACC_COLD];
+      e.injection = this.acc[a + ACC_INJ];
+      e.noise = this.acc[a + ACC_NOISE];
+      e.externalIn = this.acc[a + ACC_EXT_IN];
+      e.externalLost = this.acc[a + ACC_EXT_LOST];
+      e.externalScale = this.acc[a + ACC_EXT_SCALE];
+      return e;
+    });
   }
 
   /** Light stored in the laser's delay line: dt sum |v|^2 over one round trip, J. */
@@ -578,7 +607,8 @@ export class RoundTripEngine implements LaneEngine {
     const etaT2 = cpl * cpl;
     const Rsum = p.R2 + etaT2;
     for (let l = 0; l < L; l++) {
-      const en = this.energy[l];
+      const ea = l * ACC;
+      const acc = this.acc;
       // ---- returned field b(t1) from the gap's history
       let bR = 0;
       let bI = 0;
@@ -632,7 +662,7 @@ export class RoundTripEngine implements LaneEngine {
           eR = 0;
           eI = 0;
         }
-        en.noise += (eR * eR + eI * eI - before) * dt;
+        acc[ea + ACC_NOISE] += (eR * eR + eI * eI - before) * dt;
       }
       const e2 = eR * eR + eI * eI;
       // ---- M2, the exact lossy beam splitter
@@ -709,12 +739,16 @@ export class RoundTripEngine implements LaneEngine {
         vR = r;
       }
       // ---- inversions: exact exponential relaxation towards p / (1 + S / P_sat)
+      // (the relaxation factor e^{-x}, x = (1 + S) dt / tau_N, to third order where x is small:
+      // the steady state is the target exactly either way)
+      const x0 = invTauN * dt;
       for (let i = 0; i < nI; i++) {
         const S = invSat[i] * satScale;
         const target = pump / (1 + S);
-        const decay = Math.exp(-(1 + S) * invTauN * dt);
+        const xr = (1 + S) * x0;
+        const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
         const k = invBase + i;
-        this.inv[k] = target + (this.inv[k] - target) * decay;
+        inv[k] = target + (inv[k] - target) * decay;
       }
       const v2 = vR * vR + vI * vI;
       if (!(v2 < 1e30)) {
@@ -725,13 +759,13 @@ export class RoundTripEngine implements LaneEngine {
       this.laser.set(l, vR, vI);
       if (this.gap) this.gap.set(l, aR, aI);
       // ---- bookkeeping (docs/model.md §3.5): telescopes exactly to round-off
-      en.gain += (v2 - u2) * dt;
-      en.coldLoss += ((1 - rho1 * rho1) * vOld2 + (1 - p.R2) * e2) * dt;
-      en.injection += (u2 - p.R2 * e2) * dt;
+      acc[ea + ACC_GAIN] += (v2 - u2) * dt;
+      acc[ea + ACC_COLD] += ((1 - rho1 * rho1) * vOld2 + (1 - p.R2) * e2) * dt;
+      acc[ea + ACC_INJ] += (u2 - p.R2 * e2) * dt;
       if (ext) {
-        en.externalIn += a2 * dt;
-        en.externalLost += aDel2 * dt;
-        en.externalScale += a2 * dt;
+        acc[ea + ACC_EXT_IN] += a2 * dt;
+        acc[ea + ACC_EXT_LOST] += aDel2 * dt;
+        acc[ea + ACC_EXT_SCALE] += a2 * dt;
       }
       this.sumV[l] += v2 - vOld2;
       // ---- windows over the last round trip
