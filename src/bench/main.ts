@@ -8,6 +8,7 @@ import * as fs from 'node:fs';
 import * as os from 'node:os';
 import * as path from 'node:path';
 import { BENCH_JSON, BENCH_PROFILE, benchScenario, DEMO_FILE, loadDemo } from './profile';
+import { measureRoundTrip } from './roundtrip-rate';
 import { measureExactVsBare } from './exact-rate';
 import { fastValidSpeed, measureFastSpeedup } from './fast-speedup';
 import { measureMap } from './map-timing';
@@ -53,6 +54,12 @@ async function main(): Promise<void> {
     `demo: ${DEMO_FILE}; ${os.cpus().length} cpus, node ${process.version}, load average ${loadStart.map((x) => x.toFixed(2)).join(' ')}`,
   );
 
+  log("r. round-trip engine against its bare loop, and every engine's throughput");
+  const rt = measureRoundTrip(demo, { lanes: 8, steps: 20000, rounds: 3, log });
+  log(
+    `r. round-trip ${(rt.roundtrip_lane_steps_per_s / 1e6).toFixed(3)} M lane-steps/s, bare ${(rt.bare_loop_lane_steps_per_s / 1e6).toFixed(3)} M: ratio ${rt.roundtrip_vs_bare_ratio.toFixed(2)} (agreement ${rt.bare_vs_engine_max_rel_diff.toExponential(1)})`,
+  );
+
   log('a. exact engine against the bare loop');
   const a = measureExactVsBare(demo, { ...BENCH_SETTINGS.exact, log });
 
@@ -94,6 +101,7 @@ async function main(): Promise<void> {
 
   const holds = {
     exact_vs_bare_ratio: a.exact_vs_bare_ratio >= TARGETS.exact_vs_bare_ratio,
+    roundtrip_vs_bare_ratio: rt.roundtrip_vs_bare_ratio >= TARGETS.exact_vs_bare_ratio,
     map_wall_s_jobs2: c.map_wall_s_jobs2 <= TARGETS.map_wall_s_jobs2,
     jobs2_speedup: c.jobs2_speedup >= TARGETS.jobs2_speedup,
     rss_ratio: Math.abs(d.ratio - 1) <= TARGETS.rss_ratio - 1,
@@ -116,6 +124,11 @@ async function main(): Promise<void> {
       load_average_end: os.loadavg(),
     },
     scenario: path.relative(path.resolve(__dirname, '..', '..'), DEMO_FILE),
+    roundtrip_lane_steps_per_s: rt.roundtrip_lane_steps_per_s,
+    roundtrip_bare_loop_lane_steps_per_s: rt.bare_loop_lane_steps_per_s,
+    roundtrip_vs_bare_ratio: rt.roundtrip_vs_bare_ratio,
+    roundtrip_bare_max_rel_diff: rt.bare_vs_engine_max_rel_diff,
+    simulated_lane_s_per_s: rt.simulated_lane_s_per_s,
     exact_mode_steps_per_s: a.exact_mode_steps_per_s,
     bare_loop_mode_steps_per_s: a.bare_loop_mode_steps_per_s,
     exact_vs_bare_ratio: a.exact_vs_bare_ratio,
@@ -132,6 +145,10 @@ async function main(): Promise<void> {
     rss_long_over_short: d.ratio,
     targets: {
       exact_vs_bare_ratio: { target: `>= ${TARGETS.exact_vs_bare_ratio}`, holds: holds.exact_vs_bare_ratio },
+      roundtrip_vs_bare_ratio: {
+        target: `>= ${TARGETS.exact_vs_bare_ratio}`,
+        holds: holds.roundtrip_vs_bare_ratio,
+      },
       map_wall_s_jobs2: { target: `<= ${TARGETS.map_wall_s_jobs2} s`, holds: holds.map_wall_s_jobs2 },
       jobs2_speedup: { target: `>= ${TARGETS.jobs2_speedup}`, holds: holds.jobs2_speedup },
       rss_long_over_short: {

@@ -132,7 +132,8 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
     stat = staticReference(params, {
       positions: s.simulation.static_positions,
       finesse: derived.finesse_external,
-      settle_s: plan.static.kind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
+      settle_s:
+        plan.static.kind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
       dt: plan.static.dt,
       engine: plan.static.kind,
       halfWavelength_m: s.laser.wavelength / 2,
@@ -309,7 +310,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       }
       // MODEL.md 3.1: the mean-field laser equation needs the returned light's spread well below FSR1
       const spreadDoppler = ((F / Math.PI) * (2 * vPeak)) / lambda;
-      if (spreadDoppler > 0.2 * derived.fsr_laser_Hz) {
+      if (engine !== 'roundtrip' && spreadDoppler > 0.2 * derived.fsr_laser_Hz) {
         warnings.push({
           code: 'doppler-spread',
           message: `frequency spread of the returned light (F/pi) 2 v / lambda = ${(spreadDoppler / 1e6).toFixed(1)} MHz reaches ${((100 * spreadDoppler) / derived.fsr_laser_Hz).toFixed(0)} % of the laser mode spacing; the per-mode mean-field model is strained`,
