@@ -74,6 +74,10 @@ function bareLoop(
   const xpi = Float64Array.from(st.xpi);
   const inv = Float64Array.from(st.inv);
   const sat = new Float64Array(nI);
+  const wEff = Float64Array.from((e as unknown as { wEff: Float64Array }).wEff);
+  const ySq = Float64Array.from((e as unknown as { ySq: Float64Array }).ySq);
+  const invEvery = e.invEvery;
+  let invCount = (e as unknown as { invCount: number }).invCount;
   const w = new Float64Array(4);
   const offs = Float64Array.from(e.offset);
   const c = 299792458;
@@ -129,6 +133,9 @@ function bareLoop(
     lhead = (lhead + 1) & lmask;
     ghead = (ghead + 1) & gmask;
     slot = (slot + 1) % NL;
+    const updateInv = ++invCount >= invEvery;
+    const invSteps = invCount;
+    if (updateInv) invCount = 0;
     for (let m = 0; m < M; m++) {
       const r = phr[m] * rotR[m] - phi[m] * rotI[m];
       phi[m] = phr[m] * rotI[m] + phi[m] * rotR[m];
@@ -169,7 +176,6 @@ function bareLoop(
       xpi[l] = uI;
       let gr = 0;
       let gi = 0;
-      sat.fill(0);
       const ib = l * nI;
       for (let j = 0; j < F; j++) {
         const q = fb + j;
@@ -179,21 +185,30 @@ function bareLoop(
         const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
         yr[q] = y1r;
         yi[q] = y1i;
-        const wn = wA[j] * inv[ib + iA[j]] + wB[j] * inv[ib + iB[j]];
+        const wn = wEff[q];
         gr += wn * y1r;
         gi += wn * y1i;
-        const y2 = y1r * y1r + y1i * y1i;
-        sat[iA[j]] += sA[j] * y2;
-        sat[iB[j]] += sB[j] * y2;
+        ySq[q] += y1r * y1r + y1i * y1i;
       }
       const vR = eh * (uR + (hc * gr - hc * uR));
       const vI = eh * (uI + (hc * gi - hc * uI));
-      for (let i = 0; i < nI; i++) {
-        const S = sat[i] * satScale;
-        const target = pump / (1 + S);
-        const xr = (1 + S) * x0;
-        const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
-        inv[ib + i] = target + (inv[ib + i] - target) * decay;
+      if (updateInv) {
+        sat.fill(0);
+        for (let j = 0; j < F; j++) {
+          sat[iA[j]] += sA[j] * ySq[fb + j];
+          sat[iB[j]] += sB[j] * ySq[fb + j];
+          ySq[fb + j] = 0;
+        }
+        const xh = x0 * invSteps;
+        const norm = satScale / invSteps;
+        for (let i = 0; i < nI; i++) {
+          const S = sat[i] * norm;
+          const target = pump / (1 + S);
+          const xr = (1 + S) * xh;
+          const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
+          inv[ib + i] = target + (inv[ib + i] - target) * decay;
+        }
+        for (let j = 0; j < F; j++) wEff[fb + j] = wA[j] * inv[ib + iA[j]] + wB[j] * inv[ib + iB[j]];
       }
       lre[l * lcap + lhead] = vR;
       lim[l * lcap + lhead] = vI;

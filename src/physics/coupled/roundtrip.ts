@@ -109,6 +109,17 @@ export class RoundTripEngine implements LaneEngine {
   private readonly inv: Float64Array;
   private readonly nInv: number;
   private readonly invSat: Float64Array;
+  /** per (lane, filter): effective gain weight wA n[iA] + wB n[iB], refreshed with the inversions */
+  private readonly wEff: Float64Array;
+  /** per (lane, filter): sum of |y|^2 since the last inversion update */
+  private readonly ySq: Float64Array;
+  /** per lane: the peak-normalised mean inversion (for alpha) */
+  private readonly nbar: Float64Array;
+  /** inversions are advanced every invEvery steps with the mean saturating power of those steps */
+  readonly invEvery: number;
+  private invCount = 0;
+  /** inversion index nearest each mode (for the N array of the interface) */
+  private readonly modeInv: Int32Array;
   /** demodulation phasors phi_m = exp(-i 2 pi delta_m t) and the per-step rotation */
   private readonly phr: Float64Array;
   private readonly phi: Float64Array;
@@ -205,6 +216,14 @@ export class RoundTripEngine implements LaneEngine {
     this.nInv = this.bank.inversions;
     this.inv = new Float64Array(lanes * this.nInv).fill(1);
     this.invSat = new Float64Array(this.nInv);
+    this.wEff = new Float64Array(lanes * F);
+    this.ySq = new Float64Array(lanes * F);
+    this.nbar = new Float64Array(lanes).fill(1);
+    // 3 % of tau_N between inversion updates (at most 8 steps): the inversion relaxes over
+    // tau_N / (1 + S), and what it integrates, the saturating power, is summed every step
+    this.invEvery = Math.max(1, Math.min(8, Math.floor((0.03 * p.tauN) / dt)));
+    this.modeInv = Int32Array.from(p.modes.detuning_Hz, (_, m) => this.nearestInversion(m));
+    for (let l = 0; l < lanes; l++) this.refreshWeights(l);
     // demodulation at the cold-cavity modes (detuning from the gain peak = carrier)
     const M = p.M;
     this.phr = new Float64Array(M).fill(1);
@@ -294,6 +313,8 @@ export class RoundTripEngine implements LaneEngine {
       this.laser.im[i] = s * im;
     }
     this.inv.fill(1, l * this.nInv, (l + 1) * this.nInv);
+    this.refreshWeights(l);
+    this.ySq.fill(0, l * this.bank.filters, (l + 1) * this.bank.filters);
     for (let m = 0; m < M; m++) {
       this.N[l * M + m] = N[m] ?? 1;
       this.Er[l * M + m] = Er[m];
@@ -381,6 +402,11 @@ export class RoundTripEngine implements LaneEngine {
     this.copyFilters(src, from, to);
     const nI = this.nInv;
     for (let i = 0; i < nI; i++) this.inv[to * nI + i] = src.inv[from * nI + i];
+    this.refreshWeights(to);
+    // the saturating power summed since the source's last update, rescaled to this engine's count
+    const F = this.bank.filters;
+    const scale = src.invCount > 0 ? this.invCount / src.invCount : 0;
+    for (let j = 0; j < F; j++) this.ySq[to * F + j] = src.ySq[from * F + j] * scale;
     this.copyWindows(src, from, to);
   }
 
@@ -553,9 +579,7 @@ export class RoundTripEngine implements LaneEngine {
     const bank = this.bank;
     const F = bank.filters;
     const K = this.sheets;
-    const wA = bank.weightA,
-      wB = bank.weightB,
-      iA = bank.invA,
+    const iA = bank.invA,
       iB = bank.invB,
       sA = bank.satA,
       sB = bank.satB;
@@ -582,6 +606,10 @@ export class RoundTripEngine implements LaneEngine {
     const invSat = this.invSat;
     const satScale = this.satScale;
     const tmp = this.tmp;
+    // inversion cadence
+    const updateInv = ++this.invCount >= this.invEvery;
+    const invSteps = this.invCount;
+    if (updateInv) this.invCount = 0;
     // noise cadence
     let kick = 0;
     if (++this.noiseCount >= this.noiseEvery) {
@@ -690,8 +718,10 @@ export class RoundTripEngine implements LaneEngine {
       // ---- the gain medium: K sheets of (1 + D / K), D = G0 - chi0 / 2
       let xr = uR;
       let xi = uI;
-      invSat.fill(0);
       const invBase = l * nI;
+      const fl = l * F;
+      const wE = this.wEff;
+      const ySq = this.ySq;
       for (let s = 0; s < K; s++) {
         const fb = (s * L + l) * F;
         const xs = s * L + l;
@@ -701,21 +731,32 @@ export class RoundTripEngine implements LaneEngine {
         this.xpi[xs] = xi;
         let gr = 0;
         let gi = 0;
-        for (let j = 0; j < F; j++) {
-          const q = fb + j;
-          const y0r = yr[q];
-          const y0i = yi[q];
-          const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
-          const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
-          yr[q] = y1r;
-          yi[q] = y1i;
-          const wn = wA[j] * inv[invBase + iA[j]] + wB[j] * inv[invBase + iB[j]];
-          gr += wn * y1r;
-          gi += wn * y1i;
-          if (s === 0) {
-            const y2 = y1r * y1r + y1i * y1i;
-            invSat[iA[j]] += sA[j] * y2;
-            invSat[iB[j]] += sB[j] * y2;
+        if (s === 0) {
+          for (let j = 0; j < F; j++) {
+            const q = fb + j;
+            const y0r = yr[q];
+            const y0i = yi[q];
+            const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
+            const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
+            yr[q] = y1r;
+            yi[q] = y1i;
+            const wn = wE[fl + j];
+            gr += wn * y1r;
+            gi += wn * y1i;
+            ySq[fl + j] += y1r * y1r + y1i * y1i;
+          }
+        } else {
+          for (let j = 0; j < F; j++) {
+            const q = fb + j;
+            const y0r = yr[q];
+            const y0i = yi[q];
+            const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
+            const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
+            yr[q] = y1r;
+            yi[q] = y1i;
+            const wn = wE[fl + j];
+            gr += wn * y1r;
+            gi += wn * y1i;
           }
         }
         // x <- x + (G0[x] - chi0/2 x) / K
@@ -723,32 +764,39 @@ export class RoundTripEngine implements LaneEngine {
         xi += (hc * gi - hc * xi) / K;
       }
       // overall exp(chi0 / 2) and the alpha phase (alpha / 2) chi0 (nbar - 1)
-      let nbar = 0;
-      if (p.alpha !== 0) {
-        for (let i = 0; i < nI; i++) nbar += this.inv[invBase + i];
-        nbar /= nI;
-      }
       let vR = eh * xr;
       let vI = eh * xi;
       if (p.alpha !== 0) {
-        const ph = alphaHalfChi * (nbar - 1);
+        const ph = alphaHalfChi * (this.nbar[l] - 1);
         const c = Math.cos(ph);
         const s = Math.sin(ph);
         const r = vR * c - vI * s;
         vI = vR * s + vI * c;
         vR = r;
       }
-      // ---- inversions: exact exponential relaxation towards p / (1 + S / P_sat)
-      // (the relaxation factor e^{-x}, x = (1 + S) dt / tau_N, to third order where x is small:
-      // the steady state is the target exactly either way)
-      const x0 = invTauN * dt;
-      for (let i = 0; i < nI; i++) {
-        const S = invSat[i] * satScale;
-        const target = pump / (1 + S);
-        const xr = (1 + S) * x0;
-        const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
-        const k = invBase + i;
-        inv[k] = target + (inv[k] - target) * decay;
+      // ---- inversions every invEvery steps: exact exponential relaxation over those steps
+      // towards p / (1 + S / P_sat), S their mean saturating power (the relaxation factor
+      // e^{-x}, x = (1 + S) h / tau_N, to third order where x is small: the steady state is
+      // the target exactly either way)
+      if (updateInv) {
+        invSat.fill(0);
+        for (let j = 0; j < F; j++) {
+          const y2 = ySq[fl + j];
+          invSat[iA[j]] += sA[j] * y2;
+          invSat[iB[j]] += sB[j] * y2;
+          ySq[fl + j] = 0;
+        }
+        const x0 = invTauN * dt * invSteps;
+        const norm = satScale / invSteps;
+        for (let i = 0; i < nI; i++) {
+          const S = invSat[i] * norm;
+          const target = pump / (1 + S);
+          const xr = (1 + S) * x0;
+          const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
+          const k = invBase + i;
+          inv[k] = target + (inv[k] - target) * decay;
+        }
+        this.refreshWeights(l);
       }
       const v2 = vR * vR + vI * vI;
       if (!(v2 < 1e30)) {
@@ -799,10 +847,24 @@ export class RoundTripEngine implements LaneEngine {
         this.ai[k] += inv1 * (aR * ci + aI * cr - (aOldR * oi + aOldI * or));
         this.br[k] = bR * cr - bI * ci;
         this.bi[k] = bR * ci + bI * cr;
-        this.N[k] = this.inv[invBase + (nI === 1 ? 0 : this.nearestInversion(m))];
+        this.N[k] = inv[invBase + this.modeInv[m]];
       }
     }
     this.t = t1;
+  }
+
+  /** Effective gain weight of every filter of a lane from its inversions, and the mean inversion. */
+  private refreshWeights(l: number): void {
+    const b = this.bank;
+    const F = b.filters;
+    const nI = this.nInv;
+    const base = l * nI;
+    for (let j = 0; j < F; j++)
+      this.wEff[l * F + j] =
+        b.weightA[j] * this.inv[base + b.invA[j]] + b.weightB[j] * this.inv[base + b.invB[j]];
+    let s = 0;
+    for (let i = 0; i < nI; i++) s += this.inv[base + i];
+    this.nbar[l] = s / nI;
   }
 
   /** Inversion index of the Doppler class nearest a mode (homogeneous: the one). */
