@@ -98,14 +98,16 @@ export function staticSettleTime(p: CoupledParams): number {
 }
 
 /**
- * Settle time per static position on the round-trip engine, s: 10 response times, at
- * least 1 us (docs/model.md §4.1). Each position starts from its settled neighbour a
+ * Settle time per static position on the round-trip engine, s: 10 response times (the
+ * photon lifetimes of laser and gap, tau_N), at most 10 us (docs/model.md §4.1). Each position starts from its settled neighbour a
  * fraction of a resonance width away, so the transient left is small; the refinement's
  * convergence test (the mean moving < 1 % per doubling) guards the mean. The modal
  * engines keep 40 response times (they are 10-40 times cheaper per simulated second).
  */
 export function roundTripStaticSettleTime(p: CoupledParams): number {
-  return Math.max(1e-6, staticSettleTime(p) / 4);
+  const extPhoton = p.hasExternal ? p.roundTripExternal_s / Math.max(1e-12, 1 - (p.r2 * p.r3eff) ** 2) : 0;
+  const response = Math.max(1 / p.gammaC, extPhoton, p.tauN);
+  return Math.min(10e-6, 10 * response);
 }
 
 /** Which engine settles the static reference: the exact one when the exact engine is requested, else the planner's choice. */
