@@ -23,12 +23,12 @@ describe('decoupling rule against the simulated amplitude sweep', () => {
       'simulation.static_positions': 256,
       'drive.frequency': '200 kHz',
     });
-    const refs = computeReferences(base, { engine: 'exact' });
+    const refs = computeReferences(base, { engine: 'modal' });
     const f = base.drive.frequency;
     const amplitudes = [150e-9, 300e-9, 600e-9, 1200e-9];
     const runs = amplitudes.map(
       (a) =>
-        runScenario(withOverrides(base, { 'drive.amplitude': a }), { references: refs, engine: 'exact' })
+        runScenario(withOverrides(base, { 'drive.amplitude': a }), { references: refs, engine: 'modal' })
           .summary,
     );
     const classes = runs.map((r) => r.driven?.class);

@@ -87,7 +87,7 @@ describe('step convergence and reproducibility of a run', () => {
         roundtrip_efficiency: 1,
       },
       drive: { waveform: 'sine', amplitude: '300 nm', frequency: '1 MHz' },
-      simulation: { engine: 'exact', substeps, drive_offsets: 2, periods: 4, static_positions: 16, seed: 3 },
+      simulation: { engine: 'modal', substeps, drive_offsets: 2, periods: 4, static_positions: 16, seed: 3 },
       // a wide detection band keeps the analysed window at 4 us
       analysis: { detection_bandwidth: '1 MHz' },
     });
@@ -99,7 +99,7 @@ describe('step convergence and reproducibility of a run', () => {
     const again = runScenario(mk(2)).summary;
     expect(a.status).toBe('ok');
     expect(b.status).toBe('ok');
-    expect(a.engine).toBe('exact');
+    expect(a.engine).toBe('modal');
     const ma = a.driven!.external_mean_W;
     const mb = b.driven!.external_mean_W;
     expect(ma).toBeGreaterThan(0);

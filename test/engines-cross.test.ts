@@ -107,8 +107,8 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
       if (c.classA !== undefined) expect(paramsOf(s).classA).toBe(c.classA);
       const exact = runWith(s, 'exact');
       const fast = runWith(s, 'fast');
-      expect(exact.engine).toBe('exact');
-      expect(fast.engine).toBe('fast');
+      expect(exact.engine).toBe('modal');
+      expect(fast.engine).toBe('meanfield');
       // no validity warning on the requested mean field: the run agrees it is in range
       expect(fast.warnings).not.toContain('engine-validity');
       expect(exact.status).toBe('ok');

@@ -33,7 +33,7 @@ describe('incoherent fraction of a driven run', () => {
       // rest offset (with a sine, the offsets and Bessel factors J0 of the Airy harmonics
       // leave several per cent).
       drive: { waveform: 'triangle', amplitude: 632.8e-9 / 2, frequency },
-      simulation: { engine: 'exact', drive_offsets: 4, periods: 4, static_positions: 16, seed: 3 },
+      simulation: { engine: 'modal', drive_offsets: 4, periods: 4, static_positions: 16, seed: 3 },
       analysis: { detection_bandwidth: '1 MHz' },
     });
 
@@ -82,7 +82,7 @@ describe('incoherent fraction of a driven run', () => {
         return_to_laser: false,
       },
       drive: { waveform: 'triangle', amplitude: 632.8e-9 / 2, frequency: '100 kHz' },
-      simulation: { engine: 'exact', drive_offsets: 4, periods: 4, static_positions: 16, seed: 3 },
+      simulation: { engine: 'modal', drive_offsets: 4, periods: 4, static_positions: 16, seed: 3 },
       analysis: { detection_bandwidth: '1 MHz' },
     });
     const r = runScenario(s).summary;

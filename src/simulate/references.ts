@@ -227,6 +227,18 @@ export const STATIC_REGROWTH_s = 16e-6;
 /** Most positions the automatic static reference refines to. */
 export const STATIC_MAX_POSITIONS = 8192;
 
+/** The mean of two neighbours' settled means (a midpoint on a smooth stretch of the static curve). */
+function averageMeans(a: LaneMeans, b: LaneMeans): LaneMeans {
+  return {
+    external_W: 0.5 * (a.external_W + b.external_W),
+    laserOutput_W: 0.5 * (a.laserOutput_W + b.laserOutput_W),
+    intracavity_W: 0.5 * (a.intracavity_W + b.intracavity_W),
+    dominant: a.dominant,
+    modePowers_W: a.modePowers_W.map((v, m) => 0.5 * (v + b.modePowers_W[m])),
+    returned_W: 0.5 * (a.returned_W + b.returned_W),
+  };
+}
+
 /** The static reference: settled power versus mirror position over half a wavelength. */
 export interface StaticResult {
   positions_m: number[];
@@ -263,7 +275,18 @@ export interface StaticOptions {
   rng: NormalSource;
   /** which engine settles the positions (the fast one has the same steady states) */
   engine: EngineKind;
+  /**
+   * once the grid holds a position per resonance width (N >= F), refine only where the curve
+   * changes (docs/model.md §4.1): a midpoint is settled when its
+   * two neighbours differ in gap power by more than STATIC_ACTIVE_REL of the mean level, in
+   * dominant mode, or between their up and down branches; elsewhere it takes the mean of its
+   * neighbours (and the left neighbour's settled state)
+   */
+  adaptive?: boolean;
 }
+
+/** Difference between neighbouring static positions (relative to the curve's mean) that makes their midpoint worth settling. */
+export const STATIC_ACTIVE_REL = 0.02;
 
 /**
  * Settle the system with the actuator off at N positions over half a wavelength,
@@ -398,26 +421,54 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       STATIC_MAX_POSITIONS,
       Math.max(64, 2 * (o.finesse !== undefined && Number.isFinite(o.finesse) ? o.finesse : 1)),
     );
+    // refine everywhere until the grid holds one position per resonance width (N >= F), so
+    // no resonance can hide between two positions; adaptively after that
+    const fineEnough = o.finesse !== undefined && Number.isFinite(o.finesse) ? o.finesse : Infinity;
     while (N < STATIC_MAX_POSITIONS) {
+      const upL = up as LaneMeans[];
+      const downL = down as LaneMeans[];
+      const level = meanOf(up, down);
+      // which intervals (j, j + 1) get a settled midpoint
+      const active: number[] = [];
+      for (let j = 0; j < N; j++) {
+        const k = (j + 1) % N;
+        const busy =
+          !o.adaptive ||
+          N < fineEnough ||
+          Math.abs(upL[j].external_W - upL[k].external_W) > STATIC_ACTIVE_REL * level ||
+          Math.abs(downL[j].external_W - downL[k].external_W) > STATIC_ACTIVE_REL * level ||
+          Math.abs(upL[j].external_W - downL[j].external_W) > STATIC_ACTIVE_REL * level ||
+          Math.abs(upL[k].external_W - downL[k].external_W) > STATIC_ACTIVE_REL * level ||
+          upL[j].dominant !== upL[k].dominant ||
+          downL[j].dominant !== downL[k].dominant;
+        if (busy) active.push(j);
+      }
+      const A = active.length;
       const mids = createLaneEngine(
         { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
         p,
-        2 * N,
+        Math.max(1, 2 * A),
         still,
         o.rng,
       );
-      for (let j = 0; j < N; j++) {
-        mids.copyLane(store, j, j); // up branch from the left neighbour
-        mids.copyLane(storeDown, (j + 1) % N, N + j); // down branch from the right neighbour
-        mids.offset[j] = (j + 0.5) * (o.halfWavelength_m / N);
-        mids.offset[N + j] = mids.offset[j];
+      active.forEach((j, a) => {
+        mids.copyLane(store, j, a); // up branch from the left neighbour
+        mids.copyLane(storeDown, (j + 1) % N, A + a); // down branch from the right neighbour
+        mids.offset[a] = (j + 0.5) * (o.halfWavelength_m / N);
+        mids.offset[A + a] = mids.offset[a];
+      });
+      let means: LaneMeans[] = [];
+      if (A > 0) {
+        mids.resetEnergy();
+        const m = settleLanes(mids, contSteps, avgSteps);
+        steps += contSteps;
+        laneSteps += contSteps * 2 * A;
+        if (m === null) return fail(mids.failMessage);
+        record(mids);
+        means = m;
       }
-      mids.resetEnergy();
-      const means = settleLanes(mids, contSteps, avgSteps);
-      steps += contSteps;
-      laneSteps += contSteps * 2 * N;
-      if (means === null) return fail(mids.failMessage);
-      record(mids);
+      const slotOf = new Int32Array(N).fill(-1);
+      active.forEach((j, a) => (slotOf[j] = a));
       const N2 = 2 * N;
       const up2: LaneMeans[] = new Array(N2);
       const down2: LaneMeans[] = new Array(N2);
@@ -436,14 +487,24 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
         o.rng,
       );
       for (let j = 0; j < N; j++) {
-        up2[2 * j] = up[j] as LaneMeans;
-        down2[2 * j] = down[j] as LaneMeans;
-        up2[2 * j + 1] = means[j];
-        down2[2 * j + 1] = means[N + j];
+        const k = (j + 1) % N;
+        up2[2 * j] = upL[j];
+        down2[2 * j] = downL[j];
         store2.copyLane(store, j, 2 * j);
         storeDown2.copyLane(storeDown, j, 2 * j);
-        store2.copyLane(mids, j, 2 * j + 1);
-        storeDown2.copyLane(mids, N + j, 2 * j + 1);
+        const a = slotOf[j];
+        if (a >= 0) {
+          up2[2 * j + 1] = means[a];
+          down2[2 * j + 1] = means[A + a];
+          store2.copyLane(mids, a, 2 * j + 1);
+          storeDown2.copyLane(mids, A + a, 2 * j + 1);
+        } else {
+          // a smooth stretch: the midpoint is the mean of its neighbours
+          up2[2 * j + 1] = averageMeans(upL[j], upL[k]);
+          down2[2 * j + 1] = averageMeans(downL[j], downL[k]);
+          store2.copyLane(store, j, 2 * j + 1);
+          storeDown2.copyLane(storeDown, k, 2 * j + 1);
+        }
       }
       N = N2;
       up = up2;

@@ -138,6 +138,7 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
         plan.static.kind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
       dt: plan.static.dt,
       engine: plan.static.kind,
+      adaptive: plan.static.kind === 'roundtrip',
       halfWavelength_m: s.laser.wavelength / 2,
       rest_m: s.drive.offset,
       initial: free,
