@@ -59,6 +59,8 @@ export function deriveAll(s: Scenario): DerivedAll {
     roundtrip_efficiency: params.roundtripEfficiency,
     feedback_efficiency_source: beams.feedbackSource,
     roundtrip_efficiency_source: beams.roundtripSource,
+    feedback_efficiency_basis: beams.feedbackBasis,
+    roundtrip_efficiency_basis: beams.roundtripBasis,
     incoherent_enhancement: incoherent,
     laser_class: params.classA ? 'A' : 'B',
     modes: m.index.map((index, k) => ({
