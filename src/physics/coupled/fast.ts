@@ -311,7 +311,15 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
           A2i = Ai;
         if (noiseSigma > 0) {
           const before = E2r * E2r + E2i * E2i;
-          const sg = noiseSigma * this.noiseWeight[m];
+          // The step may be long against the photon lifetime (the propagator is exact), so the
+          // kick carries the variance an Ornstein-Uhlenbeck field gathers over the noise
+          // interval h while decaying at lambda = gamma_c (1 - n) / 2:
+          // P_sp f gamma_c (1 - e^{-2 lambda h}) / (2 lambda), not P_sp f gamma_c h
+          // (Gardiner, Handbook of Stochastic Methods, sec. 3.8.4), so a mode below
+          // threshold holds P_sp f / (1 - p f) at any step.
+          const x = g * (1 - this.N[j]) * h * this.noiseEvery;
+          const ou = x > 1e-6 ? (1 - Math.exp(-x)) / x : 1;
+          const sg = noiseSigma * this.noiseWeight[m] * Math.sqrt(ou);
           E2r += sg * this.rng.normal();
           E2i += sg * this.rng.normal();
           noiseE += E2r * E2r + E2i * E2i - before;
