@@ -35,7 +35,7 @@ export interface EnginePlan {
  * it; what must be resolved is how fast the gain changes: the relaxation oscillation and
  * tau_N (class B), or the field's own relaxation gamma_c (p - 1) when the inversion follows
  * the field (class A). Measured on a 300 um chip (photon lifetime 2.9 ps, relaxation
- * oscillation 2.1 GHz): steady laser and gap powers agree within 0.3 % (the noise of the
+ * oscillation 2.1 GHz): steady laser and gap powers agree within 0.5 % (the noise of the
  * 20 ns record) from 0.05 / gamma_c up to 0.2 / omega_R, 100 times longer.
  */
 export function fastLaserStep(p: CoupledParams): number {
