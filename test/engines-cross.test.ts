@@ -133,8 +133,8 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
     // low. With the finesse at 595 (no mismatch per round trip, docs/model.md §2.4) and the
     // square-root saturation law (docs/model.md §3.2) the same fraction 0.0092 is reached at
     // 130 nm, and there the mean field measured -2.6 %: on this strongly coupled laser the
-    // 2 % claim of the fraction limit no longer holds (the modal form's own error, MODEL.md
-    // 3.1), so this case is held to 3 % and the engine choice must not rely on the limit alone.
+    // 2 % claim of the fraction limit no longer holds (the modal form's own error, docs/model.md
+    // §3.1), so this case is held to 3 % and the engine choice must not rely on the limit alone.
     const s = demoWith(
       { amplitude: '130 nm', frequency: '10 kHz' },
       { settle: '100 us', drive_offsets: 4, periods: 2 },
