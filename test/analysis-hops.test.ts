@@ -133,3 +133,53 @@ describe('HopDetector', () => {
     expect(() => det.push(2)).toThrow(/mode index 2/);
   });
 });
+
+// The margin is the project's definition (docs/model.md §4.3, a new mode must lead by 20 %
+// in power; common practice, no source); the counts below follow from it by hand.
+describe('HopDetector with a power margin', () => {
+  const dt = 1e-9;
+  /** two modes whose powers cross: mode 1 at 1 + d sin(2 pi k / period) against mode 0 at 1 */
+  function trade(det: HopDetector, d: number, periods: number, period = 400): void {
+    const P = new Float64Array(2);
+    for (let k = 0; k < periods * period; k++) {
+      P[0] = 1;
+      P[1] = 1 + d * Math.sin((2 * Math.PI * k) / period);
+      det.pushPowers(P);
+    }
+  }
+
+  it('two modes of nearly equal power trading the lead are not hopping', () => {
+    // +-10 % swings: each mode leads the other by at most 10 %, below the 20 % margin
+    const withMargin = new HopDetector({
+      dt_s: dt,
+      dwell_s: 5e-9,
+      modeCount: 2,
+      driveFrequency_Hz: null,
+      margin: 0.2,
+    });
+    trade(withMargin, 0.1, 10);
+    expect(withMargin.result().hops).toBe(0);
+    // without the margin the same stream counts a hop at every crossing after the first
+    // acceptance: 2 per period, 10 periods, less the half period before mode 1 first leads
+    const noMargin = new HopDetector({ dt_s: dt, dwell_s: 5e-9, modeCount: 2, driveFrequency_Hz: null });
+    trade(noMargin, 0.1, 10);
+    expect(noMargin.result().hops).toBe(19);
+  });
+
+  it('a mode that leads by more than the margin for longer than the dwell is a hop', () => {
+    // +-50 % swings: mode 1 exceeds 1.2 x mode 0 for part of each positive half period
+    // (sin > 0.4, 37 % of the period = 148 samples > the 5-sample dwell), and mode 0 exceeds
+    // 1.2 x mode 1 where 1 + 0.5 sin < 1 / 1.2 (sin < -1/3, 39 % of the period): two hops per period
+    const det = new HopDetector({
+      dt_s: dt,
+      dwell_s: 5e-9,
+      modeCount: 2,
+      driveFrequency_Hz: null,
+      margin: 0.2,
+    });
+    trade(det, 0.5, 10);
+    // before any mode is accepted the strongest leads: mode 1 (rising from sample 1) is
+    // accepted without a hop, then 2 hops per period: 1 in the first period, 19 in all
+    expect(det.result().hops).toBe(19);
+  });
+});

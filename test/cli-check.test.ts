@@ -47,7 +47,12 @@ describe('dithercav check', () => {
     expect(r.out).toMatch(/radius at M1\s+\d/);
     expect(r.out).toMatch(/radius at M2\s+\d/);
     expect(r.out).toMatch(/radius at M3\s+\d/);
-    expect(r.out).toMatch(/feedback efficiency\s+0\.\d+\s+from Gaussian beams/);
+    // the demo's gap is stable (g2 g3 = 0.94): eta_fb from the eigenmode, eta_rt = 1 (docs/model.md §2.4)
+    expect(r.out).toMatch(/feedback efficiency\s+0\.\d+\s+from Gaussian beams: eigenmode overlap/);
+    expect(r.out).toMatch(/round-trip efficiency\s+1\s+from Gaussian beams: stable gap/);
+    // Airy finesse pi sqrt(rho) / (1 - rho), rho = sqrt(R2 R3) = sqrt(0.99 x 0.9995) (Siegman,
+    // Lasers, ch. 11): 595.5 to 4 digits, no mode-mismatch loss per round trip
+    expect(r.out).toMatch(/finesse\s+595\.5\s/);
     expect(r.out).toMatch(/photon lifetime\s+\d/);
     expect(r.out).toMatch(/Laser modes \(\d+\)/);
     expect(r.out).toMatch(/index\s+offset from gain peak/);

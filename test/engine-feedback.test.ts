@@ -1,5 +1,5 @@
 /**
- * The external cavity of the exact delay-line engine (MODEL.md 3.3) against closed forms:
+ * The external cavity of the exact delay-line engine (docs/model.md §3.3) against closed forms:
  * the Airy response of a laser that ignores its feedback, the Doppler shift of a mirror at
  * constant speed, the Bessel sidebands of a sinusoidal mirror, and the Lang-Kobayashi
  * frequency condition of weak feedback with alpha != 0.
@@ -229,21 +229,22 @@ describe('moving return mirror, laser ignoring its feedback', () => {
 });
 
 describe('weak single-bounce feedback with alpha = 4: the Lang-Kobayashi phase condition', () => {
-  it('the steady rotation of E solves d_omega tau = -C sin(omega_0 tau + d_omega tau - arctan alpha)', () => {
+  it('the steady lasing frequency solves omega_0 tau - omega_s tau = C sin(omega_s tau + arctan alpha)', () => {
     /*
-     * Derivation for the code's equation (MODEL.md 3.1, 3.3):
-     *   dE/dt = 1/2 [(1 - i alpha) G - gamma_c] E + kappa b,  b = r3' a(t - tau) e^{-i omega_m tau},
+     * Tromborg, Osmundsen and Olesen, IEEE J. Quantum Electron. 20, 1023 (1984): with weak
+     * single-bounce feedback the compound-cavity modes satisfy
+     *   omega_0 tau - omega_s tau = C sin(omega_s tau + arctan alpha),  C = kappa tau sqrt(1 + alpha^2),
+     * alpha signed as data sheets sign it (Henry, IEEE J. Quantum Electron. 18, 259 (1982):
+     * a gain above its steady value raises the optical frequency). The code's envelope
+     * carries e^{+i omega t} (the delay line multiplies by e^{-i omega tau}), so
+     *   dE/dt = 1/2 (1 + i alpha)(G - gamma_c) E + kappa b,  b = r3' a(t - tau) e^{-i omega_m tau},
      * single bounce a = t2 sqrt(eta_fb) E (the r2' b term is second order in r2 r3').
-     * Try E = E0 e^{i Delta t} (Delta the rotation of the envelope against omega_m), K = kappa r3' t2 sqrt(eta_fb):
-     *   i Delta = 1/2 [(1 - i alpha) G - gamma_c] + K e^{-i Phi},  Phi = (omega_m + Delta) tau.
-     * Real part: G - gamma_c = -2 K cos Phi.  Imaginary part:
-     *   Delta = -alpha G / 2 - K sin Phi = -alpha gamma_c / 2 + K (alpha cos Phi - sin Phi).
-     * The solitary laser (K = 0) turns at Delta_s = -alpha gamma_c / 2, so its optical angular
-     * frequency is omega_0 = omega_m + Delta_s. With d_omega = Delta - Delta_s and
-     * sin Phi - alpha cos Phi = sqrt(1 + alpha^2) sin(Phi - arctan alpha):
-     *   d_omega tau = -C sin(omega_0 tau + d_omega tau - arctan alpha),  C = K tau sqrt(1 + alpha^2).
-     * Lang & Kobayashi, IEEE J. Quantum Electron. 16, 347 (1980) write (1 + i alpha) and get
-     * + arctan alpha. For C < 1 the left side minus the right is monotonic in d_omega: one root.
+     * The solitary laser turns at omega_0 = omega_m (G = gamma_c). With E = E0 e^{i Delta t},
+     * K = kappa r3' t2 sqrt(eta_fb), Phi = (omega_m + Delta) tau = omega_s tau:
+     *   i Delta = 1/2 (1 + i alpha)(G - gamma_c) + K e^{-i Phi};
+     * real part G - gamma_c = -2 K cos Phi, imaginary part
+     *   Delta = -K (alpha cos Phi + sin Phi) = -K sqrt(1 + alpha^2) sin(Phi + arctan alpha),
+     * which is the condition above with omega_0 - omega_s = -Delta. For C < 1 the root is unique.
      */
     const alpha = 4;
     // Class A laser (the inversion follows the field, so the steady state is reached fast):
@@ -295,15 +296,17 @@ describe('weak single-bounce feedback with alpha = 4: the Lang-Kobayashi phase c
       return Array.from(acc, (a) => a / (measure * dt));
     };
     const sol = rate(engineFrom(pSol, dt, STILL, [0], free, LAMBDA), 20 * sub, 5 * sub)[0];
-    // the solitary rotation is -alpha gamma_c / 2 (RK4 with gamma_c dt = 0.05: ~1e-6 off)
-    expect(Math.abs(sol / (-0.5 * alpha * p.gammaC) - 1)).toBeLessThan(1e-5);
+    // the solitary laser lases at its cold-cavity frequency (G = gamma_c): 1e-4 of C / tau
+    // allows the settle residue of the gain (measured 1e-5 of it; the shifts tested reach C / tau)
+    expect(Math.abs(sol)).toBeLessThan((1e-4 * C) / tau);
     const eng = engineFrom(p, dt, STILL, offsets, free, LAMBDA);
     const measured = rate(eng, 60 * sub, 10 * sub);
     const lk = (theta: number): number => {
-      // root x = d_omega tau of x + C sin(theta + x - arctan alpha) = 0, by bisection on [-C, C]
+      // root x = (omega_s - omega_0) tau of x + C sin(theta + x + arctan alpha) = 0, by
+      // bisection on [-C, C]; theta = omega_0 tau
       let lo = -C - 1e-12;
       let hi = C + 1e-12;
-      const g = (x: number) => x + C * Math.sin(theta + x - Math.atan(alpha));
+      const g = (x: number) => x + C * Math.sin(theta + x + Math.atan(alpha));
       for (let i = 0; i < 200; i++) {
         const mid = 0.5 * (lo + hi);
         if (g(mid) > 0) hi = mid;

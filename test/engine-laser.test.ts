@@ -1,6 +1,6 @@
 /**
  * The laser alone (no external cavity) against the closed forms of the rate equations
- * (MODEL.md 3.2): threshold, steady state, relaxation oscillation, Lamb dip, and the
+ * (docs/model.md §3.2): threshold, steady state, relaxation oscillation, Lamb dip, and the
  * output-coupler ratio.
  */
 import { describe, expect, it } from 'vitest';
@@ -46,7 +46,7 @@ describe('threshold and homogeneous single-mode steady state', () => {
     }
   }
 
-  it('no lasing below threshold (p = 0.9): the power stays at the spontaneous level P_sp / (1 - p f)', () => {
+  it('no lasing below threshold (p = 0.9): the power stays at the spontaneous level P_sp f / (1 - p f)', () => {
     const Psp = 1e-15;
     const s = scenario({
       laser: laserInput({
@@ -60,8 +60,8 @@ describe('threshold and homogeneous single-mode steady state', () => {
     // Below threshold the field is spontaneous emission filtered by the net loss
     // gamma_c (1 - p f): d<|E|^2>/dt = -gamma_c (1 - p f) <|E|^2> + P_sp gamma_c, so
     // <|E|^2> = P_sp / (1 - p f) (Siegman, Lasers, ch. 13, below threshold; the noise
-    // term is MODEL.md 3.1's <|dE|^2> = P_sp gamma_c dt).
-    const expected = Psp / (1 - 0.9 * p.gainRel[0]);
+    // term is docs/model.md §3.1's <|dE|^2> = P_sp f gamma_c dt, weighted by the gain line).
+    const expected = (Psp * p.gainRel[0]) / (1 - 0.9 * p.gainRel[0]);
     // 40 %: |E|^2 of a Gaussian field is exponentially distributed; ~80 correlation times
     // give a relative standard error ~ 12 %, so this is a 3-sigma bound.
     expect(free.intracavity_W).toBeGreaterThan(0.6 * expected);
@@ -139,7 +139,7 @@ describe('class B relaxation oscillation', () => {
 });
 
 describe('inhomogeneous gain: the Lamb dip', () => {
-  it('single-mode power tuned across the line follows P_sat (p f(d) - 1) / (1 + L(2 d)), with its dip at line centre', () => {
+  it('single-mode power tuned across the line follows 2 P_sat [(p f(d))^2 - 1] / (1 + L(2 d)), with its dip at line centre', () => {
     // Doppler-broadened gas laser, one mode kept (max_modes 1); 10 cm so the one mode can be
     // tuned +-600 MHz (FSR 1.5 GHz) across the 1.5 GHz line; class A (tau_N 10 ns).
     const base = {
@@ -173,12 +173,13 @@ describe('inhomogeneous gain: the Lamb dip', () => {
       const P = freeOf(p).intracavity_W;
       power.push(P);
       // Lamb, Phys. Rev. 134, A1429 (1964): a standing-wave mode detuned by d burns two holes,
-      // at +d and at its mirror image -d; in the model's rate-equation form (MODEL.md 3.2)
-      // the self-saturation is C = L(0) + L(2 d) = 1 + 1 / (1 + (2 d / gamma_h)^2), so the
-      // steady state is |E|^2 = P_sat (p f(d) - 1) / (1 + L(2 d)).
+      // at +d and at its mirror image -d; the self-saturation is C = L(0) + L(2 d) =
+      // 1 + 1 / (1 + (2 d / gamma_h)^2), and Doppler gain saturates as 1 / sqrt(1 + C P / (2 P_sat))
+      // (Siegman, Lasers, ch. 12 inhomogeneous saturation; docs/model.md §3.2), so the
+      // steady state is |E|^2 = 2 P_sat [(p f(d))^2 - 1] / (1 + L(2 d)).
       const f = p.gainRel[0];
       const L2d = 1 / (1 + ((2 * d) / 100e6) ** 2);
-      const expected = (1e-3 * (2 * f - 1)) / (1 + L2d);
+      const expected = (2e-3 * ((2 * f) ** 2 - 1)) / (1 + L2d);
       // 1e-5: as for the homogeneous steady state (the same settle, class A)
       expect(Math.abs(P - expected) / expected).toBeLessThan(1e-5);
     }

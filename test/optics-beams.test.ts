@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { scenarioSchema } from '../src/scenario/schema';
 import type { ScenarioInput } from '../src/scenario/schema';
 import { computeBeams, returnOverlap, waistOverlap, qFromWaist } from '../src/physics/optics';
+import { deriveAll } from '../src/physics/derive';
 
 const LAMBDA = 1064e-9;
 
@@ -77,11 +78,52 @@ describe('beams of the three-mirror system', () => {
     expect(flat.beams.external_g2g3).toBe(1);
     expect(Math.abs(flat.roundtripEfficiency - waistOverlap(w0, w0, 0.6, LAMBDA))).toBeLessThan(1e-12);
     expect(flat.beams.notes.join(' ')).toMatch(/no Gaussian eigenmode/);
+    expect(flat.feedbackBasis).toBe('unstable gap: single-bounce overlap');
+    expect(flat.roundtripBasis).toBe('unstable gap: geometric loss per round trip');
     for (const R3 of [0.2, 0.5, 2, 10, -1]) {
       const r = computeBeams(scenario({ external: { return_mirror: { reflectivity: 0.99, radius: R3 } } }));
       expect(r.feedbackEfficiency).toBeGreaterThan(0);
       expect(r.feedbackEfficiency).toBeLessThan(1);
     }
+  });
+
+  it('stable gap: eta_fb is the overlap of the laser beam with the gap eigenmode at M2, eta_rt = 1', () => {
+    // Flat M2 (flat substrate, no lens) and M3 of radius R3 at L2: the gap's eigenmode has its
+    // waist on M2 with z_R^2 = L2 (R3 - L2) (Kogelnik and Li, Appl. Opt. 5, 1550 (1966); Siegman,
+    // Lasers, ch. 19), the laser's waist also sits on M2. Two coaxial beams with waists at the
+    // same plane overlap by 4 / (w1/w2 + w2/w1)^2 (Kogelnik, Bell Syst. Tech. J. 44, 455 (1965);
+    // Siegman, Lasers, ch. 17, mode matching).
+    const w0 = flatOcWaist(0.2, 1);
+    for (const R3 of [0.5, 2, 10]) {
+      const res = computeBeams(scenario({ external: { return_mirror: { reflectivity: 0.99, radius: R3 } } }));
+      expect(res.beams.external_stable).toBe(true);
+      const wGap = Math.sqrt((LAMBDA / Math.PI) * Math.sqrt(0.3 * (R3 - 0.3)));
+      const expected = 4 / (w0 / wGap + wGap / w0) ** 2;
+      // two routes (ABCD q algebra against the waist formula): round-off, 1e-10
+      expect(Math.abs(res.feedbackEfficiency / expected - 1)).toBeLessThan(1e-10);
+      expect(res.feedbackEfficiency).toBeLessThan(1);
+      // docs/model.md §2.4: the eigenmode reproduces itself; mismatch is not a per-round-trip loss
+      expect(res.roundtripEfficiency).toBe(1);
+      expect(res.feedbackBasis).toBe('eigenmode overlap');
+      expect(res.feedbackSource).toBe('geometry');
+    }
+    // a given round-trip efficiency stays a per-round-trip loss and is reported as given
+    const given = computeBeams(scenario({ external: { roundtrip_efficiency: 0.97 } }));
+    expect(given.roundtripEfficiency).toBe(0.97);
+    expect(given.roundtripBasis).toBe('given');
+    expect(given.feedbackBasis).toBe('eigenmode overlap');
+  });
+
+  it('the finesse of a stable, mismatched gap counts no mismatch per round trip: pi sqrt(rho) / (1 - rho), rho = r2 r3', () => {
+    // Airy finesse (Siegman, Lasers, ch. 11; Hecht, Optics, sec. 9.6) with r3' = r3 (empty gap,
+    // eta_rt = 1), whatever the mode match: R2 0.9, R3 0.99 here
+    const s = scenario({ external: { return_mirror: { reflectivity: 0.99, radius: 2 } } });
+    const d = deriveAll(s).derived;
+    expect(d.feedback_efficiency).toBeLessThan(0.999);
+    const rho = Math.sqrt(0.9 * 0.99);
+    // round-off: the same formula from the same mirror numbers, 1e-12
+    expect(Math.abs(d.finesse_external / ((Math.PI * Math.sqrt(rho)) / (1 - rho)) - 1)).toBeLessThan(1e-12);
+    expect(d.feedback_efficiency_basis).toBe('eigenmode overlap');
   });
 
   it('returnOverlap: 1 for the phase-conjugating radius, falling either side of it', () => {

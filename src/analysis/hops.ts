@@ -1,5 +1,5 @@
 /**
- * Mode hops from the dominant-mode index stream (MODEL.md section 4): a hop counts only
+ * Mode hops from the dominant-mode index stream (docs/model.md §4.3): a hop counts only
  * when a new mode stays dominant for longer than the dwell time. Shorter excursions
  * (chatter near a crossing of two mode powers) are ignored, and an excursion that returns
  * to the accepted mode within the dwell is not a hop. The caller supplies, per sample, the
@@ -9,6 +9,11 @@
  * becomes the accepted one without counting a hop, so a run that starts in the middle of
  * chatter does not begin with a false hop. A hop is dated at the sample where the new
  * mode became (and then stayed) dominant, not where the dwell ran out.
+ *
+ * With the mode powers (pushPowers) a margin applies too (docs/model.md §4.3): once a mode
+ * is accepted, another one counts as leading only while its power exceeds the accepted
+ * mode's by the factor 1 + margin (0.2: 20 % in power). Two modes of nearly equal power
+ * that trade the lead back and forth are then not hopping.
  */
 
 export interface HopDetectorOptions {
@@ -28,6 +33,11 @@ export interface HopDetectorOptions {
   maxStoredHops?: number;
   /** bins of the phase histogram over one drive period (default 24) */
   phaseBins?: number;
+  /**
+   * relative power margin a new mode must lead the accepted one by (pushPowers only;
+   * default 0: the strongest mode leads)
+   */
+  margin?: number;
 }
 
 export interface HopResult {
@@ -68,6 +78,7 @@ export class HopDetector {
   private candidateStart = 0;
   private candidateRun = 0;
   private hopCount = 0;
+  private readonly factor: number;
 
   constructor(opts: HopDetectorOptions) {
     if (!(opts.dt_s > 0)) throw new RangeError(`HopDetector: dt_s must be positive, found ${opts.dt_s}`);
@@ -75,6 +86,9 @@ export class HopDetector {
       throw new RangeError(`HopDetector: dwell_s must be >= 0, found ${opts.dwell_s}`);
     if (!(Number.isInteger(opts.modeCount) && opts.modeCount >= 1))
       throw new RangeError(`HopDetector: modeCount must be a positive integer, found ${opts.modeCount}`);
+    const margin = opts.margin ?? 0;
+    if (!(margin >= 0)) throw new RangeError(`HopDetector: margin must be >= 0, found ${margin}`);
+    this.factor = 1 + margin;
     this.dt = opts.dt_s;
     // "longer than the dwell": a run of k samples lasts k dt; it qualifies when k dt > dwell.
     this.dwellSamples = Math.floor(opts.dwell_s / opts.dt_s + 1e-9) + 1;
@@ -108,6 +122,34 @@ export class HopDetector {
     if (this.current >= 0) this.recordHop(this.current, mode, this.candidateStart);
     this.current = mode;
     this.candidate = -1;
+  }
+
+  /**
+   * Adds the next sample from the mode powers powers[start .. start + modeCount - 1] (W or
+   * any common scale): the strongest mode leads, unless a mode is accepted and the
+   * strongest exceeds it by less than the margin, in which case the accepted mode holds.
+   * Occupation counts the strongest mode, as push does.
+   */
+  pushPowers(powers: ArrayLike<number>, start = 0): void {
+    const M = this.occ.length;
+    let best = 0;
+    let bestP = powers[start];
+    for (let m = 1; m < M; m++) {
+      const v = powers[start + m];
+      if (v > bestP) {
+        bestP = v;
+        best = m;
+      }
+    }
+    const cur = this.current;
+    if (cur >= 0 && best !== cur && !(bestP > this.factor * powers[start + cur])) {
+      // within the margin: the accepted mode holds (occupation still records the strongest)
+      this.occ[best]++;
+      this.n++;
+      this.candidate = -1;
+      return;
+    }
+    this.push(best);
   }
 
   private recordHop(from: number, to: number, sample: number): void {

@@ -111,6 +111,7 @@ export function runBareLoop(
   const invPsat = p.invPsat;
   const kap = p.kappa;
   const alpha = p.alpha;
+  const sqrtLaw = p.inhomogeneous;
   const invTauN = 1 / p.tauN;
   const cpl = p.couplingOut;
   const r2 = p.r2;
@@ -132,6 +133,7 @@ export function runBareLoop(
   // ---- local arrays
   const C = Float64Array.from(p.cross);
   const pumpF = Float64Array.from(p.gainRel, (f) => p.pump * f);
+  const noiseW = Float64Array.from(p.gainRel, (f) => Math.sqrt(Math.max(0, f)));
   const laneOff = Float64Array.from(cfg.laneOffsets_m);
   const Er = new Float64Array(LM);
   const Ei = new Float64Array(LM);
@@ -327,14 +329,15 @@ export function runBareLoop(
           const bR = stage === 0 ? br[off + m] : stage === 3 ? b1r[m] : bhr[m];
           const bI = stage === 0 ? bi[off + m] : stage === 3 ? b1i[m] : bhi[m];
           const nm = sn[m];
-          kn[m] = (pumpF[m] - nm * (1 + sat[m])) * invTauN;
+          const D = sqrtLaw ? Math.sqrt(1 + 0.5 * sat[m]) : 1 + sat[m];
+          kn[m] = (pumpF[m] - nm * D) * invTauN;
           const G = g * nm;
           const re = sr[m];
           const im = si[m];
           const hf = 0.5 * (G - g);
-          const rot = 0.5 * alpha * G;
-          kr[m] = hf * re + rot * im + kap * bR;
-          ki[m] = hf * im - rot * re + kap * bI;
+          const rot = alpha * hf;
+          kr[m] = hf * re - rot * im + kap * bR;
+          ki[m] = hf * im + rot * re + kap * bI;
           const e2 = re * re + im * im;
           gainP += G * e2;
           lossP += g * e2;
@@ -379,8 +382,9 @@ export function runBareLoop(
         const nn = n0[m] + w6 * (accN[m] + kn[m]);
         if (sigma > 0) {
           const before = re * re + im * im;
-          re += sigma * kick[2 * j];
-          im += sigma * kick[2 * j + 1];
+          const sg = sigma * noiseW[m];
+          re += sg * kick[2 * j];
+          im += sg * kick[2 * j + 1];
           noiseE += re * re + im * im - before;
         }
         if (re * re + im * im < 1e-150) {

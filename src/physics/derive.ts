@@ -6,6 +6,7 @@ import type { Derived } from '../results/summary';
 import type { Scenario } from '../scenario/schema';
 import { SPEED_OF_LIGHT_m_s } from './constants';
 import { buildCoupledParams, CoupledParams } from './coupled/params';
+import { singleModePower } from './laser/saturation';
 import { computeBeams } from './optics/beams';
 import { finesse, linewidth_Hz, phaseAveragedPowerRatio } from './optics/airy';
 
@@ -29,14 +30,20 @@ export function deriveAll(s: Scenario): DerivedAll {
     ? phaseAveragedPowerRatio(params.r2, params.t2, params.r3eff) * params.feedbackEfficiency
     : NaN;
   const m = params.modes;
-  // Homogeneous single-mode estimate |E|^2 = P_sat (p f - 1) / C_mm of the strongest mode
-  // (MODEL.md 3.2); the free-running reference run gives the real multimode value.
+  // Single-mode estimate of the strongest mode under the saturation law of docs/model.md
+  // §3.2 (P_sat (p f - 1) / C_mm homogeneous, 2 P_sat [(p f)^2 - 1] / C_mm Doppler); the
+  // free-running reference run gives the real multimode value.
   let best = 0;
   for (let k = 0; k < m.count; k++) {
     const Cmm = params.cross[k * m.count + k];
     best = Math.max(
       best,
-      (s.laser.gain.saturation_power * Math.max(0, params.pump * params.gainRel[k] - 1)) / Cmm,
+      singleModePower(
+        params.inhomogeneous,
+        params.pump * params.gainRel[k],
+        Cmm,
+        s.laser.gain.saturation_power,
+      ),
     );
   }
   const derived: Derived = {
@@ -52,6 +59,8 @@ export function deriveAll(s: Scenario): DerivedAll {
     roundtrip_efficiency: params.roundtripEfficiency,
     feedback_efficiency_source: beams.feedbackSource,
     roundtrip_efficiency_source: beams.roundtripSource,
+    feedback_efficiency_basis: beams.feedbackBasis,
+    roundtrip_efficiency_basis: beams.roundtripBasis,
     incoherent_enhancement: incoherent,
     laser_class: params.classA ? 'A' : 'B',
     modes: m.index.map((index, k) => ({

@@ -64,6 +64,10 @@ export interface Derived {
   roundtrip_efficiency: number;
   feedback_efficiency_source: 'geometry' | 'scenario';
   roundtrip_efficiency_source: 'geometry' | 'scenario';
+  /** how eta_fb was obtained, in words ("eigenmode overlap", "unstable gap: single-bounce overlap", "given", ...) */
+  feedback_efficiency_basis?: string;
+  /** how eta_rt was obtained, in words */
+  roundtrip_efficiency_basis?: string;
   incoherent_enhancement: number;
   laser_class: 'A' | 'B';
   modes: ModeInfo[];

@@ -232,6 +232,9 @@ const analysis = z.strictObject({
   detection_bandwidth: quantity('frequency', positive).default(10e3),
   ripple_limit: bounded(0, 1e6, { minOpen: true }).default(0.1),
   hop_dwell: quantity('time', nonNegative).default(1e-6),
+  hop_margin: bounded(0, 100)
+    .default(0.2)
+    .describe('a new mode must lead the held one by this fraction of its power to count as a hop'),
   max_hops_per_period: bounded(0, 1e9)
     .default(0)
     .describe('more hops per drive period than this is the hopping class'),

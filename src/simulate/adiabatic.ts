@@ -14,6 +14,7 @@ export interface AdiabaticOptions extends Pick<
   DrivenOptions,
   | 'detectionBandwidth_Hz'
   | 'hopDwell_s'
+  | 'hopMargin'
   | 'driveFrequency_Hz'
   | 'drivePhase_rad'
   | 'traceBuckets'
@@ -73,7 +74,7 @@ export function drivenAdiabatic(p: CoupledParams, stat: StaticResult, o: Adiabat
       const near = branch[Math.round(u) % N];
       an.returned2 += lerp(branch, u, (v) => v.returned_W);
       if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = lerp(branch, u, (v) => v.modePowers_W[m]);
-      an.push(l, pe, po, pi, near.dominant, t, o.laneOffsets_m[0], 0, 0);
+      an.push(l, pe, po, pi, near.dominant, t, o.laneOffsets_m[0], 0, 0, near.modePowers_W);
     }
   }
   return {

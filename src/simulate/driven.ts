@@ -28,6 +28,8 @@ export interface DrivenOptions {
   analysedSteps: number;
   detectionBandwidth_Hz: number;
   hopDwell_s: number;
+  /** relative power margin of a hop (docs/model.md §4.3; analysis.hop_margin), default 0 */
+  hopMargin?: number;
   driveFrequency_Hz: number | null;
   drivePhase_rad: number;
   traceBuckets: number;
@@ -93,6 +95,7 @@ export class DrivenAnalysis {
       DrivenOptions,
       | 'detectionBandwidth_Hz'
       | 'hopDwell_s'
+      | 'hopMargin'
       | 'driveFrequency_Hz'
       | 'drivePhase_rad'
       | 'traceBuckets'
@@ -117,6 +120,7 @@ export class DrivenAnalysis {
         new HopDetector({
           dt_s: dt,
           dwell_s: o.hopDwell_s,
+          margin: o.hopMargin ?? 0,
           modeCount: M,
           driveFrequency_Hz: o.driveFrequency_Hz,
           drivePhase_rad: o.drivePhase_rad,
@@ -161,7 +165,11 @@ export class DrivenAnalysis {
   private readonly motion: MirrorMotion;
   private readonly driveFrequency_Hz: number | null;
 
-  /** One sample of lane l (the caller fills row[5..] with lane 0's mode powers first). */
+  /**
+   * One sample of lane l (the caller fills row[5..] with lane 0's mode powers first). With
+   * modePowers (this lane's intracavity power per mode) the hop count applies the margin;
+   * without, the dominant index dom counts as is.
+   */
   push(
     l: number,
     pe: number,
@@ -172,13 +180,15 @@ export class DrivenAnalysis {
     offset0: number,
     bRe: number,
     bIm: number,
+    modePowers?: ArrayLike<number>,
   ): void {
     this.intracavity2 += pi;
     this.ext[l].push(pe);
     this.out[l].push(po);
     this.ic[l].push(pi);
     this.band[l].push(pe);
-    this.hops[l].push(dom);
+    if (modePowers !== undefined) this.hops[l].pushPowers(modePowers);
+    else this.hops[l].push(dom);
     if (l === 0) {
       const row = this.row;
       row[0] = offset0 + this.motion.position(t);
@@ -257,6 +267,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   e.resetEnergy();
   const an = new DrivenAnalysis(p, L, o.dt, o.analysedSteps, e.t, o, p.hasExternal);
   const row = an.row;
+  const powers = new Float64Array(M);
   const onStep = (en: LaneEngine) => {
     for (let l = 0; l < L; l++) {
       const pi = en.intracavityPower(l);
@@ -265,6 +276,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
       for (let m = 0; m < M; m++) {
         const j = l * M + m;
         const v = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
+        powers[m] = v;
         if (v > domP) {
           domP = v;
           dom = m;
@@ -282,6 +294,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
         en.offset[0],
         en.br[o.spectrumMode],
         en.bi[o.spectrumMode],
+        powers,
       );
     }
   };

@@ -9,6 +9,7 @@ import { RoundTripEngine } from '../physics/coupled/roundtrip';
 import { balanceErrors } from '../physics/coupled/lane-engine';
 import type { LaneEngine, MirrorMotion, NormalSource } from '../physics/coupled/lane-engine';
 import { createLaneEngine, EngineKind } from '../physics/coupled/factory';
+import { singleModePower } from '../physics/laser/saturation';
 
 /** Steady state of the laser alone. */
 export interface FreeRunningResult {
@@ -64,7 +65,10 @@ export function freeRunning(
   const Ei: number[] = [];
   const N: number[] = [];
   for (let m = 0; m < M; m++) {
-    const P0 = Math.max(p.spontaneous_W, Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * M));
+    const P0 = Math.max(
+      p.spontaneous_W,
+      singleModePower(p.inhomogeneous, p.pump * p.gainRel[m], p.cross[m * M + m], 1 / p.invPsat) / M,
+    );
     const th = 2 * Math.PI * rng.uniform();
     Er.push(Math.sqrt(P0) * Math.cos(th));
     Ei.push(Math.sqrt(P0) * Math.sin(th));

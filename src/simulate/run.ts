@@ -270,6 +270,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       const common = {
         detectionBandwidth_Hz: bandwidth,
         hopDwell_s: s.analysis.hop_dwell,
+        hopMargin: s.analysis.hop_margin,
         driveFrequency_Hz: f,
         drivePhase_rad: drive.phase,
         traceBuckets: Math.floor(s.simulation.trace_points / 2),

@@ -19,8 +19,10 @@ export interface CheckJson {
   warnings: { path: string; message: string; line?: number }[];
 }
 
-function source(s: 'geometry' | 'scenario'): string {
-  return s === 'geometry' ? 'from Gaussian beams' : 'set in the scenario';
+/** Where an efficiency came from: the basis in words when the summary has it (docs/model.md §2.4). */
+function source(s: 'geometry' | 'scenario', basis: string | undefined): string {
+  if (s === 'scenario') return 'given in the scenario';
+  return basis ? `from Gaussian beams: ${basis}` : 'from Gaussian beams';
 }
 
 /**
@@ -67,15 +69,27 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
       ['length L2', q(s.external.length, 'm')],
       ['free spectral range', q(d.fsr_external_Hz, 'Hz'), 'c / (2 L2)'],
       ['round-trip time', q(d.roundtrip_external_s, 's'), '2 L2 / c'],
-      ['finesse', formatNumber(d.finesse_external)],
+      [
+        'finesse',
+        formatNumber(d.finesse_external),
+        `from R2, R3, the gap element and round-trip efficiency ${formatNumber(d.roundtrip_efficiency)}`,
+      ],
       ['linewidth (FWHM)', q(d.linewidth_external_Hz, 'Hz')],
       [
         'incoherent enhancement',
         formatNumber(d.incoherent_enhancement),
         'phase-averaged circulating / incident',
       ],
-      ['feedback efficiency', formatNumber(d.feedback_efficiency), source(d.feedback_efficiency_source)],
-      ['round-trip efficiency', formatNumber(d.roundtrip_efficiency), source(d.roundtrip_efficiency_source)],
+      [
+        'feedback efficiency',
+        formatNumber(d.feedback_efficiency),
+        source(d.feedback_efficiency_source, d.feedback_efficiency_basis),
+      ],
+      [
+        'round-trip efficiency',
+        formatNumber(d.roundtrip_efficiency),
+        source(d.roundtrip_efficiency_source, d.roundtrip_efficiency_basis),
+      ],
       [
         'return to laser',
         s.external.return_to_laser ? 'yes' : 'no (reference: the laser ignores its feedback)',

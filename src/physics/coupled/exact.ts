@@ -4,8 +4,9 @@
  * cavity whose return mirror moves; the external cavity is a delay line of length
  * tau(t) = 2 (L2 + x(t)) / c, with every order of multiple reflection kept.
  *
- *   dE_m/dt = 1/2 [(1 - i alpha) G_m - gamma_c] E_m + kappa b_m(t) + noise_m
- *   dn_m/dt = [p f_m - n_m (1 + sum_k C_mk |E_k|^2 / P_sat)] / tau_N,  G_m = gamma_c n_m
+ *   dE_m/dt = 1/2 (1 + i alpha) (G_m - gamma_c) E_m + kappa b_m(t) + noise_m
+ *   dn_m/dt = [p f_m - n_m D(S_m)] / tau_N,  G_m = gamma_c n_m,  S_m = sum_k C_mk |E_k|^2 / P_sat
+ *   D = 1 + S (homogeneous gain), sqrt(1 + S / 2) (Doppler gain; docs/model.md §3.2)
  *   a_m(t)  = t2 sqrt(eta_fb) E_m(t) - r2 b_m(t)
  *   b_m(t)  = r3' a_m(t - tau(t)) exp(-i omega_m tau(t))
  *
@@ -71,6 +72,8 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
   private readonly kPumpF: Float64Array;
   private readonly kInvTauN: number;
   private readonly kClassA: boolean;
+  private readonly kSqrtLaw: boolean;
+  private readonly kNoiseW: Float64Array;
   private readonly kCouple: number;
   private readonly kR2: number;
   private readonly kReturn: boolean;
@@ -141,6 +144,8 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     this.kPumpF = Float64Array.from(p.gainRel, (f) => p.pump * f);
     this.kInvTauN = 1 / p.tauN;
     this.kClassA = p.classA;
+    this.kSqrtLaw = p.inhomogeneous;
+    this.kNoiseW = this.noiseWeight;
     this.kCouple = p.couplingOut;
     this.kR2 = p.r2;
     this.kReturn = p.returnToLaser;
@@ -383,22 +388,26 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     const pumpF = this.kPumpF;
     const invTauN = this.kInvTauN;
     const classA = this.kClassA;
+    const sqrtLaw = this.kSqrtLaw;
     for (let m = 0; m < M; m++) {
+      const D = sqrtLaw ? Math.sqrt(1 + 0.5 * sat[m]) : 1 + sat[m];
       let nm: number;
       if (classA) {
-        nm = pumpF[m] / (1 + sat[m]);
+        nm = pumpF[m] / D;
         kn[m] = 0;
       } else {
         nm = n[m];
-        kn[m] = (pumpF[m] - nm * (1 + sat[m])) * invTauN;
+        kn[m] = (pumpF[m] - nm * D) * invTauN;
       }
       const G = g * nm;
       const re = er[m];
       const im = ei[m];
       const half = 0.5 * (G - g);
-      const rot = 0.5 * alpha * G;
-      kr[m] = half * re + rot * im + kap * bR[m];
-      ki[m] = half * im - rot * re + kap * bI[m];
+      // (1 + i alpha)(G - gamma_c) / 2: with the envelope's e^{+i omega t} convention a
+      // positive phase rate is a higher optical frequency (data-sheet sign, Henry 1982)
+      const rot = alpha * half;
+      kr[m] = half * re - rot * im + kap * bR[m];
+      ki[m] = half * im + rot * re + kap * bI[m];
       const e2 = re * re + im * im;
       gainP += G * e2;
       lossP += g * e2;
@@ -510,8 +519,9 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
         const nn = n0[m] + w6 * (accN[m] + this.kn[m]);
         if (noiseSigma > 0) {
           const before = re * re + im * im;
-          re += noiseSigma * this.rng.normal();
-          im += noiseSigma * this.rng.normal();
+          const sg = noiseSigma * this.kNoiseW[m];
+          re += sg * this.rng.normal();
+          im += sg * this.rng.normal();
           noiseE += re * re + im * im - before;
         }
         if (re * re + im * im < FLUSH) {
@@ -567,7 +577,10 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       }
       if (p.classA) {
         // the adiabatic inversion follows the fields: store it for the observers
-        for (let m = 0; m < M; m++) this.N[off + m] = (p.pump * p.gainRel[m]) / (1 + this.satOf(l, m));
+        for (let m = 0; m < M; m++) {
+          const S = this.satOf(l, m);
+          this.N[off + m] = (p.pump * p.gainRel[m]) / (this.kSqrtLaw ? Math.sqrt(1 + 0.5 * S) : 1 + S);
+        }
       }
       e.noise += noiseE * tauL;
       e.externalIn += extIn * dt;

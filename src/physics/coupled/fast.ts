@@ -8,7 +8,7 @@
  * coupled to the same laser equations as the exact engine. For a frozen inversion and a
  * frozen round-trip phase the pair (E_m, a_m) obeys a linear 2 x 2 system
  *
- *   d/dt [E; a] = A [E; a],  A = [[ (1 - i alpha) G / 2 - gamma_c / 2,  kappa r3' e^{-i phi} ],
+ *   d/dt [E; a] = A [E; a],  A = [[ (1 + i alpha) (G - gamma_c) / 2,  kappa r3' e^{-i phi} ],
  *                                [ t2 sqrt(eta) / tau_E,               -(1 + r2 r3' e^{-i phi}) / tau_E ]],
  *
  * whose exact propagator exp(A h) (closed form for 2 x 2 matrices) is A-stable however
@@ -141,7 +141,8 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
     this.saturation(l);
     const off = l * this.M;
     for (let m = 0; m < this.M; m++) {
-      const rate = 1 + this.sat[m];
+      // the relaxation target p f / D of docs/model.md §3.2, reached at the rate D / tau_N
+      const rate = p.inhomogeneous ? Math.sqrt(1 + 0.5 * this.sat[m]) : 1 + this.sat[m];
       const nInf = (p.pump * p.gainRel[m]) / rate;
       if (p.classA) this.N[off + m] = nInf;
       else this.N[off + m] = nInf + (this.N[off + m] - nInf) * Math.exp((-rate * tau) / p.tauN);
@@ -261,7 +262,8 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
         const zr = ext ? this.zr[m] * ct + this.zi[m] * st : 0;
         const zi = ext ? this.zi[m] * ct - this.zr[m] * st : 0;
         const a11r = 0.5 * (G - g);
-        const a11i = -0.5 * p.alpha * G;
+        // data-sheet alpha: d(phase)/dt = (alpha / 2)(G - gamma_c) (docs/model.md §3.1)
+        const a11i = 0.5 * p.alpha * (G - g);
         const a12r = kap * zr;
         const a12i = kap * zi;
         const a21r = ext ? cpl / tauE : 0;
@@ -309,8 +311,17 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
           A2i = Ai;
         if (noiseSigma > 0) {
           const before = E2r * E2r + E2i * E2i;
-          E2r += noiseSigma * this.rng.normal();
-          E2i += noiseSigma * this.rng.normal();
+          // The step may be long against the photon lifetime (the propagator is exact), so the
+          // kick carries the variance an Ornstein-Uhlenbeck field gathers over the noise
+          // interval h while decaying at lambda = gamma_c (1 - n) / 2:
+          // P_sp f gamma_c (1 - e^{-2 lambda h}) / (2 lambda), not P_sp f gamma_c h
+          // (Gardiner, Handbook of Stochastic Methods, sec. 3.8.4), so a mode below
+          // threshold holds P_sp f / (1 - p f) at any step.
+          const x = g * (1 - this.N[j]) * h * this.noiseEvery;
+          const ou = x > 1e-6 ? (1 - Math.exp(-x)) / x : 1;
+          const sg = noiseSigma * this.noiseWeight[m] * Math.sqrt(ou);
+          E2r += sg * this.rng.normal();
+          E2i += sg * this.rng.normal();
           noiseE += E2r * E2r + E2i * E2i - before;
         }
         if (E2r * E2r + E2i * E2i < FLUSH) {

@@ -84,6 +84,12 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
    * (at most 2 % of a photon lifetime) than every response time of the system.
    */
   readonly noiseEvery: number;
+  /**
+   * sqrt(f_m) per mode: spontaneous emission is weighted by the gain line like the gain
+   * itself, <|dE_m|^2> = P_sp f_m gamma_c dt, so that below threshold mode m holds
+   * P_sp f_m / (1 - p f_m) (docs/model.md §3.1).
+   */
+  readonly noiseWeight: Float64Array;
   private noiseCount = 0;
   protected readonly phases: ModePhases;
 
@@ -108,6 +114,7 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     this.offset = new Float64Array(lanes);
     this.energy = Array.from({ length: lanes }, () => emptyEnergy());
     this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
+    this.noiseWeight = Float64Array.from(p.gainRel, (f) => Math.sqrt(Math.max(0, f)));
     this.phases = new ModePhases(p);
   }
 
@@ -225,7 +232,10 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     return true;
   }
 
-  /** Standard deviation of each quadrature of the noise kick due at this step (0 if none). */
+  /**
+   * Standard deviation of each quadrature of the noise kick due at this step at the gain
+   * peak (0 if none); mode m's kick is this times noiseWeight[m].
+   */
   protected noiseKick(): number {
     this.noiseCount++;
     if (this.noiseCount < this.noiseEvery) return 0;

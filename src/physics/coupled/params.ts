@@ -1,6 +1,6 @@
 /**
  * The numbers the time-stepping engines need, gathered once from a scenario (SI).
- * Symbols follow MODEL.md section 3.
+ * Symbols follow docs/model.md §3.
  */
 import { mirrorTransmission, Scenario } from '../../scenario/schema';
 import type { GainSpec } from '../../scenario/schema';
@@ -28,8 +28,17 @@ export interface CoupledParams {
   cross: Float64Array;
   /** 1 / P_sat, 1/W */
   invPsat: number;
+  /**
+   * Doppler (inhomogeneous) gain: the inversion target is p f_m / sqrt(1 + S_m / 2) instead
+   * of p f_m / (1 + S_m) (docs/model.md §3.2, src/physics/laser/saturation.ts)
+   */
+  inhomogeneous: boolean;
+  /**
+   * Linewidth-enhancement factor as data sheets sign it: a gain above its steady value
+   * raises the optical frequency, d(phase)/dt = (alpha / 2)(G - gamma_c) (docs/model.md §3.1)
+   */
   alpha: number;
-  /** spontaneous power into a mode P_sp, W */
+  /** spontaneous power P_sp at the gain peak, W; mode m receives P_sp f_m */
   spontaneous_W: number;
   hasExternal: boolean;
   returnToLaser: boolean;
@@ -114,6 +123,7 @@ export function buildCoupledParams(
     gainRel: Float64Array.from(modes.gainRel),
     cross: crossSaturation(modes, L.gain),
     invPsat: 1 / L.gain.saturation_power,
+    inhomogeneous: L.gain.broadening === 'inhomogeneous',
     alpha: L.gain.alpha,
     spontaneous_W: L.gain.spontaneous_power,
     hasExternal,

@@ -1,5 +1,5 @@
 /**
- * Gaussian-beam geometry of the three-mirror system (MODEL.md section 2): the laser's
+ * Gaussian-beam geometry of the three-mirror system (docs/model.md §2.4): the laser's
  * TEM00 eigenmode, the beam it sends into the gap, the feedback overlap eta_fb and the
  * per-round-trip efficiency eta_rt of the external cavity.
  */
@@ -40,7 +40,24 @@ export interface BeamsResult {
   roundtripEfficiency: number;
   feedbackSource: 'geometry' | 'scenario';
   roundtripSource: 'geometry' | 'scenario';
+  /** how eta_fb was obtained, in words (printed by `check`) */
+  feedbackBasis: string;
+  /** how eta_rt was obtained, in words */
+  roundtripBasis: string;
 }
+
+/** The bases `check` prints beside the two efficiencies (docs/model.md §2.4). */
+export const EFFICIENCY_BASIS = {
+  eigenmode: 'eigenmode overlap',
+  eigenmodeKeeps: 'stable gap: its eigenmode loses nothing to mismatch',
+  singleBounce: 'unstable gap: single-bounce overlap',
+  geometricLoss: 'unstable gap: geometric loss per round trip',
+  noLaserMode: 'no laser eigenmode',
+  assumedMatched: 'stable gap, entry assumed matched',
+  noGapMode: 'no eigenmode in either cavity',
+  given: 'given',
+  noGap: 'no gap',
+} as const;
 
 /**
  * Beam sizes and coupling efficiencies from the mirror geometry.
@@ -54,16 +71,23 @@ export interface BeamsResult {
  *   SUBSTRATE_INDEX, so the substrate is a thin lens f = -R2/(n_sub - 1) (diverging for a
  *   concave coating); flat M2: no lens.
  * - Gap: free space L2; the gap element is thin (only its transmission matters).
- * - eta_fb: the outgoing beam travels L2, reflects at M3 (lens f = R3/2), travels back;
- *   its power overlap at M2 with the time-reversed laser beam (q -> -q*) is eta_fb. The
- *   overlap is the same just inside M2: the substrate lens multiplies both fields by the
- *   same phase. eta_fb = 1 exactly when M3 fits the arriving wavefront (phase conjugation).
  * - External cavity: M2 seen from the gap is the coating seen through the substrate,
  *   radius -R2/n_sub (the sign flips: concave towards the laser is convex towards the
  *   gap; the reflection happens inside the glass). g2 = 1 - L2/(-R2/n_sub), g3 = 1 - L2/R3.
- *   Stable: eta_rt = overlap of the injected beam with the external eigenmode (1 when
- *   matched). Not stable: eta_rt = overlap of the injected beam with itself after one
- *   round trip M2 -> M3 -> M2, a one-pass estimate of what stays in the beam.
+ * - Stable gap (0 < g2 g3 < 1, docs/model.md §2.4): the gap's own TEM00 eigenmode is what
+ *   circulates. eta_fb = power overlap of the laser's beam (through the substrate) with
+ *   that eigenmode at M2 (Kogelnik and Li, Appl. Opt. 5, 1550 (1966); Siegman, Lasers,
+ *   ch. 17 and 19-20); it applies on the way in and, by reciprocity, on the way back. The
+ *   rest of the injected light goes into other transverse modes, which resonate at other
+ *   lengths and are booked as lost. eta_rt = 1: the eigenmode reproduces itself and loses
+ *   nothing to mismatch on its round trips (counting the mismatch on every round trip
+ *   would cut the finesse); a number given in the scenario stays a per-round-trip loss
+ *   (clipping, scatter).
+ * - Unstable or marginal gap (no eigenmode): eta_fb = overlap at M2 of the beam returned
+ *   after one bounce (out L2, M3 as a lens f = R3/2, back L2) with the time-reversed laser
+ *   beam (q -> -q*); the substrate lens multiplies both fields by the same phase, so the
+ *   overlap is the same just inside M2. eta_rt = overlap of the injected beam with itself
+ *   after one round trip M2 -> M3 -> M2, the geometric power kept per round trip.
  * - Gap waist: where the outgoing beam has its waist between M2 and M3 (ends included, so
  *   the waist on a flat M2 is reported at position 0); peak
  *   intensity per watt there is 2/(pi w0^2) (TEM00 peak over power, Siegman ch. 17).
@@ -111,6 +135,8 @@ export function computeBeams(s: Scenario): BeamsResult {
       roundtripEfficiency: 0,
       feedbackSource: 'geometry',
       roundtripSource: 'geometry',
+      feedbackBasis: EFFICIENCY_BASIS.noGap,
+      roundtripBasis: EFFICIENCY_BASIS.noGap,
     };
   }
 
@@ -124,6 +150,8 @@ export function computeBeams(s: Scenario): BeamsResult {
 
   let etaFb: number;
   let etaRt: number;
+  let fbBasis: string;
+  let rtBasis: string;
   if (laser.qAtMirror2) {
     const qOut = propagateQ(laser.qAtMirror2, thinLens(substrateFocalLength_m(r2, SUBSTRATE_INDEX)));
     const qAtM3 = propagateQ(qOut, freeSpace(l2));
@@ -137,26 +165,34 @@ export function computeBeams(s: Scenario): BeamsResult {
       beams.gap_waist_position_m = Math.min(Math.max(waistAt, 0), l2);
       beams.peak_intensity_per_W_m2 = 2 / (Math.PI * w0 * w0);
     }
-    etaFb = returnOverlap(qOut, l2, r3);
-    if (etaFb < POOR_MATCH) {
-      notes.push(
-        `the beam returned by M3 overlaps the laser mode by only ${fmt(etaFb)} (mode mismatch at M2).`,
-      );
-    }
     if (external.qAtMirror1) {
-      etaRt = gaussianOverlap(qOut, external.qAtMirror1);
-      if (etaRt < POOR_MATCH)
-        notes.push(`the injected beam matches the external cavity's mode by only ${fmt(etaRt)}.`);
+      etaFb = gaussianOverlap(qOut, external.qAtMirror1);
+      etaRt = 1;
+      fbBasis = EFFICIENCY_BASIS.eigenmode;
+      rtBasis = EFFICIENCY_BASIS.eigenmodeKeeps;
+      if (etaFb < POOR_MATCH)
+        notes.push(
+          `the laser's beam matches the gap's eigenmode by only ${fmt(etaFb)} (mode mismatch at M2).`,
+        );
     } else {
+      etaFb = returnOverlap(qOut, l2, r3);
       const roundTrip = cascade(freeSpace(l2), curvedMirror(r3), freeSpace(l2), curvedMirror(r2Back));
       etaRt = gaussianOverlap(qOut, propagateQ(qOut, roundTrip));
+      fbBasis = EFFICIENCY_BASIS.singleBounce;
+      rtBasis = EFFICIENCY_BASIS.geometricLoss;
+      if (etaFb < POOR_MATCH)
+        notes.push(
+          `the beam returned by M3 overlaps the laser mode by only ${fmt(etaFb)} (mode mismatch at M2).`,
+        );
       notes.push(
-        `the external cavity has no Gaussian eigenmode; round-trip efficiency ${fmt(etaRt)} is the overlap of the injected beam with itself after one round trip.`,
+        `the external cavity has no Gaussian eigenmode: feedback efficiency ${fmt(etaFb)} is the single-bounce overlap, round-trip efficiency ${fmt(etaRt)} the overlap of the injected beam with itself after one round trip.`,
       );
     }
   } else {
     etaFb = 0;
     etaRt = external.hasMode ? 1 : 0;
+    fbBasis = EFFICIENCY_BASIS.noLaserMode;
+    rtBasis = external.hasMode ? EFFICIENCY_BASIS.assumedMatched : EFFICIENCY_BASIS.noGapMode;
     notes.push(
       'the laser has no Gaussian eigenmode, so no feedback efficiency follows from geometry (0); give external.feedback_efficiency for a guided or thermally lensed mode.',
     );
@@ -175,6 +211,7 @@ export function computeBeams(s: Scenario): BeamsResult {
     );
     etaFb = ext.feedback_efficiency;
     feedbackSource = 'scenario';
+    fbBasis = EFFICIENCY_BASIS.given;
   }
   if (typeof ext.roundtrip_efficiency === 'number') {
     notes.push(
@@ -182,8 +219,17 @@ export function computeBeams(s: Scenario): BeamsResult {
     );
     etaRt = ext.roundtrip_efficiency;
     roundtripSource = 'scenario';
+    rtBasis = EFFICIENCY_BASIS.given;
   }
-  return { beams, feedbackEfficiency: etaFb, roundtripEfficiency: etaRt, feedbackSource, roundtripSource };
+  return {
+    beams,
+    feedbackEfficiency: etaFb,
+    roundtripEfficiency: etaRt,
+    feedbackSource,
+    roundtripSource,
+    feedbackBasis: fbBasis,
+    roundtripBasis: rtBasis,
+  };
 }
 
 /**
