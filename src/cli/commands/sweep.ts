@@ -19,6 +19,7 @@ import { safeFolderName } from '../../sweep/batch';
 import { createProgress, formatDuration } from '../progress';
 import { writeSweepReport } from '../../report/sweep-report';
 import { recommendedPointLine } from '../format';
+import { FORCE_HELP, openResultFolder } from '../result-folder';
 
 /** `--jobs N`: a whole number >= 1; absent: os.availableParallelism(). Throws InputError otherwise. */
 export function parseJobs(text: string | undefined): number {
@@ -64,6 +65,7 @@ interface SweepCliOptions {
   shard?: string;
   quiet?: boolean;
   engine?: EngineChoice;
+  force?: boolean;
 }
 
 /** Register `sweep`. */
@@ -83,6 +85,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
     )
     .option('--quiet', 'no progress output')
     .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
+    .option('--force', FORCE_HELP)
     .action(async (file: string, opts: SweepCliOptions) => {
       const jobs = parseJobs(opts.jobs);
       const shard = resolveShard(opts.shard);
@@ -101,6 +104,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       const base = opts.out ?? path.join('reports', safeFolderName(s.name));
       const dir = shard ? path.join(base, shardFolderName(shard)) : base;
       const label = `sweep ${s.name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`;
+      const lock = openResultFolder(dir, 'sweep', { force: opts.force, label: 'dithercav sweep' });
       const progress = createProgress({ label, total: 0, quiet: opts.quiet });
       const stop = interruptOnSignal((m) => progress.log(m));
       const t0 = Date.now();
@@ -120,6 +124,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       } finally {
         progress.stop();
         stop.dispose();
+        lock.release();
       }
       try {
         writeSweepReport(dir);
@@ -142,10 +147,18 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         );
         process.exit(130);
       }
+      if (out.errors > 0) {
+        process.stderr.write(
+          `${label}: ${out.errors} point(s) stopped on an error, not a numerical failure (status error, message and stack in points.ndjson): please report it\n`,
+        );
+        ctx.setExit(1);
+      }
       if (out.failed > 0) {
         process.stderr.write(
           `${label}: ${out.failed} point(s) failed (class numerical-failure, see points.ndjson)\n`,
         );
+        ctx.setExit(1);
+      } else if (out.errors > 0) {
         ctx.setExit(1);
       } else if (out.interrupted) {
         ctx.setExit(1);
