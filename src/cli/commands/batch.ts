@@ -19,6 +19,7 @@ import { createProgress } from '../progress';
 import type { ProgressReporter } from '../progress';
 import { interruptOnSignal, parseJobs } from './sweep';
 import { FORCE_HELP, openResultFolder } from '../result-folder';
+import { BATCH_FILES } from '../../results/files';
 import type { FolderLock } from '../../results/lock';
 
 interface BatchCliOptions {
@@ -98,7 +99,7 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
       (lock as FolderLock | null)?.release();
       const c = batchCounts(index);
       process.stdout.write(
-        `batch: ${c.total} scenario(s): ${c.ok} ok, ${c.failed} failed, ${c.bad_input} bad input -> ${path.join(outDir, 'index.json')}\n`,
+        `batch: ${c.total} scenario(s): ${c.ok} ok, ${c.failed} failed, ${c.bad_input} bad input -> ${path.join(outDir, BATCH_FILES.index)}\n`,
       );
       if (stop.signal.aborted) process.exit(130);
       ctx.setExit(c.failed > 0 || c.bad_input > 0 ? 1 : 0);
