@@ -366,3 +366,16 @@ describe('a point whose run throws is an error, not a numerical failure', () => 
     expect(out.map.classes.filter((c) => c === 'numerical-failure')).toHaveLength(0);
   });
 });
+
+describe('what a stopped run says it kept', () => {
+  it('names the phase it stopped in and that no result was written', async () => {
+    const { interruptedRunMessage } = await import('../src/cli/commands/run');
+    expect(interruptedRunMessage('out/x', 'driven run', 0.62)).toMatch(
+      /^stopped: the free-running and static references had finished; the driven run was interrupted \(62 % of the run\)\. No result was written to out\/x/,
+    );
+    expect(interruptedRunMessage('out/x', 'references', 0.2)).toMatch(
+      /interrupted during the references \(20 % of the run\); the driven run had not started/,
+    );
+    expect(interruptedRunMessage('out/x', null, 0)).toMatch(/before the simulation had started/);
+  });
+});

@@ -8,6 +8,8 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { runScenario } from '../simulate/run';
 import type { EngineChoice } from '../simulate/run';
 import type { Scenario } from '../scenario/schema';
+import { InputError } from '../scenario/errors';
+import type { InputProblem } from '../scenario/errors';
 
 /** What the main thread sends. */
 export interface RunThreadInput {
@@ -20,24 +22,37 @@ export interface RunThreadInput {
 export type RunThreadMessage =
   | { type: 'progress'; fraction: number; label: string }
   | { type: 'done'; artifacts: ReturnType<typeof runScenario> }
-  | { type: 'error'; message: string; stack: string | null };
+  | { type: 'error'; message: string; stack: string | null }
+  | { type: 'input-error'; file: string | null; problems: InputProblem[] };
 
 if (parentPort) {
   const port = parentPort;
   const input = workerData as RunThreadInput;
+  let lastLabel = '';
+  let lastAt = 0;
   try {
     const artifacts = runScenario(input.scenario, {
       engine: input.engine,
       seed: input.seed,
-      onProgress: (fraction, label) =>
-        port.postMessage({ type: 'progress', fraction, label } satisfies RunThreadMessage),
+      onProgress: (fraction, label) => {
+        // at most ten messages a second, and every change of phase
+        const now = Date.now();
+        if (label === lastLabel && now - lastAt < 100) return;
+        lastLabel = label;
+        lastAt = now;
+        port.postMessage({ type: 'progress', fraction, label } satisfies RunThreadMessage);
+      },
     });
     port.postMessage({ type: 'done', artifacts } satisfies RunThreadMessage);
   } catch (err) {
-    port.postMessage({
-      type: 'error',
-      message: err instanceof Error ? err.message : String(err),
-      stack: err instanceof Error ? (err.stack ?? null) : null,
-    } satisfies RunThreadMessage);
+    port.postMessage(
+      err instanceof InputError
+        ? ({ type: 'input-error', file: err.file, problems: err.problems } satisfies RunThreadMessage)
+        : ({
+            type: 'error',
+            message: err instanceof Error ? err.message : String(err),
+            stack: err instanceof Error ? (err.stack ?? null) : null,
+          } satisfies RunThreadMessage),
+    );
   }
 }

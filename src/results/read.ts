@@ -17,7 +17,10 @@ import {
   benchReportSchema,
   comparisonSchema,
   runSummarySchema,
+  spectraSetSchema,
+  staticCurveSchema,
   sweepHeaderSchema,
+  traceSetSchema,
   sweepMapSchema,
 } from './schemas';
 import type { RunSummary, StaticCurve } from './summary';
@@ -177,52 +180,33 @@ export function readBenchReport(file: string): Record<string, unknown> {
   return readValidated(file, benchReportSchema, 'a benchmark report');
 }
 
-function optionalObject<T>(
-  file: string,
-  what: string,
-  check: (v: Record<string, unknown>) => string | null,
-): T | null {
+/** An optional file of a run folder: null when absent, else validated like the others. */
+function optionalValidated<T>(file: string, schema: z.ZodType, what: string): T | null {
   const v = readJson(file, what, false);
-  if (v === null) return null;
-  if (typeof v !== 'object' || Array.isArray(v))
-    throw new InputError(file, [
-      { path: '', message: `expected ${what} (a JSON object), found ${typeName(v)}` },
-    ]);
-  const bad = check(v as Record<string, unknown>);
-  if (bad !== null)
-    throw new InputError(file, [
-      {
-        path: bad,
-        message: `expected a list of numbers, found ${typeName((v as Record<string, unknown>)[bad])}`,
-      },
-    ]);
-  return v as T;
+  return v === null ? null : validate<T>(file, schema, v, what);
 }
 
-const firstNonList = (keys: string[]) => (v: Record<string, unknown>) =>
-  keys.find((k) => !Array.isArray(v[k])) ?? null;
-
 /**
- * Every file of a run folder: summary.json (required, validated), and the traces,
- * spectra and static curve when saved (each an object with its lists; null when absent).
+ * Every file of a run folder: summary.json (required), and the traces, spectra and static
+ * curve when saved (null when absent), each validated against its schema.
  */
 export function readRunArtifacts(dir: string): RunArtifacts {
   return {
     summary: readRunSummary(dir),
-    traces: optionalObject<TraceSet>(
+    traces: optionalValidated<TraceSet>(
       path.join(dir, RUN_FILES.traces),
+      traceSetSchema,
       'the time traces of a run',
-      firstNonList(['t_s', 'series']),
     ),
-    spectra: optionalObject<SpectraSet>(
+    spectra: optionalValidated<SpectraSet>(
       path.join(dir, RUN_FILES.spectra),
+      spectraSetSchema,
       'the spectra of a run',
-      firstNonList(['optical']),
     ),
-    static_curve: optionalObject<StaticCurve>(
+    static_curve: optionalValidated<StaticCurve>(
       path.join(dir, RUN_FILES.staticCurve),
+      staticCurveSchema,
       'the static power curve of a run',
-      firstNonList(['position_m', 'external_up_W', 'external_down_W']),
     ),
   };
 }

@@ -35,7 +35,8 @@ const version = z
   );
 const runClass = z.enum(RUN_CLASS_VALUES);
 
-const minMeanMax = z.looseObject({ mean: power, min: power, max: power });
+// the mean of powers is never negative; min and max are kept as computed
+const minMeanMax = z.looseObject({ mean: power, min: num, max: num });
 
 const warning = z.looseObject({ code: z.string(), message: z.string() });
 
@@ -61,7 +62,7 @@ export const drivenSchema = z.looseObject({
   offsets: count,
   offset_positions_m: z.array(num),
   external_mean_by_offset_W: z.looseObject({ min: num, max: num, values: z.array(num) }),
-  mode_occupation: z.array(z.looseObject({ index: z.number().int(), fraction: z.number().min(0).max(1) })),
+  mode_occupation: z.array(z.looseObject({ index: z.number().int(), fraction: z.number().min(0) })),
   hop_phase_histogram: z.array(nonneg),
   analysed_time_s: nonneg,
   settle_time_s: nonneg,
@@ -349,4 +350,31 @@ export const benchReportSchema = z.looseObject({
   map_wall_s_jobs2: z.number().min(0),
   jobs2_speedup: z.number().min(0),
   targets: z.record(z.string(), z.looseObject({ target: z.string(), holds: z.boolean() })),
+});
+
+const series = z.array(num);
+
+/** traces.json of a run folder. */
+export const traceSetSchema = z.looseObject({
+  t_s: series,
+  series: z.array(z.looseObject({ key: z.string(), label: z.string(), unit: z.string(), values: series })),
+  drive_period_s: nonneg,
+});
+
+const spectrum = z.looseObject({ f_Hz: series, values: series });
+
+/** spectra.json of a run folder. */
+export const spectraSetSchema = z.looseObject({
+  rin: spectrum.nullable(),
+  optical: z.array(spectrum),
+  drive_harmonics_Hz: series,
+});
+
+/** static_curve.json of a run folder. */
+export const staticCurveSchema = z.looseObject({
+  position_m: series,
+  external_up_W: series,
+  external_down_W: series,
+  laser_output_up_W: series,
+  laser_output_down_W: series,
 });

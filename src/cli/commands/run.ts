@@ -106,13 +106,14 @@ class RunInterrupted extends Error {}
  * fraction) and that nothing was written, since a run folder is written whole at the end.
  */
 export function interruptedRunMessage(out: string, label: string | null, fraction: number): string {
-  const pct = `${Math.round(100 * Math.min(1, Math.max(0, fraction)))} % of the run`;
+  const f = Math.min(1, Math.max(0, fraction));
+  const pct = f >= 0.01 ? ` (${Math.round(100 * f)} % of the run)` : '';
   const where =
     label === null
       ? 'before the simulation had started'
       : label === 'driven run'
-        ? `the free-running and static references had finished; the driven run was interrupted (${pct})`
-        : `interrupted during the ${label} (${pct}); the driven run had not started`;
+        ? `the free-running and static references had finished; the driven run was interrupted${pct}`
+        : `interrupted during the ${label}${pct}; the driven run had not started`;
   return `stopped: ${where}. No result was written to ${out}: a run folder is written whole when the run finishes, so no partial result can be mistaken for a finished one. Run the command again to redo it.`;
 }
 
@@ -156,6 +157,9 @@ async function runOnThread(
       } else if (m.type === 'done') {
         done();
         resolve(m.artifacts);
+      } else if (m.type === 'input-error') {
+        done();
+        reject(new InputError(m.file, m.problems));
       } else {
         done();
         const err = new Error(m.message);
