@@ -379,3 +379,53 @@ describe('what a stopped run says it kept', () => {
     expect(interruptedRunMessage('out/x', null, 0)).toMatch(/before the simulation had started/);
   });
 });
+
+describe('the exit code of a sweep with error points', () => {
+  it('is 1 when a point threw, even with no numerical failure, and says so', async () => {
+    const { sweepExitCode, sweepEndLines } = await import('../src/cli/commands/sweep');
+    expect(sweepExitCode({ failed: 0, errors: 1, interrupted: false })).toBe(1);
+    expect(sweepExitCode({ failed: 2, errors: 0, interrupted: false })).toBe(1);
+    expect(sweepExitCode({ failed: 0, errors: 0, interrupted: false })).toBe(0);
+    expect(sweepEndLines('sweep x', { failed: 0, errors: 1, interrupted: false })).toEqual([
+      'sweep x: 1 point(s) stopped on an error, not a numerical failure (status error, message and stack in points.ndjson): please report it',
+    ]);
+  });
+});
+
+describe('merge of a shard still being written', () => {
+  it('warns that the shard is locked by a live writer and merges what is finished', async () => {
+    const { makeHeader, writeHeader } = await import('../src/results/sweep-header');
+    const { mergeShards } = await import('../src/sweep/merge');
+    const { failedPointSummary } = await import('../src/results/points');
+    const axes = [{ key: 'drive.amplitude', values: [1e-9, 2e-9], scale: 'linear' as const }];
+    const d = folder('merge-live-shard');
+    writeHeader(
+      d,
+      makeHeader({
+        name: 'm',
+        scenario_sha256: 'a'.repeat(64),
+        scenario: {},
+        source: null,
+        axes,
+        total_points: 2,
+        shard: { index: 1, count: 2 },
+      }),
+    );
+    const w = new PointWriter(join(d, 'points.ndjson'));
+    w.write({ index: 0, axes: { 'drive.amplitude': 1e-9 }, summary: failedPointSummary('x'), wall_s: 0 });
+    w.close();
+    const lock = acquireFolderLock(d, { command: 'dithercav sweep m.yaml --shard 1/2' });
+    const warnings: string[] = [];
+    const out = mergeShards([d], {
+      outDir: join(root, 'merge-live-out'),
+      onWarning: (m) => warnings.push(m),
+    });
+    lock.release();
+    expect(out.records).toHaveLength(1);
+    expect(warnings.join('\n')).toMatch(
+      new RegExp(
+        `is still being written by 'dithercav sweep m\\.yaml --shard 1/2' \\(process ${process.pid}`,
+      ),
+    );
+  });
+});

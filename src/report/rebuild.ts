@@ -40,7 +40,7 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: 'expected a result folder (with summary.json, map.json or index.json), found no such folder',
+        message: `expected a result folder (with ${RUN_FILES.summary}, ${SWEEP_FILES.map} or ${BATCH_FILES.index}), found no such folder`,
       },
     ]);
   }

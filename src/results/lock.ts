@@ -203,3 +203,14 @@ function holdLock(file: string, info: FolderLockInfo): FolderLock {
 export function commandLine(argv: readonly string[] = process.argv): string {
   return ['dithercav', ...argv.slice(2)].join(' ');
 }
+
+/**
+ * The lock held in `dir` by a writer that may still be running (same host and alive, or
+ * another host, which cannot be checked), or null. For readers that should warn, e.g.
+ * `merge` of a shard whose sweep still runs.
+ */
+export function activeLock(dir: string): FolderLockInfo | null {
+  const info = parseLockInfo(safeRead(path.join(dir, FOLDER_FILES.lock)));
+  if (info === null) return null;
+  return info.host !== os.hostname() || processAlive(info.pid) ? info : null;
+}

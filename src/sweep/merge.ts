@@ -17,6 +17,7 @@ import { describeDropped, formatPointLine, readPoints } from '../results/points'
 import type { SweepHeader } from '../results/sweep-header';
 import { makeHeader, readHeader, writeHeader } from '../results/sweep-header';
 import { SWEEP_FILES } from '../results/files';
+import { activeLock } from '../results/lock';
 
 export interface MergeOptions {
   /** output folder; default `<parent of the first folder>/<scenario name>-merged` */
@@ -94,6 +95,14 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
   }
 
   opts.openOut?.(outDir);
+
+  for (const d of dirs) {
+    const held = activeLock(d);
+    if (held)
+      warn(
+        `${d} is still being written by '${held.command}' (process ${held.pid} on host ${held.host}): the merge holds only the points finished so far`,
+      );
+  }
 
   const byIndex = new Map<number, PointRecord>();
   let duplicates = 0;

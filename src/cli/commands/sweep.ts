@@ -58,6 +58,33 @@ export function interruptOnSignal(onFirst: (message: string) => void): {
   };
 }
 
+/** The counts of a finished (or stopped by an error) sweep that decide its exit code. */
+export interface SweepCounts {
+  failed: number;
+  errors: number;
+  interrupted: boolean;
+}
+
+/**
+ * Exit code of a sweep that was not stopped by Ctrl-C: 1 when a point failed numerically,
+ * a point's run threw (status 'error', a program error), or points are missing; else 0.
+ */
+export function sweepExitCode(c: SweepCounts): 0 | 1 {
+  return c.failed > 0 || c.errors > 0 || c.interrupted ? 1 : 0;
+}
+
+/** What the sweep says at the end about failed and erroneous points (stderr lines). */
+export function sweepEndLines(label: string, c: SweepCounts): string[] {
+  const lines: string[] = [];
+  if (c.errors > 0)
+    lines.push(
+      `${label}: ${c.errors} point(s) stopped on an error, not a numerical failure (status error, message and stack in points.ndjson): please report it`,
+    );
+  if (c.failed > 0)
+    lines.push(`${label}: ${c.failed} point(s) failed (class numerical-failure, see points.ndjson)`);
+  return lines;
+}
+
 interface SweepCliOptions {
   out?: string;
   jobs?: string;
@@ -147,23 +174,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         );
         process.exit(130);
       }
-      if (out.errors > 0) {
-        process.stderr.write(
-          `${label}: ${out.errors} point(s) stopped on an error, not a numerical failure (status error, message and stack in points.ndjson): please report it\n`,
-        );
-        ctx.setExit(1);
-      }
-      if (out.failed > 0) {
-        process.stderr.write(
-          `${label}: ${out.failed} point(s) failed (class numerical-failure, see points.ndjson)\n`,
-        );
-        ctx.setExit(1);
-      } else if (out.errors > 0) {
-        ctx.setExit(1);
-      } else if (out.interrupted) {
-        ctx.setExit(1);
-      } else {
-        ctx.setExit(0);
-      }
+      for (const line of sweepEndLines(label, out)) process.stderr.write(`${line}\n`);
+      ctx.setExit(sweepExitCode(out));
     });
 }
