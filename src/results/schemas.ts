@@ -7,15 +7,11 @@
  */
 import { z } from 'zod';
 import { RESULT_VERSION } from './files';
+import { RUN_CLASSES } from './summary';
+import type { RunClass } from './summary';
 
-const RUN_CLASS_VALUES = [
-  'decoupled',
-  'modulated',
-  'hopping',
-  'no-gain',
-  'no-lasing',
-  'numerical-failure',
-] as const;
+/** The run classes, from the one list (./summary.ts): a class added there is accepted here. */
+const RUN_CLASS_VALUES = RUN_CLASSES as readonly [RunClass, ...RunClass[]];
 
 /** A finite number or null (not computed). */
 const num = z.number().nullable();
