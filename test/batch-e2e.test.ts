@@ -8,7 +8,7 @@
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join, relative, resolve, sep } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 
 const ROOT = resolve(__dirname, '..');
@@ -42,12 +42,15 @@ describe('batch command end to end', () => {
     expect(r.err).toMatch(/c-broken\.yaml:14:5: laser\.gain\.pump_ratoi: unknown key/);
     expect(r.err).not.toMatch(/^\s+at .+[(:]/m);
     const index = JSON.parse(readFileSync(join(out, 'index.json'), 'utf8'));
-    // Sorted by path; notes.txt is not a scenario file and is not listed.
+    // Sorted by path; notes.txt is not a scenario file and is not listed. Paths are
+    // relative to the batch folder, so a moved or shared batch folder still finds them.
+    const rel = (f: string) => relative(out, f).split(sep).join('/');
     expect(index.map((e: { file: string }) => e.file)).toEqual([
-      join(FOLDER, 'a-run.yaml'),
-      join(FOLDER, 'c-broken.yaml'),
-      join(FOLDER, 'nested', 'b-sweep.yaml'),
+      rel(join(FOLDER, 'a-run.yaml')),
+      rel(join(FOLDER, 'c-broken.yaml')),
+      rel(join(FOLDER, 'nested', 'b-sweep.yaml')),
     ]);
+    for (const e of index) expect(existsSync(resolve(out, e.file)), e.file).toBe(true);
     const [run, broken, sweep] = index;
     expect(run).toMatchObject({
       name: 'tiny-run',

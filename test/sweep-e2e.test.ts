@@ -172,6 +172,10 @@ describe('sweep command end to end', () => {
     const r = cliSync(['sweep', TINY, '--out', dir, '--jobs', '2', '--resume']);
     expect(r.code, r.err).toBe(0);
     expect(r.err).toMatch(/points\.ndjson:\d+: dropped \(the last line is incomplete/);
+    // the killed process left its lock behind; its process id is gone, so the lock is taken over, saying so
+    expect(r.err).toMatch(
+      new RegExp(`taking over the lock of 'dithercav sweep .*\\(process ${child.pid} .*that process is gone`),
+    );
     expect(r.out).toMatch(new RegExp(`${TOTAL}/${TOTAL} points \\(${kept} resumed\\)`));
     expectSameAsReference(pointsOf(dir));
   });

@@ -15,6 +15,8 @@ import { measureMap } from './map-timing';
 import { measureMemory } from './memory';
 import { measureCpuPair } from './cpu-pair';
 import { formatTable, TableRow } from './table';
+import { RESULT_VERSION } from '../results/files';
+import { TOOL_VERSION } from '../version';
 
 /** What the benchmark runs; sized to finish in about five minutes on two cores. */
 export const BENCH_SETTINGS = {
@@ -110,6 +112,8 @@ async function main(): Promise<void> {
   for (const x of b) fastVsExact[String(x.frequency_Hz)] = x.speedup;
 
   const report = {
+    version: RESULT_VERSION,
+    tool_version: TOOL_VERSION,
     date: new Date().toISOString(),
     machine: {
       cpus: os.cpus().length,

@@ -17,6 +17,8 @@ import type { Scenario } from '../scenario/schema';
 import { rangeValues } from '../sweep/grid';
 import { runSweep } from '../sweep/run-sweep';
 import { computeReferences } from '../simulate/run';
+import { readPoints } from '../results/points';
+import { SWEEP_FILES } from '../results/files';
 
 export interface MapTimingOptions {
   /** points per axis of the full map */
@@ -70,19 +72,8 @@ async function timedSweep(
       },
     });
     const wall_s = Number(process.hrtime.bigint() - t0) / 1e9;
-    const lines = fs
-      .readFileSync(path.join(dir, 'points.ndjson'), 'utf8')
-      .split('\n')
-      .filter((l) => l.trim() !== '');
-    const recs = lines.map(
-      (l) =>
-        JSON.parse(l) as {
-          index: number;
-          axes: Record<string, number>;
-          summary: { engine: string | null; class: string };
-          wall_s: number;
-        },
-    );
+    // the one validating reader of points.ndjson (results room)
+    const recs = readPoints(path.join(dir, SWEEP_FILES.points)).records;
     recs.sort((a, b) => a.index - b.index);
     if (out.failed > 0)
       log(`c. jobs ${jobs}: ${out.failed} point(s) failed numerically (kept in the timing)`);

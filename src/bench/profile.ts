@@ -5,6 +5,7 @@
  */
 import * as path from 'node:path';
 import { loadScenarioFile } from '../scenario/load';
+import { BENCH_FILE } from '../results/files';
 import type { Scenario } from '../scenario/schema';
 import { withOverrides } from '../scenario/validate';
 
@@ -12,7 +13,7 @@ import { withOverrides } from '../scenario/validate';
 export const DEMO_FILE = path.resolve(__dirname, '..', '..', 'scenarios', 'demo.yaml');
 
 /** reports/bench.json of the package. */
-export const BENCH_JSON = path.resolve(__dirname, '..', '..', 'reports', 'bench.json');
+export const BENCH_JSON = path.resolve(__dirname, '..', '..', BENCH_FILE);
 
 /**
  * Overrides of the bench profile: two analysed drive periods (raised by the run itself to

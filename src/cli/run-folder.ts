@@ -9,10 +9,11 @@ import type { RunArtifacts } from '../results/artifacts';
 import { RUN_FILES } from '../results/artifacts';
 import { spectraSetToCsv, traceSetToCsv } from '../analysis/csv';
 import { writeRunReport } from '../report/run-report';
+import { writeResultMarker } from '../results/marker';
 
 /** Write the folder; returns the path of report.html, or null with the reason printed if the report failed. */
 export function writeRunFolder(dir: string, a: RunArtifacts, label = 'dithercav'): string | null {
-  fs.mkdirSync(dir, { recursive: true });
+  writeResultMarker(dir, 'run');
   const put = (name: string, v: unknown) =>
     fs.writeFileSync(path.join(dir, name), `${JSON.stringify(v, null, 1)}\n`);
   if (a.traces) {

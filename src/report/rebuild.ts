@@ -5,19 +5,20 @@
 import { existsSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { RUN_FILES } from '../results/artifacts';
-import { BATCH_FILES, BatchIndexEntry } from '../results/batch';
+import { BATCH_FILES } from '../results/batch';
 import { InputError } from '../scenario/errors';
 import { writeBatchIndexHtml } from './batch-index';
-import { readJsonFile } from './read-results';
+import { readBatchIndex } from '../results/read';
 import { writeRunReport } from './run-report';
-import { SWEEP_MAP_FILE, writeSweepReport } from './sweep-report';
+import { writeSweepReport } from './sweep-report';
+import { SWEEP_FILES } from '../results/files';
 
 export type ResultFolderKind = 'run' | 'sweep' | 'batch';
 
 /** What a folder holds: summary.json -> run, map.json -> sweep, index.json -> batch; null for none. */
 export function detectResultFolder(dir: string): ResultFolderKind | null {
   if (existsSync(join(dir, RUN_FILES.summary))) return 'run';
-  if (existsSync(join(dir, SWEEP_MAP_FILE))) return 'sweep';
+  if (existsSync(join(dir, SWEEP_FILES.map))) return 'sweep';
   if (existsSync(join(dir, BATCH_FILES.index))) return 'batch';
   return null;
 }
@@ -26,27 +27,6 @@ export interface RebuildResult {
   kind: ResultFolderKind;
   /** every HTML file written (for a batch: index.html first, then the member reports) */
   written: string[];
-}
-
-function readBatchIndex(file: string): BatchIndexEntry[] {
-  const v = readJsonFile(file, 'the index of a batch', true);
-  const list = Array.isArray(v)
-    ? v
-    : v !== null && typeof v === 'object' && Array.isArray((v as { entries?: unknown }).entries)
-      ? (v as { entries: unknown[] }).entries
-      : null;
-  if (list === null)
-    throw new InputError(file, [
-      { path: '', message: 'expected a list of batch entries { file, name, kind, status, ... }' },
-    ]);
-  list.forEach((e, i) => {
-    if (e === null || typeof e !== 'object' || typeof (e as BatchIndexEntry).status !== 'string') {
-      throw new InputError(file, [
-        { path: String(i), message: "expected a batch entry with a 'status' of ok, failed or bad-input" },
-      ]);
-    }
-  });
-  return list as BatchIndexEntry[];
 }
 
 /**
@@ -60,7 +40,7 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: 'expected a result folder (with summary.json, map.json or index.json), found no such folder',
+        message: `expected a result folder (with ${RUN_FILES.summary}, ${SWEEP_FILES.map} or ${BATCH_FILES.index}), found no such folder`,
       },
     ]);
   }
@@ -69,13 +49,13 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_MAP_FILE}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
+        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_FILES.map}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
       },
     ]);
   }
   if (kind === 'run') return { kind, written: [writeRunReport(dir)] };
   if (kind === 'sweep') return { kind, written: [writeSweepReport(dir)] };
-  const index = readBatchIndex(join(dir, BATCH_FILES.index));
+  const index = readBatchIndex(dir);
   const written = [writeBatchIndexHtml(dir, index)];
   for (const e of index) {
     if (e.status !== 'ok' || typeof e.folder !== 'string' || e.folder === '') continue;

@@ -9,7 +9,7 @@
  */
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { RUN_FILES } from '../results/artifacts';
+import { SWEEP_FILES } from '../results/files';
 import type { CurvePoint, MapAxis, SweepMap } from '../results/map';
 import { RUN_CLASSES } from '../results/summary';
 import { QUANTITY_KINDS } from '../scenario/units';
@@ -28,11 +28,9 @@ import {
   unitOfKey,
 } from './format';
 import { axis, baseLayout, plotDiv, PlotSpec, renderPage, TRACE_COLOURS } from './html';
-import { readJsonFile } from './read-results';
+import { readSweepMap } from '../results/read';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
 import { scenarioQuantityKinds } from './scenario-table';
-
-export const SWEEP_MAP_FILE = 'map.json';
 
 /** How many of the best decoupled points the table lists. */
 export const BEST_POINTS = 10;
@@ -669,26 +667,6 @@ function countsSection(m: SweepMap): SafeHtml {
   </section>`;
 }
 
-function checkMap(file: string, m: unknown): SweepMap {
-  const problems: { path: string; message: string }[] = [];
-  const o = m as Record<string, unknown> | null;
-  if (o === null || typeof o !== 'object' || Array.isArray(o))
-    throw new InputError(file, [{ path: '', message: 'expected a sweep map (a JSON object)' }]);
-  if (!Array.isArray(o.axes) || o.axes.length === 0)
-    problems.push({ path: 'axes', message: 'expected a list of at least one axis' });
-  else
-    (o.axes as unknown[]).forEach((a, k) => {
-      if (!a || typeof a !== 'object' || !Array.isArray((a as MapAxis).values))
-        problems.push({ path: `axes.${k}.values`, message: 'expected a list of numbers' });
-    });
-  if (!Array.isArray(o.classes))
-    problems.push({ path: 'classes', message: 'expected a list with one class per point' });
-  if (o.metrics === null || typeof o.metrics !== 'object')
-    problems.push({ path: 'metrics', message: 'expected an object of metric name -> list of values' });
-  if (problems.length > 0) throw new InputError(file, problems);
-  return o as unknown as SweepMap;
-}
-
 /** The sweep report page as an HTML string, from a SweepMap. */
 export function buildSweepReportHtml(m: SweepMap, generatedAt: Date = new Date()): string {
   const plots: PlotSpec[] = [];
@@ -706,11 +684,14 @@ export function buildSweepReportHtml(m: SweepMap, generatedAt: Date = new Date()
   });
 }
 
-/** Read `map.json` in a sweep folder and write its report.html. Returns the path written; InputError for a missing or malformed map. */
+/**
+ * Read `map.json` in a sweep folder (validated against the contract, results/read.ts) and
+ * write its report.html. Returns the path written; InputError (file and key path) for a
+ * missing, damaged or nonsensical map, in which case nothing is written.
+ */
 export function writeSweepReport(dir: string): string {
-  const file = join(dir, SWEEP_MAP_FILE);
-  const m = checkMap(file, readJsonFile(file, 'the map of a sweep', true));
-  const out = join(dir, RUN_FILES.report);
+  const m = readSweepMap(dir);
+  const out = join(dir, SWEEP_FILES.report);
   writeFileSync(out, buildSweepReportHtml(m));
   return out;
 }

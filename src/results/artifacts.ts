@@ -42,13 +42,5 @@ export interface RunArtifacts {
   static_curve: StaticCurve | null;
 }
 
-/** File names inside a run folder. */
-export const RUN_FILES = {
-  summary: 'summary.json',
-  traces: 'traces.json',
-  tracesCsv: 'traces.csv',
-  spectra: 'spectra.json',
-  spectraCsv: 'spectra.csv',
-  staticCurve: 'static_curve.json',
-  report: 'report.html',
-} as const;
+/** File names inside a run folder (./files.ts). */
+export { RUN_FILES } from './files';

@@ -6,7 +6,7 @@
 import type { RunClass } from './summary';
 
 export interface BatchIndexEntry {
-  /** the scenario file, as given on the command line or found under a path */
+  /** the scenario file, relative to the batch folder (so a moved or shared folder still finds it) */
   file: string;
   /** the scenario's name (or the file name when the file could not be read) */
   name: string;
@@ -26,8 +26,5 @@ export interface BatchIndexEntry {
 /** The whole index.json: an array of entries in the order the files were taken. */
 export type BatchIndex = BatchIndexEntry[];
 
-/** File names inside a batch folder. */
-export const BATCH_FILES = {
-  index: 'index.json',
-  indexHtml: 'index.html',
-} as const;
+/** File names inside a batch folder (./files.ts). */
+export { BATCH_FILES } from './files';

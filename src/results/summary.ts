@@ -6,7 +6,7 @@
 
 import type { ActuatorSheet } from '../physics/actuator';
 
-export const RESULT_VERSION = 1;
+export { RESULT_VERSION } from './files';
 
 export type RunClass = 'decoupled' | 'modulated' | 'hopping' | 'no-gain' | 'no-lasing' | 'numerical-failure';
 

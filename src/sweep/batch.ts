@@ -13,6 +13,9 @@ import type { EngineChoice } from '../simulate';
 import type { RunArtifacts } from '../results/artifacts';
 import { RUN_FILES } from '../results/artifacts';
 import type { RunClass, RunSummary } from '../results/summary';
+import { readRunSummary } from '../results/read';
+import { hasResultMarker, writeResultMarker } from '../results/marker';
+import { FOLDER_FILES } from '../results/files';
 import type { BatchIndexEntry } from '../results/batch';
 import { BATCH_FILES } from '../results/batch';
 import { parse as parseYaml } from 'yaml';
@@ -20,7 +23,7 @@ import type { Executor } from './pool';
 import { createExecutor, ExecutorStopped } from './pool';
 import { runSweep, withEngine } from './run-sweep';
 import type { SweepOutcome } from './run-sweep';
-import type { PointRecord } from './persist';
+import type { PointRecord } from '../results/points';
 
 /** The file endings a batch picks up. */
 export const SCENARIO_EXTENSIONS = ['.yaml', '.yml', '.json'] as const;
@@ -70,9 +73,28 @@ export interface BatchOptions {
   onEntry?: (entry: BatchEntry, done: number, total: number) => void;
   /** progress of the sweep being run */
   onSweepProgress?: (name: string, done: number, total: number, rec: PointRecord | null) => void;
+  /** one line naming the folders the scan skipped and why (only when it skipped some) */
+  onSkipped?: (line: string) => void;
+  /**
+   * called with the output folder once the scan found scenarios, before anything is
+   * written (the CLI checks, locks and marks it); may throw InputError to refuse
+   */
+  openOut?: (dir: string) => void;
 }
 
 export const BATCH_INDEX_FILE = BATCH_FILES.index;
+
+/** A folder the scan did not search, and why. */
+export interface SkippedFolder {
+  path: string;
+  reason: string;
+}
+
+/** What a scan of the batch's paths found. */
+export interface ScenarioScan {
+  files: string[];
+  skipped: SkippedFolder[];
+}
 
 /**
  * The scenario files under `paths`: a file is taken as given (whatever its ending); a
@@ -81,8 +103,30 @@ export const BATCH_INDEX_FILE = BATCH_FILES.index;
  * does not exist.
  */
 export function findScenarioFiles(paths: readonly string[]): string[] {
+  return scanScenarioFiles(paths).files;
+}
+
+/**
+ * As findScenarioFiles, never entering a result folder: the folders in `exclude` (the
+ * batch's own output) and any folder holding the result marker (results/marker.ts) or a
+ * lock file are skipped, and listed with the reason.
+ */
+export function scanScenarioFiles(paths: readonly string[], exclude: readonly string[] = []): ScenarioScan {
   const out = new Set<string>();
+  const skipped: SkippedFolder[] = [];
+  const excluded = new Set(exclude.map((d) => realOrResolved(d)));
+  const skipReason = (dir: string): string | null => {
+    if (excluded.has(realOrResolved(dir))) return "this batch's output folder";
+    if (hasResultMarker(dir)) return 'holds dithercav results';
+    if (fs.existsSync(path.join(dir, FOLDER_FILES.lock))) return 'being written by dithercav (lock file)';
+    return null;
+  };
   const walk = (dir: string) => {
+    const why = skipReason(dir);
+    if (why !== null) {
+      skipped.push({ path: dir, reason: why });
+      return;
+    }
     for (const e of fs
       .readdirSync(dir, { withFileTypes: true })
       .sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0))) {
@@ -104,7 +148,25 @@ export function findScenarioFiles(paths: readonly string[]): string[] {
     if (st.isDirectory()) walk(p);
     else out.add(p);
   }
-  return [...out].sort();
+  return { files: [...out].sort(), skipped };
+}
+
+function realOrResolved(p: string): string {
+  try {
+    return fs.realpathSync(p);
+  } catch {
+    return path.resolve(p);
+  }
+}
+
+/** The skipped folders in one line: "skipped 2 folder(s): out (this batch's output folder); old (holds dithercav results)". */
+export function skippedLine(skipped: readonly SkippedFolder[]): string {
+  return `skipped ${skipped.length} folder(s): ${skipped.map((s) => `${s.path} (${s.reason})`).join('; ')}`;
+}
+
+/** A path relative to `dir`, with forward slashes, as stored in result files. */
+export function relativeTo(dir: string, p: string): string {
+  return path.relative(path.resolve(dir), path.resolve(p)).split(path.sep).join('/');
 }
 
 /** A folder name from a scenario name: letters, digits, '.', '_' and '-' kept, the rest '_'. */
@@ -196,6 +258,9 @@ function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
   if (out.interrupted) {
     e.status = 'failed';
     e.error = `stopped with ${out.finished} of ${out.planned} points finished`;
+  } else if (out.errors > 0) {
+    e.status = 'failed';
+    e.error = `${out.errors} of ${out.planned} points stopped on an error (status error in points.ndjson)`;
   } else if (out.failed > 0) {
     e.status = 'failed';
     e.error = `${out.failed} of ${out.planned} points failed (numerical-failure)`;
@@ -205,12 +270,14 @@ function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
   }
 }
 
-/** A finished run folder of the same scenario (for --resume), or null. */
-function finishedRun(dir: string, sha256: string): RunSummary | null {
+/** A finished run folder of the same scenario (for --resume), or null (a damaged summary is run again, with a warning). */
+function finishedRun(dir: string, sha256: string, warn: (m: string) => void): RunSummary | null {
+  if (!fs.existsSync(path.join(dir, RUN_FILES.summary))) return null;
   try {
-    const s = JSON.parse(fs.readFileSync(path.join(dir, RUN_FILES.summary), 'utf8')) as RunSummary;
-    return s && s.scenario_sha256 === sha256 ? s : null;
-  } catch {
+    const s = readRunSummary(dir);
+    return s.scenario_sha256 === sha256 ? s : null;
+  } catch (err) {
+    warn(`${errorText(err)}\n(running it again)`);
     return null;
   }
 }
@@ -229,7 +296,18 @@ function errorText(err: unknown): string {
  */
 export async function runBatch(paths: readonly string[], opts: BatchOptions): Promise<BatchIndex> {
   const warn = opts.onWarning ?? (() => undefined);
-  const files = findScenarioFiles(paths);
+  const scan = scanScenarioFiles(paths, [opts.outDir]);
+  if (scan.skipped.length > 0) opts.onSkipped?.(skippedLine(scan.skipped));
+  const files = scan.files;
+  if (files.length === 0) {
+    throw new InputError(null, [
+      {
+        path: 'PATH',
+        message: `expected .yaml, .yml or .json scenario files, found none under ${paths.join(', ')}${scan.skipped.length > 0 ? ` (${skippedLine(scan.skipped)})` : ''}`,
+      },
+    ]);
+  }
+  opts.openOut?.(opts.outDir);
   fs.mkdirSync(opts.outDir, { recursive: true });
   const taken = new Set<string>([BATCH_FILES.index.toLowerCase(), BATCH_FILES.indexHtml.toLowerCase()]);
   const entries: BatchEntry[] = [];
@@ -258,8 +336,9 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
 
   let done = 0;
   const total = entries.length;
+  // Paths in index.json are relative to the batch folder, so a moved or shared folder still finds them.
   const writeIndex = (): BatchIndex => {
-    const index: BatchIndex = entries;
+    const index: BatchIndex = entries.map((e) => ({ ...e, file: relativeTo(opts.outDir, e.file) }));
     const file = path.join(opts.outDir, BATCH_INDEX_FILE);
     fs.writeFileSync(`${file}.tmp-${process.pid}`, `${JSON.stringify(index, null, 2)}\n`);
     fs.renameSync(`${file}.tmp-${process.pid}`, file);
@@ -281,7 +360,7 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
       .map(async ({ entry: e, scenario, dir }) => {
         const t0 = Date.now();
         try {
-          const prior = opts.resume ? finishedRun(dir, scenarioSha256(scenario)) : null;
+          const prior = opts.resume ? finishedRun(dir, scenarioSha256(scenario), warn) : null;
           if (prior) {
             fillFromRun(e, prior);
           } else {

@@ -8,7 +8,7 @@ import type { RunClass } from '../results/summary';
 import { RESULT_VERSION } from '../results/summary';
 import type { Scenario } from '../scenario/schema';
 import { gridIndices } from './grid';
-import type { PointRecord } from './persist';
+import type { PointRecord } from '../results/points';
 import { reachableMask, recommendOperatingPoint } from '../analysis/operating-point';
 
 export const AMPLITUDE_KEY = 'drive.amplitude';
@@ -140,12 +140,19 @@ export function buildSweepMap(input: MapInput): SweepMap {
   for (const [name, get] of Object.entries(MAP_METRICS)) {
     metrics[name] = Array.from(byIndex, (r) => (r && r.summary.status === 'ok' ? finite(get(r)) : null));
   }
-  const classes: (RunClass | null)[] = Array.from(byIndex, (r) => (r ? r.summary.class : null));
+  // A point whose run threw (status 'error') has no class: the map says not computed, and why.
+  const classes: (RunClass | null)[] = Array.from(byIndex, (r) =>
+    r && r.summary.class !== 'error' ? r.summary.class : null,
+  );
   const class_reasons: (string | null)[] = Array.from(byIndex, (r) =>
-    r ? (r.summary.class_reason ?? r.summary.message) : null,
+    r
+      ? r.summary.status === 'error'
+        ? `error: ${r.summary.message ?? 'unknown'}`
+        : (r.summary.class_reason ?? r.summary.message)
+      : null,
   );
   const finished = byIndex.filter((r) => r !== undefined).length;
-  const failed = classes.filter((c) => c === 'numerical-failure').length;
+  const failed = byIndex.filter((r) => r !== undefined && r.summary.status !== 'ok').length;
   const hopLimit = input.scenario?.analysis.max_hops_per_period ?? 0;
   return {
     version: RESULT_VERSION,

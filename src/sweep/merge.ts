@@ -11,21 +11,23 @@ import { scenarioSchema } from '../scenario/schema';
 import type { Scenario } from '../scenario/schema';
 import type { SweepMap } from '../results/map';
 import { buildSweepMap, withOperatingPoint } from './map';
-import type { PointRecord, SweepHeader } from './persist';
-import {
-  describeDropped,
-  formatPointLine,
-  makeHeader,
-  readHeader,
-  readPoints,
-  SWEEP_FILES,
-  writeHeader,
-} from './persist';
+import { relativeSource } from './run-sweep';
+import type { PointRecord } from '../results/points';
+import { describeDropped, formatPointLine, readPoints } from '../results/points';
+import type { SweepHeader } from '../results/sweep-header';
+import { makeHeader, readHeader, writeHeader } from '../results/sweep-header';
+import { SWEEP_FILES } from '../results/files';
+import { activeLock } from '../results/lock';
 
 export interface MergeOptions {
   /** output folder; default `<parent of the first folder>/<scenario name>-merged` */
   outDir?: string;
   onWarning?: (message: string) => void;
+  /**
+   * called with the output folder once it is known, before anything is written there
+   * (the CLI checks, locks and marks it); may throw InputError to refuse
+   */
+  openOut?: (dir: string) => void;
 }
 
 export interface MergeOutcome {
@@ -92,6 +94,16 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
     ]);
   }
 
+  opts.openOut?.(outDir);
+
+  for (const d of dirs) {
+    const held = activeLock(d);
+    if (held)
+      warn(
+        `${d} is still being written by '${held.command}' (process ${held.pid} on host ${held.host}): the merge holds only the points finished so far`,
+      );
+  }
+
   const byIndex = new Map<number, PointRecord>();
   let duplicates = 0;
   const conflicts: InputProblem[] = [];
@@ -139,7 +151,8 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
     name: first.name,
     scenario_sha256: first.scenario_sha256,
     scenario: first.scenario,
-    source: first.source,
+    // source is relative to the folder holding sweep.json: re-base it on the merged folder
+    source: first.source === null ? null : relativeSource(outDir, path.resolve(dirs[0], first.source)),
     axes: first.axes,
     total_points: first.total_points,
     shard: null,

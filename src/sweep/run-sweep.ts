@@ -16,19 +16,12 @@ import type { SweepMap } from '../results/map';
 import { expandGrid, gridPoint } from './grid';
 import { withOverrides } from '../scenario/validate';
 import { buildSweepMap, withOperatingPoint } from './map';
-import type { PointRecord, SweepHeader } from './persist';
-import {
-  assertSameSweep,
-  describeDropped,
-  failedPointSummary,
-  makeHeader,
-  PointWriter,
-  readHeader,
-  readPoints,
-  repairPoints,
-  SWEEP_FILES,
-  writeHeader,
-} from './persist';
+import type { PointRecord } from '../results/points';
+import { describeDropped, errorPointSummary, PointWriter, readPoints, repairPoints } from '../results/points';
+import type { SweepHeader } from '../results/sweep-header';
+import { assertSameSweep, makeHeader, readHeader, writeHeader } from '../results/sweep-header';
+import { SWEEP_FILES } from '../results/files';
+import { writeResultMarker } from '../results/marker';
 import type { Executor } from './pool';
 import { createExecutor, ExecutorStopped } from './pool';
 import type { Shard } from './shard';
@@ -66,6 +59,8 @@ export interface SweepOutcome {
   finished: number;
   /** of those, recorded as numerical failures */
   failed: number;
+  /** of those, runs that threw (status 'error': a program error, message and stack in points.ndjson) */
+  errors: number;
   /** points kept from an earlier run (--resume) */
   resumed: number;
   /** true when stopped by the signal before every point finished */
@@ -121,6 +116,11 @@ function errorText(err: unknown): string {
   return err instanceof Error ? err.message : String(err);
 }
 
+/** `file` relative to `dir`, forward slashes. */
+export function relativeSource(dir: string, file: string): string {
+  return path.relative(path.resolve(dir), path.resolve(file)).split(path.sep).join('/');
+}
+
 function pointLabel(axes: Record<string, number>): string {
   return Object.entries(axes)
     .map(([k, v]) => `${k} = ${v}`)
@@ -142,7 +142,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   const grid = expandGrid(s, source);
   const header = sweepHeaderFor(scenario, source, shard, opts.engine);
   const dir = opts.outDir;
-  fs.mkdirSync(dir, { recursive: true });
+  writeResultMarker(dir, 'sweep');
   const pointsFile = path.join(dir, SWEEP_FILES.points);
 
   let kept: PointRecord[] = [];
@@ -166,7 +166,9 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
       `${dir}: the earlier points were moved to ${SWEEP_FILES.points}.previous (use --resume to continue a sweep)`,
     );
   }
-  writeHeader(dir, existing && opts.resume ? { ...header, created: existing.created } : header);
+  // sweep.json names its scenario file relative to the sweep folder, so a moved folder still finds it.
+  const stored = { ...header, source: source === null ? null : relativeSource(dir, source) };
+  writeHeader(dir, existing && opts.resume ? { ...stored, created: existing.created } : stored);
 
   const planned = shardIndices(grid.total, shard);
   const done = new Set(kept.map((r) => r.index));
@@ -241,11 +243,14 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
             },
             (err: unknown) => {
               if (stopped || err instanceof ExecutorStopped) return;
-              // The thread itself failed (out of memory, a crash): record it like a failed run.
+              // The thread itself failed (out of memory, a crash): not physics, an error.
               const rec: PointRecord = {
                 index: p.index,
                 axes: p.axes,
-                summary: failedPointSummary(`worker failed: ${errorText(err)}`),
+                summary: errorPointSummary(
+                  `worker failed: ${errorText(err)}`,
+                  err instanceof Error ? (err.stack ?? null) : null,
+                ),
                 wall_s: 0,
               };
               writer.write(rec);
@@ -282,6 +287,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     planned: planned.length,
     finished: records.length,
     failed: records.filter((r) => r.summary.class === 'numerical-failure').length,
+    errors: records.filter((r) => r.summary.status === 'error').length,
     resumed: kept.length,
     interrupted: finishedHere < planned.length,
     map,

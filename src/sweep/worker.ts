@@ -10,8 +10,8 @@ import { InputError } from '../scenario/errors';
 import { computeReferences, runScenario } from '../simulate';
 import type { References } from '../simulate';
 import type { RunArtifacts } from '../results/artifacts';
-import { failedPointSummary, pointSummaryOf } from './persist';
-import type { PointRecord } from './persist';
+import { errorPointSummary, pointSummaryOf } from '../results/points';
+import type { PointRecord } from '../results/points';
 
 /**
  * One sweep point. Points with the same `referenceKey` share their free-running and
@@ -68,9 +68,11 @@ function messageOf(err: unknown): string {
 }
 
 /**
- * Run one point. A run that throws, or returns status 'numerical-failure', becomes a
- * record of class 'numerical-failure' with its message: a failed point is data, and the
- * sweep goes on. `wall_s` is the run's wall-clock time.
+ * Run one point. A run that returns status 'numerical-failure' (its integration failed)
+ * becomes a record of class 'numerical-failure' with its message: a failed point is
+ * data, and the sweep goes on. A run that throws is not physics but a program error (or
+ * bad input the checks missed): status and class 'error', with the message and the stack,
+ * so the sweep can report it and exit 1. `wall_s` is the run's wall-clock time.
  */
 export function runPointTask(task: PointTask): PointRecord {
   const t0 = process.hrtime.bigint();
@@ -79,7 +81,7 @@ export function runPointTask(task: PointTask): PointRecord {
     const art = runScenario(task.scenario, { references: referencesFor(task) });
     summary = pointSummaryOf(art.summary);
   } catch (err) {
-    summary = failedPointSummary(messageOf(err));
+    summary = errorPointSummary(messageOf(err), err instanceof Error ? (err.stack ?? null) : null);
   }
   const wall_s = Number(process.hrtime.bigint() - t0) / 1e9;
   return { index: task.index, axes: task.axes, summary, wall_s };

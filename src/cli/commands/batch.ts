@@ -18,6 +18,9 @@ import type { BatchHooks, BatchIndex } from '../../sweep/batch';
 import { createProgress } from '../progress';
 import type { ProgressReporter } from '../progress';
 import { interruptOnSignal, parseJobs } from './sweep';
+import { FORCE_HELP, openResultFolder } from '../result-folder';
+import { BATCH_FILES } from '../../results/files';
+import type { FolderLock } from '../../results/lock';
 
 interface BatchCliOptions {
   out?: string;
@@ -25,6 +28,7 @@ interface BatchCliOptions {
   resume?: boolean;
   quiet?: boolean;
   engine?: EngineChoice;
+  force?: boolean;
 }
 
 /** Register `batch`. */
@@ -40,6 +44,7 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
     .option('--resume', 'skip finished runs and resume sweeps')
     .option('--quiet', 'no progress output')
     .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
+    .option('--force', FORCE_HELP)
     .action(async (paths: string[], opts: BatchCliOptions) => {
       const jobs = parseJobs(opts.jobs);
       const outDir = opts.out ?? path.join('reports', 'batch');
@@ -52,6 +57,7 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
         afterSweep: (dir) => void writeSweepReport(dir),
       };
       let index: BatchIndex;
+      let lock: FolderLock | null = null;
       try {
         index = await runBatch(paths, {
           outDir,
@@ -61,6 +67,10 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
           signal: stop.signal,
           hooks,
           onWarning: (m) => log(`warning: ${m}`),
+          onSkipped: (line) => log(`batch: ${line}`),
+          openOut: (dir) => {
+            lock = openResultFolder(dir, 'batch', { force: opts.force, label: 'dithercav batch' });
+          },
           onEntry: (e, done, total) => {
             const what =
               e.status === 'ok' ? `ok${e.class ? ` (${e.class})` : ''}` : `${e.status}: ${e.error ?? ''}`;
@@ -86,16 +96,12 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
       } catch (err) {
         process.stderr.write(`dithercav batch: index.html could not be written: ${(err as Error).message}\n`);
       }
+      (lock as FolderLock | null)?.release();
       const c = batchCounts(index);
       process.stdout.write(
-        `batch: ${c.total} scenario(s): ${c.ok} ok, ${c.failed} failed, ${c.bad_input} bad input -> ${path.join(outDir, 'index.json')}\n`,
+        `batch: ${c.total} scenario(s): ${c.ok} ok, ${c.failed} failed, ${c.bad_input} bad input -> ${path.join(outDir, BATCH_FILES.index)}\n`,
       );
       if (stop.signal.aborted) process.exit(130);
-      if (c.total === 0) {
-        process.stderr.write(`dithercav batch: no .yaml, .yml or .json files under ${paths.join(', ')}\n`);
-        ctx.setExit(2);
-        return;
-      }
       ctx.setExit(c.failed > 0 || c.bad_input > 0 ? 1 : 0);
     });
 }

@@ -16,9 +16,8 @@ import { formatSI } from '../../scenario/units';
 import { formatTable } from '../format';
 import { createRunProgress } from '../progress';
 import { safeFolderName } from '../../sweep/batch';
-
-/** File name of the comparison inside the output folder. */
-export const COMPARE_FILE = 'compare.json';
+import { COMPARE_FILES } from '../../results/files';
+import { FORCE_HELP, openResultFolder } from '../result-folder';
 
 const nc = 'not computed';
 const si = (v: number | null | undefined, unit: string) =>
@@ -108,7 +107,8 @@ export function registerCompare(program: Command, ctx: CommandContext): void {
     .option('--out <dir>', 'output folder (default reports/<scenario name>-compare/)')
     .option('--json', 'print compare.json to stdout instead of the table')
     .option('--quiet', 'no progress output')
-    .action((file: string, o: { out?: string; json?: boolean; quiet?: boolean }) => {
+    .option('--force', FORCE_HELP)
+    .action((file: string, o: { out?: string; json?: boolean; quiet?: boolean; force?: boolean }) => {
       const loaded = loadScenarioFile(file);
       for (const w of loaded.warnings)
         process.stderr.write(
@@ -116,6 +116,7 @@ export function registerCompare(program: Command, ctx: CommandContext): void {
         );
       const s = loaded.scenario;
       const out = o.out ?? path.join('reports', `${safeFolderName(s.name)}-compare`);
+      const lock = openResultFolder(out, 'compare', { force: o.force, label: 'dithercav compare' });
       const progress = createRunProgress({ label: `compare ${s.name}`, quiet: o.quiet });
       let result: WaveformComparison;
       try {
@@ -131,8 +132,9 @@ export function registerCompare(program: Command, ctx: CommandContext): void {
         progress.stop();
       }
       mkdirSync(out, { recursive: true });
-      const target = path.join(out, COMPARE_FILE);
+      const target = path.join(out, COMPARE_FILES.comparison);
       writeFileSync(target, `${JSON.stringify(result, null, 1)}\n`);
+      lock.release();
       process.stdout.write(
         o.json
           ? `${JSON.stringify(result, null, 2)}\n`

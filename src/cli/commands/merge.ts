@@ -9,6 +9,8 @@ import type { CommandContext } from '../main';
 import { mergeShards } from '../../sweep/merge';
 import { writeSweepReport } from '../../report/sweep-report';
 import { recommendedPointLine } from '../format';
+import { FORCE_HELP, openResultFolder } from '../result-folder';
+import type { FolderLock } from '../../results/lock';
 
 /** Register `merge`. */
 export function registerMerge(program: Command, ctx: CommandContext): void {
@@ -18,11 +20,20 @@ export function registerMerge(program: Command, ctx: CommandContext): void {
     .argument('<dirs...>', 'shard folders (each holding sweep.json and points.ndjson)')
     .option('--out <dir>', 'output folder (default: next to the first folder, <name>-merged)')
     .option('--quiet', 'no warnings about dropped lines or missing points')
-    .action((dirs: string[], opts: { out?: string; quiet?: boolean }) => {
+    .option('--force', FORCE_HELP)
+    .action((dirs: string[], opts: { out?: string; quiet?: boolean; force?: boolean }) => {
       const warn = (m: string) => {
         if (!opts.quiet) process.stderr.write(`dithercav merge: warning: ${m}\n`);
       };
-      const out = mergeShards(dirs, { outDir: opts.out, onWarning: warn });
+      let lock: FolderLock | null = null;
+      const out = mergeShards(dirs, {
+        outDir: opts.out,
+        onWarning: warn,
+        openOut: (dir) => {
+          lock = openResultFolder(dir, 'sweep', { force: opts.force, label: 'dithercav merge' });
+        },
+      });
+      (lock as FolderLock | null)?.release();
       if (out.missing > 0)
         warn(
           `${out.missing} of ${out.header.total_points} grid points are in none of the folders (a shard missing?)`,

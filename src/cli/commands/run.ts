@@ -4,18 +4,23 @@
  * reports/<scenario name>/), with a short table on stdout. Exit 0 when the run finished,
  * 1 on a numerical failure (the folder is still written), 2 on bad input.
  */
+import * as fs from 'node:fs';
 import * as path from 'node:path';
+import { Worker } from 'node:worker_threads';
 import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
 import { runScenario, EngineChoice, ENGINE_CHOICES } from '../../simulate/run';
 import type { RunSummary } from '../../results/summary';
+import type { RunArtifacts } from '../../results/artifacts';
+import type { RunThreadInput, RunThreadMessage } from '../run-thread';
 import { createRunProgress } from '../progress';
 import { formatTable } from '../format';
 import { formatSI } from '../../scenario/units';
 import { writeRunFolder } from '../run-folder';
 import { safeFolderName } from '../../sweep/batch';
+import { FORCE_HELP, openResultFolder } from '../result-folder';
 
 function parseSeed(text: string | undefined): number | undefined {
   if (text === undefined) return undefined;
@@ -93,6 +98,88 @@ export function formatRunTable(s: RunSummary): string {
   return lines.join('\n');
 }
 
+/** Thrown by runOnThread after Ctrl-C: the message says what was kept. */
+class RunInterrupted extends Error {}
+
+/**
+ * What a stopped run leaves, in words: where it was (the last progress label and
+ * fraction) and that nothing was written, since a run folder is written whole at the end.
+ */
+export function interruptedRunMessage(out: string, label: string | null, fraction: number): string {
+  const f = Math.min(1, Math.max(0, fraction));
+  const pct = f >= 0.01 ? ` (${Math.round(100 * f)} % of the run)` : '';
+  const where =
+    label === null
+      ? 'before the simulation had started'
+      : label === 'driven run'
+        ? `the free-running and static references had finished; the driven run was interrupted${pct}`
+        : `interrupted during the ${label}${pct}; the driven run had not started`;
+  return `stopped: ${where}. No result was written to ${out}: a run folder is written whole when the run finishes, so no partial result can be mistaken for a finished one. Run the command again to redo it.`;
+}
+
+/**
+ * Run the scenario on a worker thread (dist/cli/run-thread.js) so Ctrl-C is heard while
+ * it computes: the first SIGINT/SIGTERM stops the thread, says what was kept and exits
+ * 130; a second one exits at once. Without the compiled thread file (running from src/),
+ * the run goes on this thread and Ctrl-C ends it with the default behaviour.
+ */
+async function runOnThread(
+  input: RunThreadInput,
+  out: string,
+  onProgress: (f: number, label: string) => void,
+  onStop: (message: string) => void,
+): Promise<RunArtifacts> {
+  const file = path.join(__dirname, '..', 'run-thread.js');
+  if (!fs.existsSync(file))
+    return runScenario(input.scenario, { engine: input.engine, seed: input.seed, onProgress });
+  const worker = new Worker(file, { workerData: input });
+  let label: string | null = null;
+  let fraction = 0;
+  let stopping = false;
+  return new Promise<RunArtifacts>((resolve, reject) => {
+    const onSignal = () => {
+      if (stopping) process.exit(130);
+      stopping = true;
+      onStop(interruptedRunMessage(out, label, fraction));
+      void worker.terminate().then(() => reject(new RunInterrupted()));
+    };
+    const done = () => {
+      process.off('SIGINT', onSignal);
+      process.off('SIGTERM', onSignal);
+    };
+    process.on('SIGINT', onSignal);
+    process.on('SIGTERM', onSignal);
+    worker.on('message', (m: RunThreadMessage) => {
+      if (m.type === 'progress') {
+        label = m.label;
+        fraction = m.fraction;
+        onProgress(m.fraction, m.label);
+      } else if (m.type === 'done') {
+        done();
+        resolve(m.artifacts);
+      } else if (m.type === 'input-error') {
+        done();
+        reject(new InputError(m.file, m.problems));
+      } else {
+        done();
+        const err = new Error(m.message);
+        if (m.stack) err.stack = m.stack;
+        reject(err);
+      }
+    });
+    worker.on('error', (err) => {
+      done();
+      reject(err);
+    });
+    worker.on('exit', (code) => {
+      if (!stopping && code !== 0) {
+        done();
+        reject(new Error(`the run's thread ended with code ${code}`));
+      }
+    });
+  });
+}
+
 export function registerRun(program: Command, ctx: CommandContext): void {
   program
     .command('run')
@@ -102,26 +189,48 @@ export function registerRun(program: Command, ctx: CommandContext): void {
     .addOption(new Option('--engine <engine>', 'time-stepping engine').choices(ENGINE_CHOICES))
     .option('--seed <n>', 'seed of the spontaneous-emission noise (overrides simulation.seed)')
     .option('--quiet', 'no progress output')
-    .action((file: string, o: { out?: string; engine?: EngineChoice; seed?: string; quiet?: boolean }) => {
-      const seed = parseSeed(o.seed);
-      const loaded = loadScenarioFile(file);
-      for (const wn of loaded.warnings ?? [])
-        process.stderr.write(
-          `dithercav: ${file}${wn.line !== undefined ? `:${wn.line}` : ''}: warning: ${wn.path}: ${wn.message}\n`,
+    .option('--force', FORCE_HELP)
+    .action(
+      async (
+        file: string,
+        o: { out?: string; engine?: EngineChoice; seed?: string; quiet?: boolean; force?: boolean },
+      ) => {
+        const seed = parseSeed(o.seed);
+        const loaded = loadScenarioFile(file);
+        for (const wn of loaded.warnings ?? [])
+          process.stderr.write(
+            `dithercav: ${file}${wn.line !== undefined ? `:${wn.line}` : ''}: warning: ${wn.path}: ${wn.message}\n`,
+          );
+        const s = loaded.scenario;
+        const out = o.out ?? path.join('reports', safeFolderName(s.name));
+        const lock = openResultFolder(out, 'run', { force: o.force, label: 'dithercav run' });
+        const progress = createRunProgress({ label: `run ${s.name}`, quiet: o.quiet });
+        let artifacts: RunArtifacts;
+        try {
+          artifacts = await runOnThread(
+            { scenario: s, engine: o.engine, seed },
+            out,
+            progress.onProgress,
+            (m) => {
+              progress.stop();
+              process.stderr.write(`\ndithercav run: ${m} (press Ctrl-C again to quit at once)\n`);
+            },
+          );
+        } catch (err) {
+          if (err instanceof RunInterrupted) {
+            lock.release();
+            process.exit(130);
+          }
+          throw err;
+        } finally {
+          progress.stop();
+        }
+        const report = writeRunFolder(out, artifacts, 'dithercav run');
+        lock.release();
+        process.stdout.write(
+          `${formatRunTable(artifacts.summary)}\n\nresults in ${out}${report ? ` (report: ${report})` : ''}\n`,
         );
-      const s = loaded.scenario;
-      const out = o.out ?? path.join('reports', safeFolderName(s.name));
-      const progress = createRunProgress({ label: `run ${s.name}`, quiet: o.quiet });
-      let artifacts;
-      try {
-        artifacts = runScenario(s, { engine: o.engine, seed, onProgress: progress.onProgress });
-      } finally {
-        progress.stop();
-      }
-      const report = writeRunFolder(out, artifacts, 'dithercav run');
-      process.stdout.write(
-        `${formatRunTable(artifacts.summary)}\n\nresults in ${out}${report ? ` (report: ${report})` : ''}\n`,
-      );
-      if (artifacts.summary.status !== 'ok') ctx.setExit(1);
-    });
+        if (artifacts.summary.status !== 'ok') ctx.setExit(1);
+      },
+    );
 }

@@ -19,6 +19,7 @@ import { safeFolderName } from '../../sweep/batch';
 import { createProgress, formatDuration } from '../progress';
 import { writeSweepReport } from '../../report/sweep-report';
 import { recommendedPointLine } from '../format';
+import { FORCE_HELP, openResultFolder } from '../result-folder';
 
 /** `--jobs N`: a whole number >= 1; absent: os.availableParallelism(). Throws InputError otherwise. */
 export function parseJobs(text: string | undefined): number {
@@ -57,6 +58,33 @@ export function interruptOnSignal(onFirst: (message: string) => void): {
   };
 }
 
+/** The counts of a finished (or stopped by an error) sweep that decide its exit code. */
+export interface SweepCounts {
+  failed: number;
+  errors: number;
+  interrupted: boolean;
+}
+
+/**
+ * Exit code of a sweep that was not stopped by Ctrl-C: 1 when a point failed numerically,
+ * a point's run threw (status 'error', a program error), or points are missing; else 0.
+ */
+export function sweepExitCode(c: SweepCounts): 0 | 1 {
+  return c.failed > 0 || c.errors > 0 || c.interrupted ? 1 : 0;
+}
+
+/** What the sweep says at the end about failed and erroneous points (stderr lines). */
+export function sweepEndLines(label: string, c: SweepCounts): string[] {
+  const lines: string[] = [];
+  if (c.errors > 0)
+    lines.push(
+      `${label}: ${c.errors} point(s) stopped on an error, not a numerical failure (status error, message and stack in points.ndjson): please report it`,
+    );
+  if (c.failed > 0)
+    lines.push(`${label}: ${c.failed} point(s) failed (class numerical-failure, see points.ndjson)`);
+  return lines;
+}
+
 interface SweepCliOptions {
   out?: string;
   jobs?: string;
@@ -64,6 +92,7 @@ interface SweepCliOptions {
   shard?: string;
   quiet?: boolean;
   engine?: EngineChoice;
+  force?: boolean;
 }
 
 /** Register `sweep`. */
@@ -83,6 +112,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
     )
     .option('--quiet', 'no progress output')
     .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
+    .option('--force', FORCE_HELP)
     .action(async (file: string, opts: SweepCliOptions) => {
       const jobs = parseJobs(opts.jobs);
       const shard = resolveShard(opts.shard);
@@ -101,6 +131,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       const base = opts.out ?? path.join('reports', safeFolderName(s.name));
       const dir = shard ? path.join(base, shardFolderName(shard)) : base;
       const label = `sweep ${s.name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`;
+      const lock = openResultFolder(dir, 'sweep', { force: opts.force, label: 'dithercav sweep' });
       const progress = createProgress({ label, total: 0, quiet: opts.quiet });
       const stop = interruptOnSignal((m) => progress.log(m));
       const t0 = Date.now();
@@ -120,6 +151,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       } finally {
         progress.stop();
         stop.dispose();
+        lock.release();
       }
       try {
         writeSweepReport(dir);
@@ -142,15 +174,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         );
         process.exit(130);
       }
-      if (out.failed > 0) {
-        process.stderr.write(
-          `${label}: ${out.failed} point(s) failed (class numerical-failure, see points.ndjson)\n`,
-        );
-        ctx.setExit(1);
-      } else if (out.interrupted) {
-        ctx.setExit(1);
-      } else {
-        ctx.setExit(0);
-      }
+      for (const line of sweepEndLines(label, out)) process.stderr.write(`${line}\n`);
+      ctx.setExit(sweepExitCode(out));
     });
 }
