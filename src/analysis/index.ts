@@ -9,3 +9,4 @@ export * from './classify';
 export * from './decoupling';
 export * from './decimate';
 export * from './csv';
+export * from './summarise-run';

@@ -14,8 +14,9 @@ import { readRunArtifacts } from './read-results';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
 import { scenarioRows } from './scenario-table';
 
-/** Interface mismatch above this is highlighted (brief of the report: 5 %). */
-export const INTERFACE_MISMATCH_LIMIT = 0.05;
+/** Interface mismatch above this is highlighted: the same limit the run warns at (results/limits.ts). */
+import { INTERFACE_MISMATCH_LIMIT } from '../results/limits';
+export { INTERFACE_MISMATCH_LIMIT };
 
 /** Marks drawn on a time axis at most; beyond this only every n-th period is marked. */
 const MAX_PERIOD_MARKS = 60;
