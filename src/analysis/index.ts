@@ -10,3 +10,4 @@ export * from './decoupling';
 export * from './decimate';
 export * from './csv';
 export * from './summarise-run';
+export * from './stratified';

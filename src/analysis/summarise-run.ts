@@ -33,6 +33,7 @@ import { actuatorSheet } from '../physics/actuator';
 import { normaliseScenarioForJson, scenarioSha256 } from '../scenario/canonical';
 import { classifyRun } from './classify';
 import { designRule } from './decoupling';
+import { stratifiedMeanAndStderr } from './stratified';
 import type { StatsResult } from './stats';
 import type { BoxcarResult } from './boxcar';
 import type { HopResult } from './hops';
@@ -108,6 +109,12 @@ export interface RunPlanFigures {
   failure: string | null;
   settle_s: number;
   analysed_s: number;
+  /** time step of the driven run, s */
+  dt: number;
+  /** drive periods analysed at each offset (null for a still mirror) */
+  periods: number | null;
+  /** the relative standard error the offsets were added towards */
+  targetError: number;
 }
 
 export interface SummaryInput {
@@ -119,6 +126,8 @@ export interface SummaryInput {
   stat: StaticFigures | null;
   /** null when no driven run was stepped */
   driven: DrivenFigures | null;
+  /** what ended the adding of offsets, and the relative standard error of the mean gap power then */
+  convergence: { stoppedBy: 'target' | 'budget'; relativeStderr: number } | null;
   /** the tool's version, for provenance */
   toolVersion: string;
   /** measured by the caller: whole run and driven part, s */
@@ -250,6 +259,12 @@ function summariseDriven(
   const hist = offs[0].hops.phaseHistogram.map((_, k) =>
     offs.reduce((a, o) => a + o.hops.phaseHistogram[k], 0),
   );
+  // standard errors over the offsets (docs/model.md §4.2): per-offset means are the samples
+  const ordered = [...offs].sort((a, b) => a.offset_m - b.offset_m);
+  const stderrOf = (pick: (o: OffsetFigures) => number) => stratifiedMeanAndStderr(ordered.map(pick)).stderr;
+  const scaled = (e: number | null, by: number | null) =>
+    e !== null && by !== null && by > 0 ? e / by : null;
+  const extStderr = stderrOf((o) => o.external.mean);
   const staticMean = staticSummary ? staticSummary.external_W.mean : null;
   const gainOverStatic = staticMean && staticMean > 0 ? meanExt / staticMean : null;
   // What the still-mirror curve alone predicts at the same rest offsets and strokes: a few
@@ -270,18 +285,30 @@ function summariseDriven(
   const incoherentLevel = derived.incoherent_enhancement * free.intracavity_W;
   const incoherentFraction =
     Number.isFinite(incoherentLevel) && incoherentLevel > 0 ? meanExt / incoherentLevel : null;
+  // the class judges the smaller of the two gains; its reference is taken as exact
+  const classGain =
+    gainOverQuasiStatic !== null && gainOverStatic !== null
+      ? Math.min(gainOverStatic, gainOverQuasiStatic)
+      : gainOverStatic;
+  const classGainRef = classGain === null ? null : classGain === gainOverStatic ? staticMean : quasi;
+  const hopsPerPeriodStderr = f ? stderrOf((o) => o.hops.hopsPerPeriod ?? 0) : null;
+  const rippleStderr = stderrOf((o) => o.band.ripple_rel);
+  const incoherentStderr = scaled(extStderr, Number.isFinite(incoherentLevel) ? incoherentLevel : null);
   const cls = classifyRun(
     {
       status: 'ok',
       message: null,
       freeRunningIntracavity_W: free.intracavity_W,
       hopsPerPeriod: f ? hopsPerPeriod : null,
-      gainOverStatic:
-        gainOverQuasiStatic !== null && gainOverStatic !== null
-          ? Math.min(gainOverStatic, gainOverQuasiStatic)
-          : gainOverStatic,
+      gainOverStatic: classGain,
       rippleRel: ripple,
       incoherentFraction,
+      stderr: {
+        hopsPerPeriod: hopsPerPeriodStderr,
+        gainOverStatic: scaled(extStderr, classGainRef),
+        rippleRel: rippleStderr,
+        incoherentFraction: incoherentStderr,
+      },
     },
     s.analysis,
   );
@@ -313,6 +340,19 @@ function summariseDriven(
     hop_phase_histogram: hist,
     analysed_time_s: plan.analysed_s,
     settle_time_s: plan.settle_s,
+    external_mean_stderr_W: extStderr,
+    laser_output_mean_stderr_W: stderrOf((o) => o.laserOutput.mean),
+    laser_intracavity_mean_stderr_W: stderrOf((o) => o.intracavity.mean),
+    ripple_rel_stderr: rippleStderr,
+    ripple_full_band_rel_stderr: stderrOf((o) => o.band.ripple_full_band_rel),
+    enhancement_stderr: scaled(extStderr, free.intracavity_W),
+    gain_over_static_stderr: scaled(extStderr, staticMean),
+    incoherent_fraction_stderr: incoherentStderr,
+    hops_per_s_stderr: stderrOf((o) => o.hops.hopsPerSecond),
+    hops_per_period_stderr: f ? hopsPerPeriodStderr : null,
+    periods_used: plan.periods,
+    offsets_used: offs.length,
+    stopped_by: x.convergence?.stoppedBy ?? 'target',
   };
 }
 
@@ -392,6 +432,13 @@ export function summariseRun(x: SummaryInput): RunSummary {
 
   const drivenOk = driven && !driven.failed ? driven : null;
   const drivenSummary = drivenOk ? summariseDriven(x, drivenOk, staticSummary, warnings) : null;
+  if (drivenSummary && x.convergence && x.convergence.stoppedBy === 'budget') {
+    const rel = x.convergence.relativeStderr;
+    warnings.push({
+      code: 'target-error-not-met',
+      message: `the driven mean gap power's relative standard error ${Number.isFinite(rel) ? `${(100 * rel).toFixed(1)} %` : '(not estimable with one offset)'} is above analysis.target_error ${(100 * plan.targetError).toFixed(1)} %: the step budget (simulation.max_steps) stopped the run at ${drivenSummary.offsets_used} offsets`,
+    });
+  }
   const driveSummary = summariseDrive(x, driven);
 
   const balance = drivenOk
@@ -424,6 +471,7 @@ export function summariseRun(x: SummaryInput): RunSummary {
 
   const steps = driven ? driven.steps : 0;
   const laneSteps = driven ? driven.laneSteps : 0;
+  const drivenWall_s = x.timing.drivenWall_s;
   return {
     version: RESULT_VERSION,
     tool_version: x.toolVersion,
@@ -449,8 +497,11 @@ export function summariseRun(x: SummaryInput): RunSummary {
     timing: {
       wall_s: x.timing.wall_s,
       steps,
-      engine_steps_per_s: steps / x.timing.drivenWall_s,
-      mode_steps_per_s: (laneSteps * params.M) / x.timing.drivenWall_s,
+      engine_steps_per_s: steps / drivenWall_s,
+      mode_steps_per_s: (laneSteps * params.M) / drivenWall_s,
+      dt_s: driven ? plan.dt : null,
+      lanes: driven ? driven.offsets.length : 0,
+      simulated_lane_s_per_s: (laneSteps * (driven ? plan.dt : 0)) / drivenWall_s,
     },
     warnings,
     actuator: s.actuator ? actuatorSheet(s) : null,

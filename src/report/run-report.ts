@@ -173,6 +173,14 @@ function comparison(s: RunSummary): SafeHtml {
       '',
       spread && isNum(spread.min) ? `${fmtSI(spread.min, 'W')} … ${fmtSI(spread.max, 'W')}` : NOT_COMPUTED,
     ],
+    [
+      'standard error of the driven mean gap power (docs/model.md §4.2)',
+      '',
+      '',
+      isNum(d?.external_mean_stderr_W) && isNum(d?.external_mean_W)
+        ? `± ${fmtSI(d.external_mean_stderr_W, 'W')} (${fmtPercent(d.external_mean_stderr_W / d.external_mean_W)})${d?.stopped_by === 'budget' ? ', above the target: the step budget stopped the run' : ''}`
+        : NOT_COMPUTED,
+    ],
     ['gap power std. deviation', '', '', fmtSI(d?.external_std_W, 'W')],
   ];
   return section(

@@ -24,3 +24,10 @@ export const MIN_DETECTION_WINDOWS = 4;
 
 /** Samples along one drive period when the static curve is averaged along x(t) (the quasi-static mean). */
 export const QUASI_STATIC_SAMPLES = 2000;
+
+/**
+ * Most rest offsets a driven run holds while its statistics converge (docs/model.md §3.6):
+ * a cap on memory and on the per-offset lists in summary.json. A run that would pass it
+ * stops as if its step budget were spent (stopped_by "budget").
+ */
+export const MAX_DRIVE_OFFSETS = 1024;

@@ -10,12 +10,13 @@ import { createHash } from 'node:crypto';
 import type { Scenario } from '../scenario/schema';
 import type { RunArtifacts, SpectraSet } from '../results/artifacts';
 import type { Derived, Warning } from '../results/summary';
-import { MIN_DETECTION_WINDOWS } from '../results/limits';
+import { MAX_DRIVE_OFFSETS, MIN_DETECTION_WINDOWS } from '../results/limits';
 import { TOOL_VERSION } from '../version';
 import { deriveAll } from '../physics/derive';
 import type { CoupledParams } from '../physics/coupled/params';
 import { createDrive, peakSpeed } from '../physics/drive';
-import { createRng } from '../numerics/rng';
+import { createRng, Rng } from '../numerics/rng';
+import { stratifiedMeanAndStderr, refineStrata, stratifiedDraw } from '../analysis/stratified';
 import { driveHarmonics } from '../analysis/harmonics';
 import { driveMoves, returnedLightSpread_Hz, staticCurveOf, summariseRun } from '../analysis/summarise-run';
 import { freeRunning, FreeRunningResult, staticReference, StaticResult } from './references';
@@ -121,8 +122,14 @@ export interface RunPlan {
   analysed_s: number;
   settleSteps: number;
   analysedSteps: number;
-  /** rest offsets of the lanes relative to drive.offset, m */
+  /** rest offsets of the first batch of lanes relative to drive.offset, m (stratified random, docs/model.md §4.2) */
   laneOffsets_m: number[];
+  /** drive periods analysed at each offset (null for a still mirror) */
+  periods: number | null;
+  /** relative standard error of the driven mean gap power at which offsets stop being added */
+  targetError: number;
+  /** lane-step budget of the driven run, all batches */
+  maxLaneSteps: number;
   /** whether a driven run is to be stepped (an external cavity, a lasing reference, no failure) */
   drives: boolean;
   /** failure known before stepping: the static reference failed or the step budget refuses the run */
@@ -162,6 +169,9 @@ export function planRun(
     settleSteps: 0,
     analysedSteps: 0,
     laneOffsets_m: [],
+    periods: null,
+    targetError: s.analysis.target_error,
+    maxLaneSteps: s.simulation.max_steps,
     drives: false,
     failure: stat && stat.failed ? `static reference: ${stat.failed}` : null,
   };
@@ -174,20 +184,122 @@ export function planRun(
   const minWindow = MIN_DETECTION_WINDOWS / s.analysis.detection_bandwidth;
   if (f) {
     const periods = Math.max(s.simulation.periods, Math.ceil(minWindow * f));
+    plan.periods = periods;
     plan.analysed_s = periods / f;
   } else plan.analysed_s = Math.max(minWindow, 20 * tContStatic);
   plan.settleSteps = Math.ceil(plan.settle_s / plan.dt);
   plan.analysedSteps = Math.ceil(plan.analysed_s / plan.dt);
   const lanes = s.simulation.drive_offsets;
-  const laneSteps = engine === 'adiabatic' ? 0 : (plan.settleSteps + plan.analysedSteps) * lanes;
+  const laneSteps = batchLaneSteps(plan, lanes);
   if (laneSteps > s.simulation.max_steps) {
     plan.failure = `the driven run would take ${laneSteps.toExponential(2)} lane-steps, above simulation.max_steps = ${s.simulation.max_steps.toExponential(2)}; shorten simulation.periods, or let the engine choice (simulation.engine: auto) pick a faster engine`;
     return plan;
   }
-  const half = s.laser.wavelength / 2;
-  plan.laneOffsets_m = Array.from({ length: lanes }, (_, l) => (l * half) / lanes);
+  plan.laneOffsets_m = stratifiedDraw(lanes, s.laser.wavelength / 2, offsetRng(seed));
   plan.drives = true;
   return plan;
+}
+
+/** The random stream the rest offsets are drawn from (first batch and every refinement, in order). */
+function offsetRng(seed: number): Rng {
+  return createRng(seed).fork(4);
+}
+
+/** Lane-steps one batch of `lanes` offsets costs (the adiabatic path steps no fields). */
+export function batchLaneSteps(plan: RunPlan, lanes: number): number {
+  return plan.engine === 'adiabatic' ? 0 : (plan.settleSteps + plan.analysedSteps) * lanes;
+}
+
+/** Relative standard error of the mean gap power over the offsets of a driven result (Infinity if unknown). */
+export function relativeStderr(driven: DrivenResult): number {
+  const ordered = [...driven.offsets].sort((a, b) => a.offset_m - b.offset_m);
+  const { mean, stderr } = stratifiedMeanAndStderr(ordered.map((o) => o.external.mean));
+  if (stderr === null || !Number.isFinite(stderr)) return Infinity;
+  if (stderr === 0) return 0;
+  return stderr / Math.abs(mean);
+}
+
+/**
+ * Batches of lanes as one driven result: the offsets of all, sorted by position; traces and
+ * spectra of the first batch (its lane 0); the worst balance errors; the mismatch and the
+ * returned-field ratio averaged over lanes; steps summed.
+ */
+export function mergeBatches(batches: DrivenResult[]): DrivenResult {
+  if (batches.length === 1) return batches[0];
+  const first = batches[0];
+  const failedBatch = batches.find((b) => b.failed);
+  if (failedBatch) return failedBatch;
+  const lanes = batches.map((b) => b.offsets.length);
+  const total = lanes.reduce((a, b) => a + b, 0);
+  const weighted = (pick: (b: DrivenResult) => number) =>
+    batches.reduce((a, b, k) => a + pick(b) * lanes[k], 0) / total;
+  return {
+    ...first,
+    offsets: batches.flatMap((b) => b.offsets).sort((a, b) => a.offset_m - b.offset_m),
+    balance: {
+      laser: Math.max(...batches.map((b) => b.balance.laser)),
+      external: Math.max(...batches.map((b) => b.balance.external)),
+      mismatch: weighted((b) => b.balance.mismatch),
+    },
+    fieldRatio: Math.sqrt(weighted((b) => b.fieldRatio ** 2)),
+    steps: batches.reduce((a, b) => a + b.steps, 0),
+    laneSteps: batches.reduce((a, b) => a + b.laneSteps, 0),
+    failed: null,
+  };
+}
+
+/** The driven result over every batch, and what ended the adding of offsets. */
+export interface ConvergedRun {
+  driven: DrivenResult;
+  stoppedBy: 'target' | 'budget';
+  /** relative standard error of the mean gap power at the end (Infinity if unknown) */
+  relativeStderr: number;
+}
+
+/**
+ * Step the planned run until its statistics converge (docs/model.md §3.6): the first batch
+ * at the planned offsets, then, while the relative standard error of the mean gap power is
+ * above the target, a batch doubling the strata (one new offset in the empty half of each
+ * slice), as long as the lane-step budget and MAX_DRIVE_OFFSETS allow.
+ */
+export function executeConverging(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  plan: RunPlan,
+  onProgress: (fraction: number, label: string) => void,
+): ConvergedRun {
+  const half = s.laser.wavelength / 2;
+  const rng = offsetRng(plan.seed);
+  // replay the plan's draw on this stream, so that refinements continue the same sequence
+  let offsets = stratifiedDraw(plan.laneOffsets_m.length, half, rng);
+  const batches: DrivenResult[] = [];
+  let used = 0;
+  // progress: batch k fills [1 - 2^-k, 1 - 2^-(k+1)) of the driven part
+  let batchOffsets = offsets;
+  for (let k = 0; ; k++) {
+    const lo = 1 - 2 ** -k;
+    const width = 2 ** -(k + 1);
+    const label = k === 0 ? 'driven run' : `driven run, adding ${batchOffsets.length} offsets`;
+    batches.push(
+      executeRun(s, params, derived, refs, plan, batchOffsets, (x) => onProgress(lo + width * x, label), k),
+    );
+    used += batchLaneSteps(plan, batchOffsets.length);
+    const merged = mergeBatches(batches);
+    if (merged.failed) return { driven: merged, stoppedBy: 'budget', relativeStderr: Infinity };
+    const rel = relativeStderr(merged);
+    // a target of 1 or more accepts any error, even the unknown error of a single offset
+    if (rel <= plan.targetError || plan.targetError >= 1) {
+      return { driven: merged, stoppedBy: 'target', relativeStderr: rel };
+    }
+    const next = offsets.length;
+    if (used + batchLaneSteps(plan, next) > plan.maxLaneSteps || 2 * next > MAX_DRIVE_OFFSETS) {
+      return { driven: merged, stoppedBy: 'budget', relativeStderr: rel };
+    }
+    batchOffsets = refineStrata(offsets, half, rng);
+    offsets = [...offsets, ...batchOffsets];
+  }
 }
 
 /** Largest excursion of a lane's mirror from the drive's zero over the whole run, m (sizes the engine's phase tables). */
@@ -202,7 +314,7 @@ function maxExcursion(drive: Scenario['drive'], half_m: number, duration_s: numb
   );
 }
 
-/** Step the planned driven run (time-stepping engine or adiabatic path) for the given lanes. */
+/** Step the planned driven run (time-stepping engine or adiabatic path) for the given lanes; batch numbers the noise stream. */
 export function executeRun(
   s: Scenario,
   params: CoupledParams,
@@ -211,6 +323,7 @@ export function executeRun(
   plan: RunPlan,
   laneOffsets_m: number[],
   onProgress: (fraction: number) => void,
+  batch = 0,
 ): DrivenResult {
   const { free, stat } = refs.data;
   const drive = s.drive;
@@ -252,7 +365,8 @@ export function executeRun(
     settleSteps: plan.settleSteps,
     analysedSteps: plan.analysedSteps,
     ...common,
-    rng: createRng(plan.seed).fork(3),
+    // the first batch on stream 3 as before; later batches on their own streams, so no two lanes share noise
+    rng: batch === 0 ? createRng(plan.seed).fork(3) : createRng(plan.seed).fork(3).fork(batch),
     maxExcursion_m: maxExcursion(drive, half, plan.settle_s + plan.analysed_s),
     onProgress,
   });
@@ -274,11 +388,10 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   progress(0.4, 'driven run');
 
   const plan = planRun(s, params, derived, refs, { ...opts, seed });
-  const driven = plan.drives
-    ? executeRun(s, params, derived, refs, plan, plan.laneOffsets_m, (x) =>
-        progress(0.4 + 0.6 * x, 'driven run'),
-      )
+  const converged = plan.drives
+    ? executeConverging(s, params, derived, refs, plan, (x, label) => progress(0.4 + 0.6 * x, label))
     : null;
+  const driven = converged ? converged.driven : null;
 
   const wall = (Date.now() - wall0) / 1000;
   const { free, stat } = refs.data;
@@ -290,6 +403,9 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     free,
     stat,
     driven,
+    convergence: converged
+      ? { stoppedBy: converged.stoppedBy, relativeStderr: converged.relativeStderr }
+      : null,
     toolVersion: TOOL_VERSION,
     timing: { wall_s: wall, drivenWall_s: Math.max(1e-9, wall - (reused ? 0 : refs.data.wall_s)) },
   });
