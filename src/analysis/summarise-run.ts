@@ -453,7 +453,7 @@ export function summariseRun(x: SummaryInput): RunSummary {
     if (balance.interface_mismatch_rel > INTERFACE_MISMATCH_LIMIT) {
       warnings.push({
         code: 'interface-mismatch',
-        message: `interface mismatch at M2 ${(100 * balance.interface_mismatch_rel).toFixed(1)} % > ${(100 * INTERFACE_MISMATCH_LIMIT).toFixed(0)} %: the mean-field laser equation's approximation is large here (MODEL.md 3.3)`,
+        message: `interface mismatch at M2 ${(100 * balance.interface_mismatch_rel).toFixed(1)} % > ${(100 * INTERFACE_MISMATCH_LIMIT).toFixed(0)} %: the mean-field laser equation's approximation is large here (docs/model.md §3.3)`,
       });
     }
     if (balance.relative_error > POWER_BALANCE_LIMIT) {
