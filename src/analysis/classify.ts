@@ -21,6 +21,11 @@
  * static reference) skips the gain test, a null incoherent fraction (no external cavity,
  * or none of the laser's light coupled into it) the incoherent-level test; the reason says so. A ripple that is not a
  * finite number (mean external power not positive) counts as modulated.
+ *
+ * The metrics are means over rest offsets with a standard error (docs/model.md §4.2).
+ * Where a test's value lies within one standard error of its threshold, the reason says
+ * so for that test, whichever way it went: the class could flip with another set of
+ * offsets.
  */
 import type { RunClass } from '../results/summary';
 
@@ -44,6 +49,13 @@ export interface ClassMetrics {
    * null or absent without an external cavity
    */
   incoherentFraction?: number | null;
+  /** standard errors of the metrics above (same units); absent or null: not known */
+  stderr?: {
+    hopsPerPeriod?: number | null;
+    gainOverStatic?: number | null;
+    rippleRel?: number | null;
+    incoherentFraction?: number | null;
+  };
 }
 
 /** The thresholds, with the key names of the scenario's `analysis` section. */
@@ -73,8 +85,17 @@ function fmt(x: number): string {
     .replace('e+', 'e');
 }
 
+/** " (within one standard error ...)" when |value - threshold| <= stderr, else "". */
+function closeCall(value: number, threshold: number, stderr: number | null | undefined): string {
+  if (stderr === null || stderr === undefined || !Number.isFinite(stderr) || !Number.isFinite(value))
+    return '';
+  if (Math.abs(value - threshold) > stderr) return '';
+  return ` (within one standard error ${fmt(stderr)} of the threshold: the class could flip)`;
+}
+
 /** The run's class and a reason in words with the numbers that decided it; see the file comment. */
 export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
+  const e = m.stderr ?? {};
   if (m.status === 'numerical-failure') {
     return {
       class: 'numerical-failure',
@@ -95,20 +116,24 @@ export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
   } else if (!(m.hopsPerPeriod <= t.max_hops_per_period)) {
     return {
       class: 'hopping',
-      reason: `hops per period ${fmt(m.hopsPerPeriod)} > limit ${fmt(t.max_hops_per_period)}`,
+      reason: `hops per period ${fmt(m.hopsPerPeriod)} > limit ${fmt(t.max_hops_per_period)}${closeCall(m.hopsPerPeriod, t.max_hops_per_period, e.hopsPerPeriod)}`,
     };
   } else {
-    passed.push(`hops per period ${fmt(m.hopsPerPeriod)} <= limit ${fmt(t.max_hops_per_period)}`);
+    passed.push(
+      `hops per period ${fmt(m.hopsPerPeriod)} <= limit ${fmt(t.max_hops_per_period)}${closeCall(m.hopsPerPeriod, t.max_hops_per_period, e.hopsPerPeriod)}`,
+    );
   }
   if (m.gainOverStatic === null) {
     passed.push('gain test skipped (no static reference)');
   } else if (!(m.gainOverStatic >= t.min_gain_over_static)) {
     return {
       class: 'no-gain',
-      reason: `gain over static ${fmt(m.gainOverStatic)} < minimum ${fmt(t.min_gain_over_static)}`,
+      reason: `gain over static ${fmt(m.gainOverStatic)} < minimum ${fmt(t.min_gain_over_static)}${closeCall(m.gainOverStatic, t.min_gain_over_static, e.gainOverStatic)}`,
     };
   } else {
-    passed.push(`gain over static ${fmt(m.gainOverStatic)} >= minimum ${fmt(t.min_gain_over_static)}`);
+    passed.push(
+      `gain over static ${fmt(m.gainOverStatic)} >= minimum ${fmt(t.min_gain_over_static)}${closeCall(m.gainOverStatic, t.min_gain_over_static, e.gainOverStatic)}`,
+    );
   }
   const frac = m.incoherentFraction ?? null;
   if (frac === null || t.min_incoherent_fraction === undefined) {
@@ -118,11 +143,11 @@ export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
   } else if (!(frac >= t.min_incoherent_fraction)) {
     return {
       class: 'no-gain',
-      reason: `gap power ${fmt(frac)} of the phase-averaged (decoupled) level < minimum ${fmt(t.min_incoherent_fraction)}: the dither does not decouple`,
+      reason: `gap power ${fmt(frac)} of the phase-averaged (decoupled) level < minimum ${fmt(t.min_incoherent_fraction)}: the dither does not decouple${closeCall(frac, t.min_incoherent_fraction, e.incoherentFraction)}`,
     };
   } else {
     passed.push(
-      `gap power ${fmt(frac)} of the phase-averaged level >= minimum ${fmt(t.min_incoherent_fraction)}`,
+      `gap power ${fmt(frac)} of the phase-averaged level >= minimum ${fmt(t.min_incoherent_fraction)}${closeCall(frac, t.min_incoherent_fraction, e.incoherentFraction)}`,
     );
   }
   if (!Number.isFinite(m.rippleRel)) {
@@ -132,8 +157,13 @@ export function classifyRun(m: ClassMetrics, t: ClassThresholds): ClassResult {
     };
   }
   if (m.rippleRel > t.ripple_limit) {
-    return { class: 'modulated', reason: `ripple ${fmt(m.rippleRel)} > limit ${fmt(t.ripple_limit)}` };
+    return {
+      class: 'modulated',
+      reason: `ripple ${fmt(m.rippleRel)} > limit ${fmt(t.ripple_limit)}${closeCall(m.rippleRel, t.ripple_limit, e.rippleRel)}`,
+    };
   }
-  passed.push(`ripple ${fmt(m.rippleRel)} <= limit ${fmt(t.ripple_limit)}`);
+  passed.push(
+    `ripple ${fmt(m.rippleRel)} <= limit ${fmt(t.ripple_limit)}${closeCall(m.rippleRel, t.ripple_limit, e.rippleRel)}`,
+  );
   return { class: 'decoupled', reason: passed.join('; ') };
 }

@@ -9,3 +9,5 @@ export * from './classify';
 export * from './decoupling';
 export * from './decimate';
 export * from './csv';
+export * from './summarise-run';
+export * from './stratified';

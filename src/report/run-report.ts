@@ -14,8 +14,9 @@ import { readRunArtifacts } from './read-results';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
 import { scenarioRows } from './scenario-table';
 
-/** Interface mismatch above this is highlighted (brief of the report: 5 %). */
-export const INTERFACE_MISMATCH_LIMIT = 0.05;
+/** Interface mismatch above this is highlighted: the same limit the run warns at (results/limits.ts). */
+import { INTERFACE_MISMATCH_LIMIT } from '../results/limits';
+export { INTERFACE_MISMATCH_LIMIT };
 
 /** Marks drawn on a time axis at most; beyond this only every n-th period is marked. */
 const MAX_PERIOD_MARKS = 60;
@@ -171,6 +172,14 @@ function comparison(s: RunSummary): SafeHtml {
       '',
       '',
       spread && isNum(spread.min) ? `${fmtSI(spread.min, 'W')} … ${fmtSI(spread.max, 'W')}` : NOT_COMPUTED,
+    ],
+    [
+      'standard error of the driven mean gap power (docs/model.md §4.2)',
+      '',
+      '',
+      isNum(d?.external_mean_stderr_W) && isNum(d?.external_mean_W)
+        ? `± ${fmtSI(d.external_mean_stderr_W, 'W')} (${fmtPercent(d.external_mean_stderr_W / d.external_mean_W)})${d?.stopped_by === 'budget' ? ', above the target: the step budget stopped the run' : ''}`
+        : NOT_COMPUTED,
     ],
     ['gap power std. deviation', '', '', fmtSI(d?.external_std_W, 'W')],
   ];

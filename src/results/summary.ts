@@ -127,6 +127,29 @@ export interface DrivenSummary {
   hop_phase_histogram: number[];
   analysed_time_s: number;
   settle_time_s: number;
+  /**
+   * Standard errors of the means above over the rest offsets (docs/model.md §4.2): the
+   * per-offset means are the samples (offsets are independent strata; the periods within
+   * one offset are correlated and enter through that offset's mean). Null with fewer than
+   * two offsets. Ratios take their reference (free-running, static, phase-averaged level)
+   * as exact.
+   */
+  external_mean_stderr_W: number | null;
+  laser_output_mean_stderr_W: number | null;
+  laser_intracavity_mean_stderr_W: number | null;
+  ripple_rel_stderr: number | null;
+  ripple_full_band_rel_stderr: number | null;
+  enhancement_stderr: number | null;
+  gain_over_static_stderr: number | null;
+  incoherent_fraction_stderr: number | null;
+  hops_per_s_stderr: number | null;
+  hops_per_period_stderr: number | null;
+  /** drive periods analysed at each offset (null for a still mirror) */
+  periods_used: number | null;
+  /** rest offsets the means are over (the first batch, doubled until the target or the budget) */
+  offsets_used: number;
+  /** what ended the adding of offsets: the relative standard error met analysis.target_error, or the step budget */
+  stopped_by: 'target' | 'budget';
 }
 
 export interface DriveSummary {
@@ -172,7 +195,18 @@ export interface RunSummary {
     external_relative_error: number;
     interface_mismatch_rel: number;
   } | null;
-  timing: { wall_s: number; steps: number; engine_steps_per_s: number; mode_steps_per_s: number };
+  timing: {
+    wall_s: number;
+    steps: number;
+    engine_steps_per_s: number;
+    mode_steps_per_s: number;
+    /** the driven run's time step, s (null without a driven run) */
+    dt_s: number | null;
+    /** rest offsets stepped (every batch) */
+    lanes: number;
+    /** lanes x simulated seconds per wall second of the driven run: the engine's throughput */
+    simulated_lane_s_per_s: number;
+  };
   warnings: Warning[];
   /**
    * The drive and actuator requirement sheet of the scenario (actuatorSheet, MODEL.md

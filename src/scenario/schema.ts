@@ -219,13 +219,21 @@ const simulation = z.strictObject({
     'auto',
   ),
   settle: z.union([auto, quantity('time', positive)]).default('auto'),
-  periods: integer(1, 1_000_000).default(20),
+  periods: integer(1, 1_000_000)
+    .default(20)
+    .describe('drive periods analysed at each rest offset (a minimum: the detection band may ask for more)'),
   substeps: integer(2, 64).default(2).describe('exact engine: time steps per external round trip'),
   seed: integer(0, 2 ** 32 - 1).default(1),
   static_positions: z.union([auto, integer(4, 8192)]).default('auto'),
-  drive_offsets: integer(1, 256).default(8),
+  drive_offsets: integer(1, 256)
+    .default(8)
+    .describe('rest offsets of the first batch; more are added until analysis.target_error is met'),
   trace_points: integer(64, 100_000).default(2000),
-  max_steps: integer(1000).default(2e9).describe('refuse a run that would take more time steps than this'),
+  max_steps: integer(1000)
+    .default(2e9)
+    .describe(
+      'refuse a run whose first batch would take more lane-steps than this; no offsets are added beyond it',
+    ),
 });
 
 const analysis = z.strictObject({
@@ -249,6 +257,11 @@ const analysis = z.strictObject({
   lasing_power: quantity('power', positive)
     .default(1e-6)
     .describe('free-running intracavity power below this is no-lasing'),
+  target_error: bounded(0, 1e9, { minOpen: true })
+    .default(0.02)
+    .describe(
+      'relative standard error of the driven mean gap power at which the run stops adding rest offsets (1 or more: the first batch only)',
+    ),
 });
 
 const axisValue = z.union([z.number(), z.string()], {

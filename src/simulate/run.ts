@@ -1,36 +1,25 @@
 /**
- * One run: free-running reference, static reference, driven run at several rest offsets,
- * analysis, and the summary of CONTRACT.md. The problem (scenario) says what to solve,
+ * One run: plan -> execute -> summarise. The plan fixes the engine, the step, the windows
+ * and the rest offsets (after the free-running and static references, computed here or
+ * reused); execute steps the driven run; summariseRun (analysis room) turns all of it into
+ * the summary of CONTRACT.md. The problem (scenario) says what to solve,
  * the engine how; the result carries provenance (scenario hash, engine, steps, status).
  * A numerical failure is data (status 'numerical-failure'), not an exception.
  */
 import { createHash } from 'node:crypto';
 import type { Scenario } from '../scenario/schema';
-import { normaliseScenarioForJson, scenarioSha256 } from '../scenario/canonical';
 import type { RunArtifacts, SpectraSet } from '../results/artifacts';
-import {
-  RESULT_VERSION,
-  RunSummary,
-  Warning,
-  StaticCurve,
-  DrivenSummary,
-  DriveSummary,
-} from '../results/summary';
+import type { Derived, Warning } from '../results/summary';
+import { MAX_DRIVE_OFFSETS, MIN_DETECTION_WINDOWS } from '../results/limits';
 import { TOOL_VERSION } from '../version';
 import { deriveAll } from '../physics/derive';
 import type { CoupledParams } from '../physics/coupled/params';
 import type { EngineKind } from '../physics/coupled/factory';
-import {
-  createDrive,
-  peakAcceleration,
-  peakSpeed,
-  strokePeakToPeak,
-  fractionBelowSpeed,
-} from '../physics/drive';
-import { createRng } from '../numerics/rng';
-import { classifyRun } from '../analysis/classify';
-import { designRule } from '../analysis/decoupling';
+import { createDrive, peakSpeed } from '../physics/drive';
+import { createRng, Rng } from '../numerics/rng';
+import { stratifiedMeanAndStderr, refineStrata, stratifiedDraw } from '../analysis/stratified';
 import { driveHarmonics } from '../analysis/harmonics';
+import { driveMoves, returnedLightSpread_Hz, staticCurveOf, summariseRun } from '../analysis/summarise-run';
 import {
   freeRunning,
   freeRunningRoundTrip,
@@ -40,8 +29,14 @@ import {
 } from './references';
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
-import { planEngines, EnginePlan, EngineRequest, DEPRECATED_ENGINE_NAMES, engineName } from './engine-choice';
-import { actuatorSheet } from '../physics/actuator';
+import {
+  planEngines,
+  EnginePlan,
+  DrivenEngine,
+  EngineRequest,
+  DEPRECATED_ENGINE_NAMES,
+  engineName,
+} from './engine-choice';
 
 /** What `simulation.engine` and the commands' `--engine` may ask for. */
 export const ENGINE_CHOICES = [
@@ -99,10 +94,11 @@ export function staticSettleTime(p: CoupledParams): number {
 
 /**
  * Settle time per static position on the round-trip engine, s: 10 response times (the
- * photon lifetimes of laser and gap, tau_N), at most 10 us (docs/model.md §4.1). Each position starts from its settled neighbour a
- * fraction of a resonance width away, so the transient left is small; the refinement's
- * convergence test (the mean moving < 1 % per doubling) guards the mean. The modal
- * engines keep 40 response times (they are 10-40 times cheaper per simulated second).
+ * photon lifetimes of laser and gap, tau_N), at most 10 us (docs/model.md §4.1). Each
+ * position starts from its settled neighbour a fraction of a resonance width away, so
+ * the transient left is small; the refinement's convergence test (the mean moving < 1 %
+ * per doubling) guards the mean. The modal engines keep 40 response times (they are
+ * 10-40 times cheaper per simulated second).
  */
 export function roundTripStaticSettleTime(p: CoupledParams): number {
   const extPhoton = p.hasExternal ? p.roundTripExternal_s / Math.max(1e-12, 1 - (p.r2 * p.r3eff) ** 2) : 0;
@@ -151,418 +147,328 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
   };
 }
 
-function mmm(values: number[]): { mean: number; min: number; max: number } {
-  if (values.length === 0) return { mean: NaN, min: NaN, max: NaN };
-  let s = 0;
-  let lo = Infinity;
-  let hi = -Infinity;
-  for (const v of values) {
-    s += v;
-    lo = Math.min(lo, v);
-    hi = Math.max(hi, v);
-  }
-  return { mean: s / values.length, min: lo, max: hi };
+/** What a run decided before stepping: engine, step, windows, rest offsets, or why it cannot run. */
+export interface RunPlan {
+  seed: number;
+  engine: DrivenEngine;
+  /** the engine's public name (docs/model.md §3.7) */
+  engineName: string;
+  engineReason: string;
+  warnings: Warning[];
+  /** time step of the driven run, s */
+  dt: number;
+  settle_s: number;
+  analysed_s: number;
+  settleSteps: number;
+  analysedSteps: number;
+  /** rest offsets of the first batch of lanes relative to drive.offset, m (stratified random, docs/model.md §4.2) */
+  laneOffsets_m: number[];
+  /** drive periods analysed at each offset (null for a still mirror) */
+  periods: number | null;
+  /** relative standard error of the driven mean gap power at which offsets stop being added */
+  targetError: number;
+  /** lane-step budget of the driven run, all batches */
+  maxLaneSteps: number;
+  /** whether a driven run is to be stepped (an external cavity, a lasing reference, no failure) */
+  drives: boolean;
+  /** failure known before stepping: the static reference failed or the step budget refuses the run */
+  failure: string | null;
 }
 
 /**
- * Mean gap power the static curve (mean of its up and down branches) predicts for lanes at
- * the given rest offsets moving with the drive: the curve averaged along one drive period
- * of x(t) (2000 samples), then over the lanes; W.
+ * Plan the driven run: the engine and its step (engine-choice), the settle and analysed
+ * windows (whole drive periods holding enough detection windows), the lanes' rest offsets,
+ * and the step budget check.
  */
-export function quasiStaticMean(
-  stat: StaticResult,
-  offsets_m: number[],
-  drive: Scenario['drive'],
-  half_m: number,
-): number {
-  const N = stat.positions_m.length;
-  const cell = half_m / N;
-  const motion = createDrive({ ...drive, drift: 0, vibration: undefined }, 0);
-  const period = drive.waveform === 'off' ? 1 : 1 / drive.frequency;
-  const samples = drive.waveform === 'off' || drive.amplitude === 0 ? 1 : 2000;
-  const curve = stat.up.map((u, i) => 0.5 * (u.external_W + stat.down[i].external_W));
-  let sum = 0;
-  for (const off of offsets_m) {
-    for (let k = 0; k < samples; k++) {
-      let rel = (off + motion.position((k * period) / samples) - drive.offset) % half_m;
-      if (rel < 0) rel += half_m;
-      const u = rel / cell;
-      const j = Math.floor(u);
-      const w = u - j;
-      sum += curve[j % N] * (1 - w) + curve[(j + 1) % N] * w;
-    }
-  }
-  return sum / (offsets_m.length * samples);
-}
-
-/** Run one scenario: references (or reuse), driven run, analysis, summary and artifacts. */
-export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
-  const wall0 = Date.now();
+export function planRun(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  opts: RunOptions,
+): RunPlan {
   const seed = opts.seed ?? s.simulation.seed;
   const requested = opts.engine ?? s.simulation.engine;
-  const { derived, params } = deriveAll(s);
-  const warnings: Warning[] = [];
-  const progress = opts.onProgress ?? (() => undefined);
-
-  const refKey = referenceKey(s, seed, staticEngineRequest(s, opts));
-  const refs =
-    opts.references && opts.references.key === refKey
-      ? opts.references
-      : computeReferences(s, { ...opts, seed, onProgress: (f) => progress(0.4 * f, 'references') });
-  const { free, stat } = refs.data;
-  progress(0.4, 'driven run');
-
+  const { stat } = refs.data;
   const drive = s.drive;
-  const moving =
-    drive.waveform !== 'off' &&
-    (drive.amplitude > 0 || (drive.waveform === 'two-tone' && drive.second_amplitude > 0));
-  const f = moving ? drive.frequency : null;
-  const vPeak = peakSpeed(drive);
-  const lambda = s.laser.wavelength;
+  const f = driveMoves(drive) ? drive.frequency : null;
   const tContStatic = staticSettleTime(params);
-  const plan: EnginePlan = planEngines(s, params, derived.finesse_external, tContStatic, requested);
-  const engine = plan.driven.kind;
-  const engineReason = `${plan.driven.reason}; static reference: ${engineName(refs.data.staticEngine as EngineKind)} engine`;
+  const engines: EnginePlan = planEngines(s, params, derived.finesse_external, tContStatic, requested);
+  const engine = engines.driven.kind;
+  const warnings: Warning[] = [];
+  if (engines.driven.warning) warnings.push({ code: 'engine-validity', message: engines.driven.warning });
   const deprecated = DEPRECATED_ENGINE_NAMES[requested];
   if (deprecated)
     warnings.push({
       code: 'engine-name',
       message: `engine '${requested}' is now called '${deprecated}'; the old name works for this release only`,
     });
-  if (plan.driven.warning) warnings.push({ code: 'engine-validity', message: plan.driven.warning });
-  const dt = plan.driven.kind === 'adiabatic' ? plan.basis.exactStep_s : plan.driven.dt;
-
-  let driven: DrivenResult | null = null;
-  let status: 'ok' | 'numerical-failure' = 'ok';
-  let message: string | null = null;
-  if (stat && stat.failed) {
-    status = 'numerical-failure';
-    message = `static reference: ${stat.failed}`;
-  }
-  const bandwidth = s.analysis.detection_bandwidth;
-  let settle_s = 0;
-  let analysed_s = 0;
-  if (status === 'ok' && params.hasExternal && Number.isFinite(params.gammaC)) {
-    // the lanes start from settled static states: one drive period (both turning points) and
-    // a few response times bring them to the periodic regime
-    settle_s =
-      s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 1 / f : 0) : s.simulation.settle;
-    // analysed window: whole drive periods, holding >= 4 detection windows (the first fills, then >= 3)
-    const minWindow = 4 / bandwidth;
-    if (f) {
-      const periods = Math.max(s.simulation.periods, Math.ceil(minWindow * f));
-      analysed_s = periods / f;
-    } else analysed_s = Math.max(minWindow, 20 * tContStatic);
-    const settleSteps = Math.ceil(settle_s / dt);
-    const analysedSteps = Math.ceil(analysed_s / dt);
-    const lanes = s.simulation.drive_offsets;
-    const laneSteps = engine === 'adiabatic' ? 0 : (settleSteps + analysedSteps) * lanes;
-    if (laneSteps > s.simulation.max_steps) {
-      status = 'numerical-failure';
-      message = `the driven run would take ${laneSteps.toExponential(2)} lane-steps, above simulation.max_steps = ${s.simulation.max_steps.toExponential(2)}; shorten simulation.periods, or let the engine choice (simulation.engine: auto) pick a faster engine`;
-    } else {
-      const half = lambda / 2;
-      const laneOffsets = Array.from({ length: lanes }, (_, l) => (l * half) / lanes);
-      const F = derived.finesse_external;
-      const spread = Math.max(((F / Math.PI) * (2 * vPeak)) / lambda, f ? 8 * f : 0, 1e5);
-      // strongest mode of the static reference (up branch at position 0), for the optical spectrum
-      const specMode = stat ? stat.up[0].dominant : 0;
-      const common = {
-        detectionBandwidth_Hz: bandwidth,
-        hopDwell_s: s.analysis.hop_dwell,
-        hopMargin: s.analysis.hop_margin,
-        driveFrequency_Hz: f,
-        drivePhase_rad: drive.phase,
-        traceBuckets: Math.floor(s.simulation.trace_points / 2),
-        spectralSpread_Hz: spread,
-        spectrumMode: specMode,
-      };
-      driven =
-        engine === 'adiabatic' && stat
-          ? drivenAdiabatic(params, stat, {
-              ...common,
-              motion: createDrive(drive, seed),
-              rest_m: drive.offset,
-              laneOffsets_m: laneOffsets,
-              analysed_s,
-              halfWavelength_m: half,
-              peakSpeed_m_s: plan.basis.peakSpeed_m_s,
-            })
-          : drivenRun(params, {
-              engine: engine === 'adiabatic' ? 'exact' : engine,
-              dt,
-              motion: createDrive(drive, seed),
-              laneOffsets_m: laneOffsets,
-              start: stat ? { store: stat.store, positions_m: stat.positions_m } : null,
-              initial: free,
-              settleSteps,
-              analysedSteps,
-              ...common,
-              rng: createRng(seed).fork(3),
-              maxExcursion_m:
-                Math.abs(drive.offset) +
-                half +
-                drive.amplitude +
-                drive.second_amplitude +
-                Math.abs(drive.drift) * (settle_s + analysed_s) +
-                5 * (drive.vibration?.rms ?? 0),
-              onProgress: (x) => progress(0.4 + 0.6 * x, 'driven run'),
-            });
-      if (driven.failed) {
-        status = 'numerical-failure';
-        message = driven.failed;
-      }
-      // MODEL.md 3.1: the mean-field laser equation needs the returned light's spread well below FSR1
-      const spreadDoppler = ((F / Math.PI) * (2 * vPeak)) / lambda;
-      if (engine !== 'roundtrip' && spreadDoppler > 0.2 * derived.fsr_laser_Hz) {
-        warnings.push({
-          code: 'doppler-spread',
-          message: `frequency spread of the returned light (F/pi) 2 v / lambda = ${(spreadDoppler / 1e6).toFixed(1)} MHz reaches ${((100 * spreadDoppler) / derived.fsr_laser_Hz).toFixed(0)} % of the laser mode spacing; the per-mode mean-field model is strained`,
-        });
-      }
-    }
-  }
-
-  // ---- static summary
-  let staticSummary: RunSummary['static'] = null;
-  let staticCurve: StaticCurve | null = null;
-  if (stat && !stat.failed) {
-    const both = [...stat.up, ...stat.down];
-    const avg = stat.up.map((u, i) => 0.5 * (u.external_W + stat.down[i].external_W));
-    const ext = mmm(both.map((v) => v.external_W));
-    const meanExt = avg.reduce((a, b) => a + b, 0) / avg.length;
-    const hyst =
-      stat.up.reduce((a, u, i) => a + Math.abs(u.external_W - stat.down[i].external_W), 0) / stat.up.length;
-    staticSummary = {
-      external_W: { ...ext, mean: meanExt },
-      laser_output_W: {
-        ...mmm(both.map((v) => v.laserOutput_W)),
-        mean: mmm(both.map((v) => v.laserOutput_W)).mean,
-      },
-      intracavity_W: mmm(both.map((v) => v.intracavity_W)),
-      hysteresis_rel: meanExt > 0 ? hyst / meanExt : 0,
-      positions: stat.positions_m.length,
-      converged: stat.converged,
-    };
-    staticCurve = {
-      position_m: stat.positions_m,
-      external_up_W: stat.up.map((v) => v.external_W),
-      external_down_W: stat.down.map((v) => v.external_W),
-      laser_output_up_W: stat.up.map((v) => v.laserOutput_W),
-      laser_output_down_W: stat.down.map((v) => v.laserOutput_W),
-    };
-    if (!stat.converged) {
-      warnings.push({
-        code: 'static-not-converged',
-        message: `static mean not converged to 1 % at ${stat.positions_m.length} positions (levels: ${stat.levels.map((l) => `${l.positions}: ${l.mean_W.toExponential(3)} W`).join(', ')})`,
-      });
-    }
-  }
-
-  // ---- driven summary
-  let drivenSummary: DrivenSummary | null = null;
-  const rule = designRule({
-    t2: params.t2,
-    feedbackEfficiency: params.feedbackEfficiency,
-    laserRoundTrip_s: params.roundTripLaser_s,
-    externalRoundTrip_s: params.hasExternal ? params.roundTripExternal_s : 1,
-    alpha: params.alpha,
-    wavelength_m: lambda,
-    fieldRatio: driven && !driven.failed && params.returnToLaser ? driven.fieldRatio : null,
-    waveform: drive.waveform === 'triangle' ? 'triangle' : moving ? 'sine' : 'off',
-    peakSpeed_m_s: vPeak,
-  });
-  if (driven && !driven.failed) {
-    const offs = driven.offsets;
-    const means = offs.map((o) => o.external.mean);
-    const meanExt = means.reduce((a, b) => a + b, 0) / means.length;
-    // pooled standard deviation over all offsets: within-offset variance plus spread of the means
-    const pooledVar =
-      offs.reduce((a, o) => a + o.external.variance + (o.external.mean - meanExt) ** 2, 0) / offs.length;
-    const outMeans = offs.map((o) => o.laserOutput.mean);
-    const meanOut = outMeans.reduce((a, b) => a + b, 0) / outMeans.length;
-    const outVar =
-      offs.reduce((a, o) => a + o.laserOutput.variance + (o.laserOutput.mean - meanOut) ** 2, 0) /
-      offs.length;
-    const hopsPerS = offs.reduce((a, o) => a + o.hops.hopsPerSecond, 0) / offs.length;
-    const hopsPerPeriod = f ? offs.reduce((a, o) => a + (o.hops.hopsPerPeriod ?? 0), 0) / offs.length : 0;
-    const ripple = offs.reduce((a, o) => a + o.band.ripple_rel, 0) / offs.length;
-    const rippleFull = offs.reduce((a, o) => a + o.band.ripple_full_band_rel, 0) / offs.length;
-    if (!offs.every((o) => o.band.enoughWindows)) {
-      warnings.push({
-        code: 'short-window',
-        message:
-          'the analysed window holds fewer than three detection-band windows after the first filled; the in-band ripple is uncertain',
-      });
-    }
-    const occupation = params.modes.index.map((index, m) => ({
-      index,
-      fraction: offs.reduce((a, o) => a + o.hops.occupation[m], 0) / offs.length,
-    }));
-    const hist = offs[0].hops.phaseHistogram.map((_, k) =>
-      offs.reduce((a, o) => a + o.hops.phaseHistogram[k], 0),
-    );
-    const staticMean = staticSummary ? staticSummary.external_W.mean : null;
-    const gos = staticMean && staticMean > 0 ? meanExt / staticMean : null;
-    // What the still-mirror curve alone predicts at the same rest offsets and strokes: a few
-    // rest offsets sample a peaked static curve coarsely, so a small stroke can show a
-    // "gain" over the static mean that is only sampling. The class is judged against this.
-    const quasi =
-      stat && !stat.failed
-        ? quasiStaticMean(
-            stat,
-            offs.map((o) => o.offset_m),
-            drive,
-            lambda / 2,
-          )
-        : null;
-    const goqs = quasi !== null && quasi > 0 ? meanExt / quasi : null;
-    const gows =
-      staticSummary && staticSummary.external_W.min > 0 ? meanExt / staticSummary.external_W.min : null;
-    const incoherentLevel = derived.incoherent_enhancement * free.intracavity_W;
-    const incoherentFraction =
-      Number.isFinite(incoherentLevel) && incoherentLevel > 0 ? meanExt / incoherentLevel : null;
-    const cls = classifyRun(
-      {
-        status,
-        message,
-        freeRunningIntracavity_W: free.intracavity_W,
-        hopsPerPeriod: f ? hopsPerPeriod : null,
-        gainOverStatic: goqs !== null && gos !== null ? Math.min(gos, goqs) : gos,
-        rippleRel: ripple,
-        incoherentFraction,
-      },
-      s.analysis,
-    );
-    drivenSummary = {
-      external_mean_W: meanExt,
-      external_std_W: Math.sqrt(pooledVar),
-      external_min_W: Math.min(...offs.map((o) => o.external.min)),
-      external_max_W: Math.max(...offs.map((o) => o.external.max)),
-      ripple_rel: ripple,
-      ripple_full_band_rel: rippleFull,
-      laser_output_mean_W: meanOut,
-      laser_output_std_W: Math.sqrt(outVar),
-      laser_output_min_W: Math.min(...offs.map((o) => o.laserOutput.min)),
-      laser_output_max_W: Math.max(...offs.map((o) => o.laserOutput.max)),
-      laser_intracavity_mean_W: offs.reduce((a, o) => a + o.intracavity.mean, 0) / offs.length,
-      enhancement: free.intracavity_W > 0 ? meanExt / free.intracavity_W : 0,
-      gain_over_static: gos,
-      gain_over_worst_static: gows,
-      gain_over_quasi_static: goqs,
-      incoherent_fraction: incoherentFraction,
-      hops_per_s: hopsPerS,
-      hops_per_period: hopsPerPeriod,
-      class: cls.class,
-      class_reason: cls.reason,
-      offsets: offs.length,
-      offset_positions_m: offs.map((o) => o.offset_m),
-      external_mean_by_offset_W: { min: Math.min(...means), max: Math.max(...means), values: means },
-      mode_occupation: occupation,
-      hop_phase_histogram: hist,
-      analysed_time_s: analysed_s,
-      settle_time_s: settle_s,
-    };
-  }
-
-  const driveSummary: DriveSummary = {
-    waveform: drive.waveform,
-    amplitude_m: drive.amplitude,
-    frequency_Hz: drive.frequency,
-    stroke_m: strokePeakToPeak(drive),
-    peak_speed_m_s: vPeak,
-    peak_acceleration_m_s2: peakAcceleration(drive),
-    peak_doppler_Hz: (2 * vPeak) / lambda,
-    critical_speed_m_s: rule.criticalSpeed_m_s,
-    critical_speed_landau_zener_m_s: params.hasExternal ? rule.criticalSpeedLandauZener_m_s : null,
-    fraction_below_critical:
-      rule.criticalSpeed_m_s !== null
-        ? moving
-          ? fractionBelowSpeed(drive, rule.criticalSpeed_m_s)
-          : 1
-        : null,
-    locking_half_width_Hz: rule.lockingHalfWidth_Hz,
-  };
-  const balance =
-    driven && !driven.failed
-      ? {
-          laser_relative_error: Math.max(driven.balance.laser, stat?.worstBalance ?? 0),
-          external_relative_error: driven.balance.external,
-          relative_error: Math.max(driven.balance.laser, driven.balance.external, stat?.worstBalance ?? 0),
-          interface_mismatch_rel: driven.balance.mismatch,
-        }
-      : null;
-  if (balance) {
-    if (balance.interface_mismatch_rel > 0.05) {
-      warnings.push({
-        code: 'interface-mismatch',
-        message: `interface mismatch at M2 ${(100 * balance.interface_mismatch_rel).toFixed(1)} % > 5 %: the mean-field laser equation's approximation is large here (MODEL.md 3.3)`,
-      });
-    }
-    if (balance.relative_error > 1e-4) {
-      warnings.push({
-        code: 'power-balance',
-        message: `power balance closes only to ${balance.relative_error.toExponential(2)} (> 1e-4): reduce the step (simulation.substeps)`,
-      });
-    }
-  }
-  if (!params.hasExternal)
-    warnings.push({
-      code: 'no-external',
-      message: 'no external section: only the free-running reference was computed',
-    });
-
-  const steps = driven ? driven.steps : 0;
-  const laneSteps = driven ? driven.laneSteps : 0;
-  const wall = (Date.now() - wall0) / 1000;
-  const drivenWall = Math.max(
-    1e-9,
-    wall - (opts.references && opts.references.key === refKey ? 0 : refs.data.wall_s),
-  );
-  const summary: RunSummary = {
-    version: RESULT_VERSION,
-    tool_version: TOOL_VERSION,
-    name: s.name,
-    scenario: normaliseScenarioForJson(s),
-    scenario_sha256: scenarioSha256(s),
+  const plan: RunPlan = {
     seed,
-    engine: engineName(engine),
-    engine_reason: engineReason,
-    status,
-    message,
-    derived,
-    free_running: {
-      intracavity_W: free.intracavity_W,
-      output_W: free.output_W,
-      lasing_modes: free.lasingModes,
-      mode_powers_W: free.modePowers_W,
-    },
-    static: staticSummary,
-    driven: drivenSummary,
-    drive: driveSummary,
-    power_balance: balance,
-    timing: {
-      wall_s: wall,
-      steps,
-      engine_steps_per_s: steps / drivenWall,
-      mode_steps_per_s: (laneSteps * params.M) / drivenWall,
-    },
+    engine,
+    engineName: engineName(engine),
+    engineReason: `${engines.driven.reason}; static reference: ${engineName(refs.data.staticEngine as EngineKind)} engine`,
     warnings,
-    actuator: s.actuator ? actuatorSheet(s) : null,
+    dt: engine === 'adiabatic' ? engines.basis.exactStep_s : engines.driven.dt,
+    settle_s: 0,
+    analysed_s: 0,
+    settleSteps: 0,
+    analysedSteps: 0,
+    laneOffsets_m: [],
+    periods: null,
+    targetError: s.analysis.target_error,
+    maxLaneSteps: s.simulation.max_steps,
+    drives: false,
+    failure: stat && stat.failed ? `static reference: ${stat.failed}` : null,
   };
-  const spectra: SpectraSet | null =
-    driven && !driven.failed
-      ? {
-          rin: driven.rin,
-          optical: driven.optical,
-          drive_harmonics_Hz:
-            f && driven.rin ? driveHarmonics(f, driven.rin.f_Hz[driven.rin.f_Hz.length - 1], 50) : [],
-        }
-      : null;
+  if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
+  // the lanes start from settled static states: one drive period (both turning points) and
+  // a few response times bring them to the periodic regime
+  plan.settle_s =
+    s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 1 / f : 0) : s.simulation.settle;
+  // analysed window: whole drive periods, holding enough detection windows (the first fills, then >= 3)
+  const minWindow = MIN_DETECTION_WINDOWS / s.analysis.detection_bandwidth;
+  if (f) {
+    const periods = Math.max(s.simulation.periods, Math.ceil(minWindow * f));
+    plan.periods = periods;
+    plan.analysed_s = periods / f;
+  } else plan.analysed_s = Math.max(minWindow, 20 * tContStatic);
+  plan.settleSteps = Math.ceil(plan.settle_s / plan.dt);
+  plan.analysedSteps = Math.ceil(plan.analysed_s / plan.dt);
+  const lanes = s.simulation.drive_offsets;
+  const laneSteps = batchLaneSteps(plan, lanes);
+  if (laneSteps > s.simulation.max_steps) {
+    plan.failure = `the driven run would take ${laneSteps.toExponential(2)} lane-steps, above simulation.max_steps = ${s.simulation.max_steps.toExponential(2)}; shorten simulation.periods, or let the engine choice (simulation.engine: auto) pick a faster engine`;
+    return plan;
+  }
+  plan.laneOffsets_m = stratifiedDraw(lanes, s.laser.wavelength / 2, offsetRng(seed));
+  plan.drives = true;
+  return plan;
+}
+
+/** The random stream the rest offsets are drawn from (first batch and every refinement, in order). */
+function offsetRng(seed: number): Rng {
+  return createRng(seed).fork(4);
+}
+
+/** Lane-steps one batch of `lanes` offsets costs (the adiabatic path steps no fields). */
+export function batchLaneSteps(plan: RunPlan, lanes: number): number {
+  return plan.engine === 'adiabatic' ? 0 : (plan.settleSteps + plan.analysedSteps) * lanes;
+}
+
+/** Relative standard error of the mean gap power over the offsets of a driven result (Infinity if unknown). */
+export function relativeStderr(driven: DrivenResult): number {
+  const ordered = [...driven.offsets].sort((a, b) => a.offset_m - b.offset_m);
+  const { mean, stderr } = stratifiedMeanAndStderr(ordered.map((o) => o.external.mean));
+  if (stderr === null || !Number.isFinite(stderr)) return Infinity;
+  if (stderr === 0) return 0;
+  return stderr / Math.abs(mean);
+}
+
+/**
+ * Batches of lanes as one driven result: the offsets of all, sorted by position; traces and
+ * spectra of the first batch (its lane 0); the worst balance errors; the mismatch and the
+ * returned-field ratio averaged over lanes; steps summed.
+ */
+export function mergeBatches(batches: DrivenResult[]): DrivenResult {
+  if (batches.length === 1) return batches[0];
+  const first = batches[0];
+  const failedBatch = batches.find((b) => b.failed);
+  if (failedBatch) return failedBatch;
+  const lanes = batches.map((b) => b.offsets.length);
+  const total = lanes.reduce((a, b) => a + b, 0);
+  const weighted = (pick: (b: DrivenResult) => number) =>
+    batches.reduce((a, b, k) => a + pick(b) * lanes[k], 0) / total;
+  return {
+    ...first,
+    offsets: batches.flatMap((b) => b.offsets).sort((a, b) => a.offset_m - b.offset_m),
+    balance: {
+      laser: Math.max(...batches.map((b) => b.balance.laser)),
+      external: Math.max(...batches.map((b) => b.balance.external)),
+      mismatch: weighted((b) => b.balance.mismatch),
+    },
+    fieldRatio: Math.sqrt(weighted((b) => b.fieldRatio ** 2)),
+    steps: batches.reduce((a, b) => a + b.steps, 0),
+    laneSteps: batches.reduce((a, b) => a + b.laneSteps, 0),
+    failed: null,
+  };
+}
+
+/** The driven result over every batch, and what ended the adding of offsets. */
+export interface ConvergedRun {
+  driven: DrivenResult;
+  stoppedBy: 'target' | 'budget';
+  /** relative standard error of the mean gap power at the end (Infinity if unknown) */
+  relativeStderr: number;
+}
+
+/**
+ * Step the planned run until its statistics converge (docs/model.md §3.6): the first batch
+ * at the planned offsets, then, while the relative standard error of the mean gap power is
+ * above the target, a batch doubling the strata (one new offset in the empty half of each
+ * slice), as long as the lane-step budget and MAX_DRIVE_OFFSETS allow.
+ */
+export function executeConverging(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  plan: RunPlan,
+  onProgress: (fraction: number, label: string) => void,
+): ConvergedRun {
+  const half = s.laser.wavelength / 2;
+  const rng = offsetRng(plan.seed);
+  // replay the plan's draw on this stream, so that refinements continue the same sequence
+  let offsets = stratifiedDraw(plan.laneOffsets_m.length, half, rng);
+  const batches: DrivenResult[] = [];
+  let used = 0;
+  // progress: batch k fills [1 - 2^-k, 1 - 2^-(k+1)) of the driven part
+  let batchOffsets = offsets;
+  for (let k = 0; ; k++) {
+    const lo = 1 - 2 ** -k;
+    const width = 2 ** -(k + 1);
+    const label = k === 0 ? 'driven run' : `driven run, adding ${batchOffsets.length} offsets`;
+    batches.push(
+      executeRun(s, params, derived, refs, plan, batchOffsets, (x) => onProgress(lo + width * x, label), k),
+    );
+    used += batchLaneSteps(plan, batchOffsets.length);
+    const merged = mergeBatches(batches);
+    if (merged.failed) return { driven: merged, stoppedBy: 'budget', relativeStderr: Infinity };
+    const rel = relativeStderr(merged);
+    // a target of 1 or more accepts any error, even the unknown error of a single offset
+    if (rel <= plan.targetError || plan.targetError >= 1) {
+      return { driven: merged, stoppedBy: 'target', relativeStderr: rel };
+    }
+    const next = offsets.length;
+    if (used + batchLaneSteps(plan, next) > plan.maxLaneSteps || 2 * next > MAX_DRIVE_OFFSETS) {
+      return { driven: merged, stoppedBy: 'budget', relativeStderr: rel };
+    }
+    batchOffsets = refineStrata(offsets, half, rng);
+    offsets = [...offsets, ...batchOffsets];
+  }
+}
+
+/** Largest excursion of a lane's mirror from the drive's zero over the whole run, m (sizes the engine's phase tables). */
+function maxExcursion(drive: Scenario['drive'], half_m: number, duration_s: number): number {
+  return (
+    Math.abs(drive.offset) +
+    half_m +
+    drive.amplitude +
+    drive.second_amplitude +
+    Math.abs(drive.drift) * duration_s +
+    5 * (drive.vibration?.rms ?? 0)
+  );
+}
+
+/** Step the planned driven run (time-stepping engine or adiabatic path) for the given lanes; batch numbers the noise stream. */
+export function executeRun(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  plan: RunPlan,
+  laneOffsets_m: number[],
+  onProgress: (fraction: number) => void,
+  batch = 0,
+): DrivenResult {
+  const { free, stat } = refs.data;
+  const drive = s.drive;
+  const f = driveMoves(drive) ? drive.frequency : null;
+  const half = s.laser.wavelength / 2;
+  const spread = Math.max(
+    returnedLightSpread_Hz(derived.finesse_external, peakSpeed(drive), s.laser.wavelength),
+    f ? 8 * f : 0,
+    1e5,
+  );
+  const common = {
+    detectionBandwidth_Hz: s.analysis.detection_bandwidth,
+    hopDwell_s: s.analysis.hop_dwell,
+    hopMargin: s.analysis.hop_margin,
+    driveFrequency_Hz: f,
+    drivePhase_rad: drive.phase,
+    traceBuckets: Math.floor(s.simulation.trace_points / 2),
+    spectralSpread_Hz: spread,
+    // strongest mode of the static reference (up branch at position 0), for the optical spectrum
+    spectrumMode: stat ? stat.up[0].dominant : 0,
+  };
+  if (plan.engine === 'adiabatic' && stat) {
+    return drivenAdiabatic(params, stat, {
+      ...common,
+      motion: createDrive(drive, plan.seed),
+      rest_m: drive.offset,
+      laneOffsets_m,
+      analysed_s: plan.analysed_s,
+      halfWavelength_m: half,
+      peakSpeed_m_s: peakSpeed(drive),
+    });
+  }
+  return drivenRun(params, {
+    engine: plan.engine === 'adiabatic' ? 'exact' : plan.engine,
+    dt: plan.dt,
+    motion: createDrive(drive, plan.seed),
+    laneOffsets_m,
+    start: stat ? { store: stat.store, positions_m: stat.positions_m } : null,
+    initial: free,
+    settleSteps: plan.settleSteps,
+    analysedSteps: plan.analysedSteps,
+    ...common,
+    // the first batch on stream 3 as before; later batches on their own streams, so no two lanes share noise
+    rng: batch === 0 ? createRng(plan.seed).fork(3) : createRng(plan.seed).fork(3).fork(batch),
+    maxExcursion_m: maxExcursion(drive, half, plan.settle_s + plan.analysed_s),
+    onProgress,
+  });
+}
+
+/** Run one scenario: plan, references (or reuse), driven run, summary and artifacts. */
+export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
+  const wall0 = Date.now();
+  const seed = opts.seed ?? s.simulation.seed;
+  const { derived, params } = deriveAll(s);
+  const progress = opts.onProgress ?? (() => undefined);
+
+  const reused =
+    opts.references !== undefined &&
+    opts.references.key === referenceKey(s, seed, staticEngineRequest(s, opts));
+  const refs = reused
+    ? opts.references!
+    : computeReferences(s, { ...opts, seed, onProgress: (f) => progress(0.4 * f, 'references') });
+  progress(0.4, 'driven run');
+
+  const plan = planRun(s, params, derived, refs, { ...opts, seed });
+  const converged = plan.drives
+    ? executeConverging(s, params, derived, refs, plan, (x, label) => progress(0.4 + 0.6 * x, label))
+    : null;
+  const driven = converged ? converged.driven : null;
+
+  const wall = (Date.now() - wall0) / 1000;
+  const { free, stat } = refs.data;
+  const summary = summariseRun({
+    scenario: s,
+    derived,
+    params,
+    plan,
+    free,
+    stat,
+    driven,
+    convergence: converged
+      ? { stoppedBy: converged.stoppedBy, relativeStderr: converged.relativeStderr }
+      : null,
+    toolVersion: TOOL_VERSION,
+    timing: { wall_s: wall, drivenWall_s: Math.max(1e-9, wall - (reused ? 0 : refs.data.wall_s)) },
+  });
+  const ok = driven && !driven.failed ? driven : null;
+  const f = driveMoves(s.drive) ? s.drive.frequency : null;
+  const spectra: SpectraSet | null = ok
+    ? {
+        rin: ok.rin,
+        optical: ok.optical,
+        drive_harmonics_Hz: f && ok.rin ? driveHarmonics(f, ok.rin.f_Hz[ok.rin.f_Hz.length - 1], 50) : [],
+      }
+    : null;
   return {
     summary,
-    traces: driven && !driven.failed ? driven.traces : null,
+    traces: ok ? ok.traces : null,
     spectra,
-    static_curve: staticCurve,
+    static_curve: stat && !stat.failed ? staticCurveOf(stat) : null,
   };
 }

@@ -60,6 +60,12 @@ export function formatRunTable(s: RunSummary): string {
       w(s.driven.laser_intracavity_mean_W),
     ]);
     rows.push([
+      'driven standard error',
+      s.driven.external_mean_stderr_W === null ? '-' : w(s.driven.external_mean_stderr_W),
+      s.driven.laser_output_mean_stderr_W === null ? '-' : w(s.driven.laser_output_mean_stderr_W),
+      s.driven.laser_intracavity_mean_stderr_W === null ? '-' : w(s.driven.laser_intracavity_mean_stderr_W),
+    ]);
+    rows.push([
       'driven spread over offsets',
       `${w(s.driven.external_mean_by_offset_W.min)} .. ${w(s.driven.external_mean_by_offset_W.max)}`,
       '',
@@ -87,6 +93,10 @@ export function formatRunTable(s: RunSummary): string {
         [
           'power balance error / interface mismatch',
           `${num(s.power_balance?.relative_error, 2)} / ${num(s.power_balance?.interface_mismatch_rel, 2)}`,
+        ],
+        [
+          'statistics',
+          `${s.driven.offsets_used} rest offsets x ${s.driven.periods_used ?? '-'} periods, relative standard error ${s.driven.external_mean_stderr_W === null ? '-' : num(s.driven.external_mean_stderr_W / s.driven.external_mean_W, 2)}, stopped by the ${s.driven.stopped_by === 'target' ? 'target error' : 'step budget'}`,
         ],
         ['engine', `${s.engine} (${s.engine_reason})`],
         ['time', `${s.timing.wall_s.toFixed(1)} s, ${formatSI(s.timing.mode_steps_per_s, 'mode-steps/s')}`],
