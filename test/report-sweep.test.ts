@@ -136,7 +136,7 @@ describe('sweep report, amplitude x frequency', () => {
   it('ranks the best points: decoupled only, highest gain over static first (checked against a plain sort)', () => {
     const best = bestPoints(m, 10);
     const g = m.metrics.gain_over_static;
-    const all = m.classes.map((c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
+    const all = m.classes.map((_c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
     const expected = [...all].sort((a, b) => g[b]! - g[a]! || a - b).slice(0, 10);
     expect(best).toEqual(expected);
     expect(best.length).toBeGreaterThan(0);

@@ -139,9 +139,11 @@ describe('sweep command end to end', () => {
 
   it('runSweep on the calling thread (no pool) gives the same points as the binary with a pool', async () => {
     // The compiled modules, so that both sides run the same build of the engine.
+    // eslint-disable-next-line @typescript-eslint/no-require-imports -- the built file, chosen at run time
     const { runSweep } = require(
       join(ROOT, 'dist', 'sweep', 'run-sweep.js'),
     ) as typeof import('../src/sweep/run-sweep');
+    // eslint-disable-next-line @typescript-eslint/no-require-imports -- the built file, chosen at run time
     const { loadScenarioFile } = require(
       join(ROOT, 'dist', 'scenario', 'load.js'),
     ) as typeof import('../src/scenario/load');

@@ -316,13 +316,11 @@ export function planComparison(
   const h1 = harm[0];
   const aTri = kv * h1.response_magnitude * V;
   const triNotes: string[] = [];
-  const departures = harm
-    .slice(1)
-    .map((c) => ({
-      c,
-      ratio: c.response_magnitude / h1.response_magnitude,
-      lag_rad: c.response_phase_rad - h1.response_phase_rad,
-    }));
+  const departures = harm.slice(1).map((c) => ({
+    c,
+    ratio: c.response_magnitude / h1.response_magnitude,
+    lag_rad: c.response_phase_rad - h1.response_phase_rad,
+  }));
   triNotes.push(
     `harmonic content through the actuator, |H(n f)| / |H(f)|: ${departures.map((x) => `${x.c.label.replace('harmonic ', 'n = ')}: ${x.ratio.toPrecision(3)}`).join(', ')}; the engine runs the ideal triangle of the same fundamental`,
   );
