@@ -4,6 +4,7 @@ import type { MapAxis, SweepMap } from '../src/results/map';
 import type { RunClass } from '../src/results/summary';
 import { reachableMask, recommendOperatingPoint } from '../src/analysis/operating-point';
 import { mechanicalResponse, reachable } from '../src/physics/actuator';
+import { withOverrides } from '../src/scenario/validate';
 
 const TWO_PI = 2 * Math.PI;
 
@@ -399,7 +400,11 @@ describe('recommended operating point', () => {
     // Invented rule: the longer gap decouples at a lower speed (0.1 m/s instead of 1 m/s).
     const gap: MapAxis = { key: 'external.length', values: [0.05, 0.1], scale: 'linear' };
     const rule2 = (v: Record<string, number>): RunClass => bySpeed(v['external.length'] > 0.07 ? 0.1 : 1)(v);
-    const s = scenario(ACT);
+    // A map over external.length comes from a scenario with a gap (a sweep refuses the axis without one).
+    const s = withOverrides(scenario(ACT), {
+      'external.length': 0.05,
+      'external.return_mirror.reflectivity': 0.9,
+    });
     const p = recommendOperatingPoint(synthMap([FREQ, gap, AMP], rule2), s).recommended!;
     expect(p.axes['external.length']).toBe(0.1);
     expect(p.reason).toMatch(/best over the other axes: external\.length = 0\.1/);

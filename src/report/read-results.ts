@@ -5,7 +5,7 @@
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { InputError } from '../scenario/errors';
+import { errorText, InputError } from '../scenario/errors';
 import { RUN_FILES, RunArtifacts } from '../results/artifacts';
 import type { RunSummary } from '../results/summary';
 
@@ -23,7 +23,7 @@ export function readJsonFile(file: string, what: string, required: boolean): unk
   try {
     return JSON.parse(text) as unknown;
   } catch (err) {
-    const why = err instanceof Error ? err.message : String(err);
+    const why = errorText(err);
     throw new InputError(file, [
       { path: '', message: `expected ${what} as JSON, found text that does not parse (${why})` },
     ]);

@@ -4,7 +4,7 @@
  * longer step pays; the adiabatic path where the mirror crosses each resonance slowly
  * compared with the slowest response (the regrowth of a mode from noise).
  */
-import type { Scenario } from '../scenario/schema';
+import type { EngineChoice, Scenario } from '../scenario/schema';
 import type { CoupledParams } from '../physics/coupled/params';
 import type { EngineKind } from '../physics/coupled/factory';
 import { peakSpeed } from '../physics/drive';
@@ -55,7 +55,7 @@ export function planEngines(
   p: CoupledParams,
   finesse: number,
   regrowth_s: number,
-  requested: 'auto' | 'exact' | 'fast' | 'adiabatic',
+  requested: EngineChoice,
 ): EnginePlan {
   const lambda = s.laser.wavelength;
   const exactStep = exactEngineStep(s, p);

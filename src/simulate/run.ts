@@ -5,7 +5,7 @@
  * A numerical failure is data (status 'numerical-failure'), not an exception.
  */
 import { createHash } from 'node:crypto';
-import type { Scenario } from '../scenario/schema';
+import type { EngineChoice, Scenario } from '../scenario/schema';
 import { normaliseScenarioForJson, scenarioSha256 } from '../scenario/canonical';
 import type { RunArtifacts, SpectraSet } from '../results/artifacts';
 import {
@@ -36,9 +36,7 @@ import { drivenAdiabatic } from './adiabatic';
 import { planEngines, EnginePlan } from './engine-choice';
 import { actuatorSheet } from '../physics/actuator';
 
-/** What `simulation.engine` and the commands' `--engine` may ask for. */
-export const ENGINE_CHOICES = ['auto', 'exact', 'fast', 'adiabatic'] as const;
-export type EngineChoice = (typeof ENGINE_CHOICES)[number];
+export type { EngineChoice };
 
 export interface RunOptions {
   engine?: EngineChoice;

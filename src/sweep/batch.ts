@@ -5,7 +5,7 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { InputError } from '../scenario/errors';
+import { errorText, InputError } from '../scenario/errors';
 import { loadScenarioFile } from '../scenario/load';
 import type { Scenario } from '../scenario/schema';
 import { scenarioSha256 } from '../scenario/canonical';
@@ -213,10 +213,6 @@ function finishedRun(dir: string, sha256: string): RunSummary | null {
   } catch {
     return null;
   }
-}
-
-function errorText(err: unknown): string {
-  return err instanceof Error ? err.message : String(err);
 }
 
 /**
