@@ -2,31 +2,19 @@
  * The real binary: `node bin/dithercav.js check|schema`, exit codes and messages included.
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cli, requireDist, ROOT } from './fixtures/cli';
 
-const ROOT = resolve(__dirname, '..');
-const BIN = join(ROOT, 'bin', 'dithercav.js');
 let tmp = '';
-
-function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], {
-    cwd: ROOT,
-    encoding: 'utf8',
-    env: { ...process.env, NO_COLOR: '1' },
-  });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-}
 
 /** A stack frame line as Node prints them ("    at fn (file:1:2)"). */
 const STACK_FRAME = /^\s+at .+[(:]/m;
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
-    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+  requireDist();
   tmp = mkdtempSync(join(tmpdir(), 'dithercav-cli-'));
 });
 afterAll(() => {
