@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { scenarioSchema, type Scenario, type ScenarioInput } from '../src/scenario/schema';
+import type { Scenario, ScenarioInput } from '../src/scenario/schema';
+import { actuatorScenario } from './fixtures/actuator';
 import type { MapAxis, SweepMap } from '../src/results/map';
 import type { RunClass } from '../src/results/summary';
 import { reachableMask, recommendOperatingPoint } from '../src/analysis/operating-point';
@@ -10,18 +11,7 @@ const TWO_PI = 2 * Math.PI;
 
 /** Invented test scenario; only the drive and actuator matter here. */
 function scenario(actuator?: ScenarioInput['actuator']): Scenario {
-  return scenarioSchema.parse({
-    name: 'operating-point-test',
-    laser: {
-      wavelength: 632.8e-9,
-      cavity_length: 0.2,
-      rear_mirror: { reflectivity: 0.999 },
-      output_coupler: { reflectivity: 0.99 },
-      gain: { linewidth: 1.5e9, pump_ratio: 1.5, saturation_power: 0.2, inversion_lifetime: 2e-8 },
-    },
-    drive: { waveform: 'sine', amplitude: 1e-7, frequency: 1e5 },
-    actuator,
-  });
+  return actuatorScenario({ waveform: 'sine', amplitude: 1e-7, frequency: 1e5 }, actuator);
 }
 
 const ACT = {
