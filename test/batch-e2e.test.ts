@@ -5,21 +5,17 @@
  * all three, exit 1; --resume does not run the finished work again.
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { cli, requireDist } from './fixtures/cli';
 
 const FOLDER = join('test', 'fixtures', 'sweep', 'batch');
-let tmp = '';
+const tmp = scratchDir('batch');
 
 beforeAll(() => {
   requireDist();
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-batch-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
 });
 
 describe('batch command end to end', () => {

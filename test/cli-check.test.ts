@@ -2,23 +2,19 @@
  * The real binary: `node bin/dithercav.js check|schema`, exit codes and messages included.
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { cli, requireDist, ROOT } from './fixtures/cli';
 
-let tmp = '';
+const tmp = scratchDir('cli');
 
 /** A stack frame line as Node prints them ("    at fn (file:1:2)"). */
 const STACK_FRAME = /^\s+at .+[(:]/m;
 
 beforeAll(() => {
   requireDist();
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-cli-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
 });
 
 describe('dithercav check', () => {

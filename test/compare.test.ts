@@ -2,10 +2,10 @@
 // in the run summary. The CLI part runs the real binary: needs `npm run build` first (npm
 // test does it). Fixture: test/fixtures/compare/tiny-compare.yaml (invented numbers, a few
 // seconds per comparison).
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { cli, ROOT } from './fixtures/cli';
 import { loadScenarioFile } from '../src/scenario/load';
 import { withOverrides } from '../src/scenario/validate';
@@ -23,8 +23,7 @@ import { buildRunReportHtml } from '../src/report';
 import { fmtSI } from '../src/report/format';
 
 const FIXTURE = join(ROOT, 'test', 'fixtures', 'compare', 'tiny-compare.yaml');
-const tmp = mkdtempSync(join(tmpdir(), 'dithercav-compare-'));
-afterAll(() => rmSync(tmp, { recursive: true, force: true }));
+const tmp = scratchDir('compare');
 
 const base: Scenario = loadScenarioFile(FIXTURE).scenario;
 const act = base.actuator!;

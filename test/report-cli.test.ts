@@ -1,8 +1,8 @@
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, mkdirSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { Command } from 'commander';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { cliSync, distBuilt } from './fixtures/cli';
 import { registerReport } from '../src/cli/commands/report';
 import { detectResultFolder, rebuildReport } from '../src/report';
@@ -15,8 +15,7 @@ import {
   writeSweepFolder,
 } from './fixtures/report/make-fixtures';
 
-const root = mkdtempSync(join(tmpdir(), 'dithercav-report-cli-'));
-afterAll(() => rmSync(root, { recursive: true, force: true }));
+const root = scratchDir('report-cli');
 
 const runDir = join(root, 'run');
 const sweepDir = join(root, 'sweep');

@@ -1,7 +1,7 @@
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import {
   bestPoints,
   buildSweepReportHtml,
@@ -23,8 +23,7 @@ import {
 // Layout fixtures: the map's values come from closed-form formulas in the generator, so
 // each heatmap cell can be checked against the formula at the cell's own axis values.
 
-const root = mkdtempSync(join(tmpdir(), 'dithercav-report-sweep-'));
-afterAll(() => rmSync(root, { recursive: true, force: true }));
+const root = scratchDir('report-sweep');
 
 type Plot = { id: string; data: Record<string, any>[]; layout: Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
 function plotsOf(page: string): Plot[] {

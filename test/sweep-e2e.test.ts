@@ -5,24 +5,16 @@
  * every point present exactly once with the same summary (run time aside).
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import {
-  appendFileSync,
-  cpSync,
-  existsSync,
-  mkdtempSync,
-  readFileSync,
-  rmSync,
-  writeFileSync,
-} from 'node:fs';
-import { tmpdir } from 'node:os';
+import { appendFileSync, cpSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { cliAsync, cliSync, requireDist, ROOT } from './fixtures/cli';
 
 const TINY = join(ROOT, 'test', 'fixtures', 'sweep', 'tiny-sweep.yaml');
 const FAIL = join(ROOT, 'test', 'fixtures', 'sweep', 'tiny-fail.yaml');
 const TOTAL = 6;
-let tmp = '';
+const tmp = scratchDir('sweep');
 let reference: Map<number, string>;
 let referenceOut = '';
 
@@ -63,14 +55,10 @@ function expectSameAsReference(points: Map<number, string>) {
 
 beforeAll(() => {
   requireDist();
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-sweep-'));
   const r = cliSync(['sweep', TINY, '--out', join(tmp, 'ref'), '--jobs', '2', '--quiet']);
   expect(r.code, r.err).toBe(0);
   referenceOut = r.out;
   reference = pointsOf(join(tmp, 'ref'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
 });
 
 describe('sweep command end to end', () => {

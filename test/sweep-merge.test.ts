@@ -3,23 +3,17 @@
  * kept once, conflicting duplicates and shards of different scenarios refused (the CLI
  * with exit 2 and both folders named).
  */
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { cli, requireDist } from './fixtures/cli';
 import { InputError } from '../src/scenario/errors';
 import { failedPointSummary, makeHeader, PointWriter, readPoints, writeHeader } from '../src/sweep/persist';
 import type { PointRecord } from '../src/sweep/persist';
 import { mergeShards } from '../src/sweep/merge';
 
-let tmp = '';
-beforeAll(() => {
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-merge-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
-});
+const tmp = scratchDir('merge');
 
 const AXES = [{ key: 'drive.amplitude', values: [1e-9, 2e-9, 3e-9, 4e-9, 5e-9], scale: 'linear' as const }];
 
