@@ -6,6 +6,7 @@ import type { RunClass } from '../src/results/summary';
 import { reachableMask, recommendOperatingPoint } from '../src/analysis/operating-point';
 import { mechanicalResponse, reachable } from '../src/physics/actuator';
 import { withOverrides } from '../src/scenario/validate';
+import { InputError } from '../src/scenario/errors';
 
 const TWO_PI = 2 * Math.PI;
 
@@ -400,5 +401,14 @@ describe('recommended operating point', () => {
     expect(p.reason).toMatch(/best over the other axes: external\.length = 0\.1/);
     const bf = bruteForce(s, bySpeed(0.1))!;
     expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
+  });
+
+  it('builds each point with withOverrides: a value no scenario file could hold is refused, naming the key', () => {
+    // A negative amplitude is refused by the schema; a hand-made copy of the scenario used to
+    // pass it on to the actuator sheet unnoticed.
+    const bad: MapAxis = { key: 'drive.amplitude', values: [-1e-7, 1e-7], scale: 'linear' };
+    const map = synthMap([bad, FREQ], rule);
+    expect(() => reachableMask(map, scenario(ACT))).toThrow(InputError);
+    expect(() => reachableMask(map, scenario(ACT))).toThrow(/drive\.amplitude/);
   });
 });

@@ -116,3 +116,15 @@ describe('dithercav schema', () => {
     expect(j.required).toEqual(expect.arrayContaining(['name', 'laser']));
   });
 });
+
+describe('--engine', () => {
+  it('run, sweep and batch offer exactly the engines of the schema that `dithercav schema` prints', () => {
+    const engines: string[] = JSON.parse(cli('schema').out).properties.simulation.properties.engine.enum;
+    expect(engines.length).toBeGreaterThan(1);
+    for (const command of ['run', 'sweep', 'batch']) {
+      const r = cli(command, 'scenarios/demo.yaml', '--engine', 'no-such-engine');
+      expect(r.code, command).toBe(2);
+      expect(r.err).toContain(`Allowed choices are ${engines.join(', ')}.`);
+    }
+  });
+});
