@@ -1,22 +1,13 @@
 // Runs the real binary: needs `npm run build` first (npm test does it).
 import { describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
+import { cli, ROOT } from './fixtures/cli';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import { loadScenarioFile } from '../src/scenario/load';
 import { actuatorSheet } from '../src/physics/actuator';
 
-const ROOT = resolve(__dirname, '..');
 const DEMO = join(ROOT, 'scenarios', 'demo.yaml');
-
-function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [join(ROOT, 'bin', 'dithercav.js'), ...args], {
-    encoding: 'utf8',
-    cwd: ROOT,
-  });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-}
 
 describe('dithercav actuator', () => {
   it('--json prints the same sheet as actuatorSheet on the loaded scenario', () => {

@@ -1,26 +1,18 @@
 import { describe, expect, it } from 'vitest';
-import { scenarioSchema, type Scenario, type ScenarioInput } from '../src/scenario/schema';
+import type { Scenario, ScenarioInput } from '../src/scenario/schema';
+import { actuatorScenario } from './fixtures/actuator';
 import type { MapAxis, SweepMap } from '../src/results/map';
 import type { RunClass } from '../src/results/summary';
 import { reachableMask, recommendOperatingPoint } from '../src/analysis/operating-point';
 import { mechanicalResponse, reachable } from '../src/physics/actuator';
+import { withOverrides } from '../src/scenario/validate';
+import { InputError } from '../src/scenario/errors';
 
 const TWO_PI = 2 * Math.PI;
 
 /** Invented test scenario; only the drive and actuator matter here. */
 function scenario(actuator?: ScenarioInput['actuator']): Scenario {
-  return scenarioSchema.parse({
-    name: 'operating-point-test',
-    laser: {
-      wavelength: 632.8e-9,
-      cavity_length: 0.2,
-      rear_mirror: { reflectivity: 0.999 },
-      output_coupler: { reflectivity: 0.99 },
-      gain: { linewidth: 1.5e9, pump_ratio: 1.5, saturation_power: 0.2, inversion_lifetime: 2e-8 },
-    },
-    drive: { waveform: 'sine', amplitude: 1e-7, frequency: 1e5 },
-    actuator,
-  });
+  return actuatorScenario({ waveform: 'sine', amplitude: 1e-7, frequency: 1e5 }, actuator);
 }
 
 const ACT = {
@@ -399,11 +391,24 @@ describe('recommended operating point', () => {
     // Invented rule: the longer gap decouples at a lower speed (0.1 m/s instead of 1 m/s).
     const gap: MapAxis = { key: 'external.length', values: [0.05, 0.1], scale: 'linear' };
     const rule2 = (v: Record<string, number>): RunClass => bySpeed(v['external.length'] > 0.07 ? 0.1 : 1)(v);
-    const s = scenario(ACT);
+    // A map over external.length comes from a scenario with a gap (a sweep refuses the axis without one).
+    const s = withOverrides(scenario(ACT), {
+      'external.length': 0.05,
+      'external.return_mirror.reflectivity': 0.9,
+    });
     const p = recommendOperatingPoint(synthMap([FREQ, gap, AMP], rule2), s).recommended!;
     expect(p.axes['external.length']).toBe(0.1);
     expect(p.reason).toMatch(/best over the other axes: external\.length = 0\.1/);
     const bf = bruteForce(s, bySpeed(0.1))!;
     expect([p.amplitude_m, p.frequency_Hz]).toEqual([bf.A, bf.f]);
+  });
+
+  it('builds each point with withOverrides: a value no scenario file could hold is refused, naming the key', () => {
+    // A negative amplitude is refused by the schema; a hand-made copy of the scenario used to
+    // pass it on to the actuator sheet unnoticed.
+    const bad: MapAxis = { key: 'drive.amplitude', values: [-1e-7, 1e-7], scale: 'linear' };
+    const map = synthMap([bad, FREQ], rule);
+    expect(() => reachableMask(map, scenario(ACT))).toThrow(InputError);
+    expect(() => reachableMask(map, scenario(ACT))).toThrow(/drive\.amplitude/);
   });
 });

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { scenarioSchema, type Scenario, type ScenarioInput } from '../src/scenario/schema';
+import { actuatorScenario } from './fixtures/actuator';
 import {
   actuatorSheet,
   actuatorUtilisation,
@@ -13,20 +13,7 @@ import {
 const TWO_PI = 2 * Math.PI;
 
 /** An invented test scenario (numbers for the test only), with the drive and actuator given. */
-function scenario(drive: ScenarioInput['drive'], actuator?: ScenarioInput['actuator']): Scenario {
-  return scenarioSchema.parse({
-    name: 'actuator-test',
-    laser: {
-      wavelength: 632.8e-9,
-      cavity_length: 0.2,
-      rear_mirror: { reflectivity: 0.999 },
-      output_coupler: { reflectivity: 0.99 },
-      gain: { linewidth: 1.5e9, pump_ratio: 1.5, saturation_power: 0.2, inversion_lifetime: 2e-8 },
-    },
-    drive,
-    actuator,
-  });
-}
+const scenario = actuatorScenario;
 
 describe('second-order mechanical response', () => {
   it('|H| = Q and phase -90 deg at resonance, -> 1 and 0 deg far below, ~(f0/f)^2 and -180 deg far above', () => {

@@ -5,33 +5,17 @@
  * all three, exit 1; --resume does not run the finished work again.
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join, relative, resolve, sep } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
+import { cli, requireDist } from './fixtures/cli';
 
-const ROOT = resolve(__dirname, '..');
-const BIN = join(ROOT, 'bin', 'dithercav.js');
 const FOLDER = join('test', 'fixtures', 'sweep', 'batch');
-let tmp = '';
-
-function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], {
-    cwd: ROOT,
-    encoding: 'utf8',
-    env: { ...process.env, NO_COLOR: '1', CI: '1' },
-  });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-}
+const tmp = scratchDir('batch');
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
-    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-batch-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
+  requireDist();
 });
 
 describe('batch command end to end', () => {

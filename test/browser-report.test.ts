@@ -7,12 +7,12 @@
  * Without a browser the test is skipped with a loud warning, except under CI=true,
  * where a missing browser is a failure.
  */
-import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cliSync, distBuilt } from './fixtures/cli';
 import { rebuildReport } from '../src/report';
 import { findChromium, PipeBrowser } from './fixtures/report/cdp';
 import { writeAllFixtures } from './fixtures/report/make-fixtures';
@@ -166,21 +166,15 @@ describe.skipIf(!chromium)('reports in headless Chromium', () => {
 
   // A real run folder from the engine, when the binary can make one (tiny scenario).
   it('a real run folder written by `dithercav run`', async (ctx) => {
-    const bin = join(__dirname, '..', 'bin', 'dithercav.js');
     const scenario = join(__dirname, 'fixtures', 'report', 'tiny-run.yaml');
     const out = join(root, 'real-run');
-    const r = existsSync(join(__dirname, '..', 'dist', 'cli', 'main.js'))
-      ? spawnSync(process.execPath, [bin, 'run', scenario, '--out', out], {
-          encoding: 'utf8',
-          timeout: 120_000,
-        })
-      : null;
-    if (!r || r.status !== 0 || !existsSync(join(out, 'report.html'))) {
+    const r = distBuilt() ? cliSync(['run', scenario, '--out', out], {}, 120_000) : null;
+    if (!r || r.code !== 0 || !existsSync(join(out, 'report.html'))) {
       // under CI the engine must work: no silent skip there
       if (process.env.CI === 'true')
-        throw new Error(`dithercav run failed: ${r ? r.stderr || r.stdout : 'dist/ not built'}`);
+        throw new Error(`dithercav run failed: ${r ? r.err || r.out : 'dist/ not built'}`);
       console.warn(
-        `*** browser-report: \`dithercav run\` did not produce a run folder, the real-run page is SKIPPED: ${r ? (r.stderr || r.stdout).trim().split('\n')[0] : 'dist/ not built'} ***`,
+        `*** browser-report: \`dithercav run\` did not produce a run folder, the real-run page is SKIPPED: ${r ? (r.err || r.out).trim().split('\n')[0] : 'dist/ not built'} ***`,
       );
       ctx.skip();
       return;

@@ -2,35 +2,19 @@
  * The real binary: `node bin/dithercav.js check|schema`, exit codes and messages included.
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
+import { cli, requireDist, ROOT } from './fixtures/cli';
 
-const ROOT = resolve(__dirname, '..');
-const BIN = join(ROOT, 'bin', 'dithercav.js');
-let tmp = '';
-
-function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], {
-    cwd: ROOT,
-    encoding: 'utf8',
-    env: { ...process.env, NO_COLOR: '1' },
-  });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-}
+const tmp = scratchDir('cli');
 
 /** A stack frame line as Node prints them ("    at fn (file:1:2)"). */
 const STACK_FRAME = /^\s+at .+[(:]/m;
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
-    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-cli-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
+  requireDist();
 });
 
 describe('dithercav check', () => {
@@ -56,7 +40,7 @@ describe('dithercav check', () => {
     expect(r.out).toMatch(/photon lifetime\s+\d/);
     expect(r.out).toMatch(/Laser modes \(\d+\)/);
     expect(r.out).toMatch(/index\s+offset from gain peak/);
-    expect(r.out).not.toMatch(/\u001b\[/); // NO_COLOR and a pipe: plain text
+    expect(r.out).not.toContain('\u001b['); // NO_COLOR and a pipe: plain text
   });
 
   it('--json prints the file, the scenario hash and the derived quantities', () => {
@@ -135,5 +119,17 @@ describe('dithercav schema', () => {
     expect(j.properties.laser.type).toBe('object');
     expect(j.properties.laser.properties.gain.properties.pump_ratio).toBeDefined();
     expect(j.required).toEqual(expect.arrayContaining(['name', 'laser']));
+  });
+});
+
+describe('--engine', () => {
+  it('run, sweep and batch offer exactly the engines of the schema that `dithercav schema` prints', () => {
+    const engines: string[] = JSON.parse(cli('schema').out).properties.simulation.properties.engine.enum;
+    expect(engines.length).toBeGreaterThan(1);
+    for (const command of ['run', 'sweep', 'batch']) {
+      const r = cli(command, 'scenarios/demo.yaml', '--engine', 'no-such-engine');
+      expect(r.code, command).toBe(2);
+      expect(r.err).toContain(`Allowed choices are ${engines.join(', ')}.`);
+    }
   });
 });

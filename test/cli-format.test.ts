@@ -22,8 +22,8 @@ describe('plain-text tables', () => {
     expect(colourAllowed({ isTTY: true }, {})).toBe(true);
     expect(colourAllowed({ isTTY: false }, {})).toBe(false);
     expect(colourAllowed({ isTTY: true }, { NO_COLOR: '1' })).toBe(false);
-    expect(formatTable([['a']], { header: ['h'], colour: false })).not.toMatch(/\u001b/);
-    expect(formatTable([['a']], { header: ['h'], colour: true })).toMatch(/\u001b\[1m/);
+    expect(formatTable([['a']], { header: ['h'], colour: false })).not.toContain('\u001b');
+    expect(formatTable([['a']], { header: ['h'], colour: true })).toContain('\u001b[1m');
   });
 
   it('quantities carry SI prefixes; missing values read n/a', () => {

@@ -2,11 +2,11 @@
 // in the run summary. The CLI part runs the real binary: needs `npm run build` first (npm
 // test does it). Fixture: test/fixtures/compare/tiny-compare.yaml (invented numbers, a few
 // seconds per comparison).
-import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
+import { cli, ROOT } from './fixtures/cli';
 import { loadScenarioFile } from '../src/scenario/load';
 import { withOverrides } from '../src/scenario/validate';
 import { InputError } from '../src/scenario/errors';
@@ -22,10 +22,8 @@ import { actuatorSheet } from '../src/physics/actuator';
 import { buildRunReportHtml } from '../src/report';
 import { fmtSI } from '../src/report/format';
 
-const ROOT = resolve(__dirname, '..');
 const FIXTURE = join(ROOT, 'test', 'fixtures', 'compare', 'tiny-compare.yaml');
-const tmp = mkdtempSync(join(tmpdir(), 'dithercav-compare-'));
-afterAll(() => rmSync(tmp, { recursive: true, force: true }));
+const tmp = scratchDir('compare');
 
 const base: Scenario = loadScenarioFile(FIXTURE).scenario;
 const act = base.actuator!;
@@ -48,14 +46,6 @@ function row(c: WaveformComparison, w: string): ComparisonRow {
   const r = c.rows.find((x) => x.waveform === w);
   if (!r) throw new Error(`no row ${w}`);
   return r;
-}
-
-function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, [join(ROOT, 'bin', 'dithercav.js'), ...args], {
-    encoding: 'utf8',
-    cwd: ROOT,
-  });
-  return { code: r.status, out: r.stdout, err: r.stderr };
 }
 
 describe('amplitudes at equal peak voltage', () => {

@@ -7,7 +7,7 @@ import { balanceErrors } from '../src/physics/coupled/exact';
 import { createDrive } from '../src/physics/drive';
 import { runScenario } from '../src/simulate/run';
 import type { RunSummary } from '../src/results/summary';
-import { engineFrom, freeOf, laserInput, paramsOf, scenario } from './fixtures/engine/build';
+import { engineFrom, freeOf, laserInput, paramsOf, RUN_LASER, scenario } from './fixtures/engine/build';
 
 // Gas-like laser, three modes under a Doppler-wide line so that the balance is summed over modes.
 const LASER = laserInput({
@@ -74,12 +74,7 @@ describe('step convergence and reproducibility of a run', () => {
   /** A short driven run: 2 rest offsets, 4 drive periods at 1 MHz, 16 static positions, exact engine. */
   const mk = (substeps: number) =>
     scenario({
-      laser: laserInput({
-        cavity_length: '30 cm',
-        R1: 0.999,
-        R2: 0.99,
-        gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
-      }),
+      laser: RUN_LASER,
       external: {
         length: '30 cm',
         return_mirror: { reflectivity: 0.99 },

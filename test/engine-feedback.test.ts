@@ -30,6 +30,22 @@ function binPowers(re: Float64Array, im: Float64Array): number[] {
 }
 const signedBin = (k: number, N: number) => (k > N / 2 ? k - N : k);
 
+/** Bin powers of the returned field of mode 0 over the next Ns samples taken `every` steps apart. */
+function returnedSpectrum(e: ExactEngine, Ns: number, every: number): number[] {
+  const re = new Float64Array(Ns);
+  const im = new Float64Array(Ns);
+  let i = 0;
+  let k = 0;
+  e.advance(Ns * every, (en) => {
+    if (k++ % every === 0) {
+      re[i] = en.br[0];
+      im[i] = en.bi[0];
+      i++;
+    }
+  });
+  return binPowers(re, im);
+}
+
 describe('laser that ignores its feedback: the bare Airy response', () => {
   it("external over intracavity power is eta_fb T2 / (1 + R2 R3' + 2 r2 r3' cos phi) at every static position, and its mean the phase average", () => {
     // Gas-like laser with a 10 % coupler and a modest-finesse gap (R3 0.99, r2 r3' = 0.944,
@@ -137,18 +153,7 @@ describe('moving return mirror, laser ignoring its feedback', () => {
     const window_s = Ns * every * dt;
     const record = (t0: number) => {
       e.advance(Math.round((t0 - e.t) / dt));
-      const re = new Float64Array(Ns);
-      const im = new Float64Array(Ns);
-      let i = 0;
-      let k = 0;
-      e.advance(Ns * every, (en) => {
-        if (k++ % every === 0) {
-          re[i] = en.br[0];
-          im[i] = en.bi[0];
-          i++;
-        }
-      });
-      const P = binPowers(re, im);
+      const P = returnedSpectrum(e, Ns, every);
       let kMax = 0;
       for (let j = 1; j < Ns; j++) if (P[j] > P[kMax]) kMax = j;
       return signedBin(kMax, Ns) / window_s; // Hz
@@ -186,18 +191,7 @@ describe('moving return mirror, laser ignoring its feedback', () => {
     e.advance(2048); // 2 us: the delay line has filled (the gap holds 1 round trip)
     const Ns = 2048;
     const every = 16;
-    const re = new Float64Array(Ns);
-    const im = new Float64Array(Ns);
-    let i = 0;
-    let k = 0;
-    e.advance(Ns * every, (en) => {
-      if (k++ % every === 0) {
-        re[i] = en.br[0];
-        im[i] = en.bi[0];
-        i++;
-      }
-    });
-    const P = binPowers(re, im);
+    const P = returnedSpectrum(e, Ns, every);
     const total = P.reduce((a, b) => a + b, 0);
     return { P: P.map((x) => x / total), K: (Ns * every) / 1024 };
   }

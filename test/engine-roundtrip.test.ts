@@ -9,7 +9,6 @@
 import { describe, expect, it } from 'vitest';
 import { RoundTripEngine } from '../src/physics/coupled/roundtrip';
 import { balanceErrors } from '../src/physics/coupled/lane-engine';
-import type { CoupledParams } from '../src/physics/coupled/params';
 import { bankResponse, buildPacketBank } from '../src/physics/laser/gain-packets';
 import { createRng } from '../src/numerics/rng';
 import { freeRunningRoundTrip } from '../src/simulate/references';

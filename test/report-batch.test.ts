@@ -1,12 +1,11 @@
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { reportHref, writeBatchIndexHtml } from '../src/report';
 import { writeBatchFolder } from './fixtures/report/make-fixtures';
 
-const root = mkdtempSync(join(tmpdir(), 'dithercav-report-batch-'));
-afterAll(() => rmSync(root, { recursive: true, force: true }));
+const root = scratchDir('report-batch');
 
 describe('batch index page', () => {
   const dir = join(root, 'batch');

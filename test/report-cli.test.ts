@@ -1,9 +1,9 @@
-import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, mkdirSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { Command } from 'commander';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
+import { cliSync, distBuilt } from './fixtures/cli';
 import { registerReport } from '../src/cli/commands/report';
 import { detectResultFolder, rebuildReport } from '../src/report';
 import { InputError } from '../src/scenario/errors';
@@ -15,8 +15,7 @@ import {
   writeSweepFolder,
 } from './fixtures/report/make-fixtures';
 
-const root = mkdtempSync(join(tmpdir(), 'dithercav-report-cli-'));
-afterAll(() => rmSync(root, { recursive: true, force: true }));
+const root = scratchDir('report-cli');
 
 const runDir = join(root, 'run');
 const sweepDir = join(root, 'sweep');
@@ -76,30 +75,28 @@ describe('report folder detection and rebuild', () => {
 });
 
 // The real binary, as users run it (needs the compiled dist/, which `npm test` builds first).
-const bin = join(__dirname, '..', 'bin', 'dithercav.js');
-const built = existsSync(join(__dirname, '..', 'dist', 'cli', 'main.js'));
+const built = distBuilt();
 if (!built)
   console.warn('report-cli: dist/ is not built, the binary tests are skipped (run `npm run build`)');
 
 describe.skipIf(!built && process.env.CI !== 'true')('dithercav report (binary)', () => {
-  const run = (dir: string) =>
-    spawnSync(process.execPath, [bin, 'report', dir], { encoding: 'utf8', timeout: 60_000 });
+  const run = (dir: string) => cliSync(['report', dir], {}, 60_000);
 
   it('rebuilds a sweep report without simulating, exit 0', () => {
     rmSync(join(sweepDir, 'report.html'), { force: true });
     const r = run(sweepDir);
-    expect(r.stderr).toBe('');
-    expect(r.status).toBe(0);
-    expect(r.stdout).toContain(`wrote ${join(sweepDir, 'report.html')}`);
+    expect(r.err).toBe('');
+    expect(r.code).toBe(0);
+    expect(r.out).toContain(`wrote ${join(sweepDir, 'report.html')}`);
     expect(existsSync(join(sweepDir, 'report.html'))).toBe(true);
   });
 
   it('exits 2 with a message naming the folder for a folder that holds no results', () => {
     const r = run(emptyDir);
-    expect(r.status).toBe(2);
-    expect(r.stderr).toContain(
+    expect(r.code).toBe(2);
+    expect(r.err).toContain(
       `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json)`,
     );
-    expect(r.stderr).not.toMatch(/\n\s+at /); // no stack trace
+    expect(r.err).not.toMatch(/\n\s+at /); // no stack trace
   });
 });

@@ -1,7 +1,7 @@
-import { cpSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { cpSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { rebuildReport } from '../src/report';
 import { recommendOperatingPoint, reachableMask } from '../src/analysis/operating-point';
 import { scenarioSchema } from '../src/scenario/schema';
@@ -10,8 +10,7 @@ import type { SweepMap } from '../src/results/map';
 // The one committed example (reports/example/demo-sweep): it must stay what the current
 // code makes of its own saved map, and its report must build from it with no simulation.
 const EXAMPLE = join(__dirname, '..', 'reports', 'example', 'demo-sweep');
-const tmp = mkdtempSync(join(tmpdir(), 'dithercav-example-'));
-afterAll(() => rmSync(tmp, { recursive: true, force: true }));
+const tmp = scratchDir('example');
 
 describe('committed example sweep', () => {
   const map = JSON.parse(readFileSync(join(EXAMPLE, 'map.json'), 'utf8')) as SweepMap;

@@ -1,7 +1,7 @@
-import { mkdtempSync, readFileSync, rmSync, writeFileSync, mkdirSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync, mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import {
   buildRunReportHtml,
   groupSeries,
@@ -17,8 +17,7 @@ import { makeRunArtifacts, writeRunFolder } from './fixtures/report/make-fixture
 // Layout fixtures (test/fixtures/report/make-fixtures.ts): shapes of real result files
 // filled from closed-form curves; the checks compare the page with the files it was given.
 
-const root = mkdtempSync(join(tmpdir(), 'dithercav-report-run-'));
-afterAll(() => rmSync(root, { recursive: true, force: true }));
+const root = scratchDir('report-run');
 
 type Plot = { id: string; data: Record<string, unknown>[]; layout: Record<string, unknown> };
 

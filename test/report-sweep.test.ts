@@ -1,7 +1,7 @@
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import {
   bestPoints,
   buildSweepReportHtml,
@@ -23,8 +23,7 @@ import {
 // Layout fixtures: the map's values come from closed-form formulas in the generator, so
 // each heatmap cell can be checked against the formula at the cell's own axis values.
 
-const root = mkdtempSync(join(tmpdir(), 'dithercav-report-sweep-'));
-afterAll(() => rmSync(root, { recursive: true, force: true }));
+const root = scratchDir('report-sweep');
 
 type Plot = { id: string; data: Record<string, any>[]; layout: Record<string, any> }; // eslint-disable-line @typescript-eslint/no-explicit-any
 function plotsOf(page: string): Plot[] {
@@ -136,7 +135,7 @@ describe('sweep report, amplitude x frequency', () => {
   it('ranks the best points: decoupled only, highest gain over static first (checked against a plain sort)', () => {
     const best = bestPoints(m, 10);
     const g = m.metrics.gain_over_static;
-    const all = m.classes.map((c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
+    const all = m.classes.map((_c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
     const expected = [...all].sort((a, b) => g[b]! - g[a]! || a - b).slice(0, 10);
     expect(best).toEqual(expected);
     expect(best.length).toBeGreaterThan(0);

@@ -8,17 +8,12 @@
  */
 import { describe, expect, it } from 'vitest';
 import { runScenario } from '../src/simulate/run';
-import { laserInput, scenario } from './fixtures/engine/build';
+import { RUN_LASER, scenario } from './fixtures/engine/build';
 
 describe('incoherent fraction of a driven run', () => {
   const mk = (frequency: string) =>
     scenario({
-      laser: laserInput({
-        cavity_length: '30 cm',
-        R1: 0.999,
-        R2: 0.99,
-        gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
-      }),
+      laser: RUN_LASER,
       // R3 0.9: an external photon lifetime of about 18 ns, short against the drive period
       external: {
         length: '30 cm',
@@ -67,12 +62,7 @@ describe('incoherent fraction of a driven run', () => {
     // r3' = r3 T_gap sqrt(eta_rt) (MODEL.md section 2): the power kept per round trip is
     // R3 T_gap^2 eta_rt, so the phase average is eta_fb T2 / (1 - R2 R3 T_gap^2 eta_rt).
     const s = scenario({
-      laser: laserInput({
-        cavity_length: '30 cm',
-        R1: 0.999,
-        R2: 0.99,
-        gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
-      }),
+      laser: RUN_LASER,
       external: {
         length: '30 cm',
         return_mirror: { reflectivity: 0.95, loss: 0.02 },

@@ -289,7 +289,7 @@ describe('canonical form and overrides', () => {
       laser: { output_coupler: { radius: 'flat' } },
     });
     // same content, top-level sections in another order, units written differently
-    const reordered = BASE.replace(/^simulation:\n  periods: 10\n/m, '')
+    const reordered = BASE.replace(/^simulation:\n {2}periods: 10\n/m, '')
       .replace('name: test-bench\n', 'simulation:\n  periods: 10\nname: test-bench\n')
       .replace('15 cm', '150 mm');
     const b = parseScenarioText(reordered, 'b.yaml');

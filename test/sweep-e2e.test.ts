@@ -5,63 +5,18 @@
  * every point present exactly once with the same summary (run time aside).
  * Needs dist/ built (`npm test` builds it first; alone: `npm run build`).
  */
-import { spawn, spawnSync } from 'node:child_process';
-import type { ChildProcess } from 'node:child_process';
-import {
-  appendFileSync,
-  cpSync,
-  existsSync,
-  mkdtempSync,
-  readFileSync,
-  rmSync,
-  writeFileSync,
-} from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { appendFileSync, cpSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
+import { cliAsync, cliSync, requireDist, ROOT } from './fixtures/cli';
 
-const ROOT = resolve(__dirname, '..');
-const BIN = join(ROOT, 'bin', 'dithercav.js');
 const TINY = join(ROOT, 'test', 'fixtures', 'sweep', 'tiny-sweep.yaml');
 const FAIL = join(ROOT, 'test', 'fixtures', 'sweep', 'tiny-fail.yaml');
 const TOTAL = 6;
-let tmp = '';
+const tmp = scratchDir('sweep');
 let reference: Map<number, string>;
 let referenceOut = '';
-
-interface Result {
-  code: number | null;
-  signal: NodeJS.Signals | null;
-  out: string;
-  err: string;
-}
-
-function cliSync(args: string[], env: NodeJS.ProcessEnv = {}): Result {
-  const r = spawnSync(process.execPath, [BIN, ...args], {
-    cwd: ROOT,
-    encoding: 'utf8',
-    env: { ...process.env, NO_COLOR: '1', CI: '1', ...env },
-  });
-  return { code: r.status, signal: r.signal, out: r.stdout, err: r.stderr };
-}
-
-function cliAsync(
-  args: string[],
-  env: NodeJS.ProcessEnv = {},
-): { child: ChildProcess; done: Promise<Result> } {
-  const child = spawn(process.execPath, [BIN, ...args], {
-    cwd: ROOT,
-    env: { ...process.env, NO_COLOR: '1', CI: '1', ...env },
-  });
-  let out = '';
-  let err = '';
-  child.stdout!.on('data', (d) => (out += d));
-  child.stderr!.on('data', (d) => (err += d));
-  const done = new Promise<Result>((res) =>
-    child.on('close', (code, signal) => res({ code, signal, out, err })),
-  );
-  return { child, done };
-}
 
 /** Point index -> canonical JSON of its axes and summary; fails on a repeated index or a line that is not whole. */
 function pointsOf(dir: string): Map<number, string> {
@@ -99,16 +54,11 @@ function expectSameAsReference(points: Map<number, string>) {
 }
 
 beforeAll(() => {
-  if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
-    throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-sweep-'));
+  requireDist();
   const r = cliSync(['sweep', TINY, '--out', join(tmp, 'ref'), '--jobs', '2', '--quiet']);
   expect(r.code, r.err).toBe(0);
   referenceOut = r.out;
   reference = pointsOf(join(tmp, 'ref'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
 });
 
 describe('sweep command end to end', () => {
@@ -139,9 +89,11 @@ describe('sweep command end to end', () => {
 
   it('runSweep on the calling thread (no pool) gives the same points as the binary with a pool', async () => {
     // The compiled modules, so that both sides run the same build of the engine.
+    // eslint-disable-next-line @typescript-eslint/no-require-imports -- the built file, chosen at run time
     const { runSweep } = require(
       join(ROOT, 'dist', 'sweep', 'run-sweep.js'),
     ) as typeof import('../src/sweep/run-sweep');
+    // eslint-disable-next-line @typescript-eslint/no-require-imports -- the built file, chosen at run time
     const { loadScenarioFile } = require(
       join(ROOT, 'dist', 'scenario', 'load.js'),
     ) as typeof import('../src/scenario/load');

@@ -7,7 +7,8 @@ import { describe, expect, it } from 'vitest';
 import { scenarioSchema } from '../src/scenario/schema';
 import type { Scenario } from '../src/scenario/schema';
 import { InputError } from '../src/scenario/errors';
-import { expandGrid, gridIndices, gridPoint, pointScenario, rangeValues } from '../src/sweep/grid';
+import { expandGrid, gridPoint, pointScenario, rangeValues } from '../src/sweep/grid';
+import { axisIndices, axisStrides, pointCount } from '../src/results/grid-index';
 
 const laser = {
   wavelength: '632.8 nm',
@@ -72,7 +73,7 @@ describe('sweep grid', () => {
       ]),
     );
     expect(g.total).toBe(6);
-    const seen = [0, 1, 2, 3, 4, 5].map((i) => gridIndices(g.axes, i));
+    const seen = [0, 1, 2, 3, 4, 5].map((i) => axisIndices(g.axes, i));
     expect(seen).toEqual([
       [0, 0],
       [0, 1],
@@ -84,7 +85,22 @@ describe('sweep grid', () => {
     const p5 = gridPoint(g, 5).axes;
     expect(p5['drive.amplitude']).toBeCloseTo(3e-9, 20);
     expect(p5['drive.frequency']).toBe(2000);
-    expect(() => gridIndices(g.axes, 6)).toThrow(RangeError);
+    expect(() => axisIndices(g.axes, 6)).toThrow(RangeError);
+  });
+
+  it('strides and indices agree: index = sum_k i_k stride_k over a 3 x 4 x 2 grid, each index once', () => {
+    // Row-major order by its definition (last axis fastest): stride_k = n_{k+1} ... n_{last}.
+    const axes = [{ values: [0, 0, 0] }, { values: [0, 0, 0, 0] }, { values: [0, 0] }];
+    expect(pointCount(axes)).toBe(24);
+    expect(axisStrides(axes)).toEqual([8, 2, 1]);
+    const seen = new Set<string>();
+    for (let i = 0; i < 24; i++) {
+      const idx = axisIndices(axes, i);
+      expect(idx[0] * 8 + idx[1] * 2 + idx[2]).toBe(i);
+      idx.forEach((v, k) => expect(v).toBeLessThan(axes[k].values.length));
+      seen.add(idx.join(','));
+    }
+    expect(seen.size).toBe(24);
   });
 
   it("a point's scenario is a validated copy with the axis values set and no sweep; the base is not changed", () => {

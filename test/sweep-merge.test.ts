@@ -3,25 +3,17 @@
  * kept once, conflicting duplicates and shards of different scenarios refused (the CLI
  * with exit 2 and both folders named).
  */
-import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
+import { cli, requireDist } from './fixtures/cli';
 import { InputError } from '../src/scenario/errors';
 import { failedPointSummary, makeHeader, PointWriter, readPoints, writeHeader } from '../src/sweep/persist';
 import type { PointRecord } from '../src/sweep/persist';
 import { mergeShards } from '../src/sweep/merge';
 
-const ROOT = resolve(__dirname, '..');
-const BIN = join(ROOT, 'bin', 'dithercav.js');
-let tmp = '';
-beforeAll(() => {
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-merge-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
-});
+const tmp = scratchDir('merge');
 
 const AXES = [{ key: 'drive.amplitude', values: [1e-9, 2e-9, 3e-9, 4e-9, 5e-9], scale: 'linear' as const }];
 
@@ -111,21 +103,16 @@ describe('merge', () => {
   });
 
   it('the merge command exits 2 with a clear message for mixed scenarios, and 0 for one scenario', () => {
-    if (!existsSync(join(ROOT, 'dist', 'cli', 'main.js')))
-      throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+    requireDist();
     const a = shardDir('x1', SHA_A, { index: 1, count: 2 }, [0]);
     const b = shardDir('x2', SHA_B, { index: 2, count: 2 }, [1]);
-    const bad = spawnSync(process.execPath, [BIN, 'merge', a, b, '--out', join(tmp, 'xm')], {
-      encoding: 'utf8',
-    });
-    expect(bad.status).toBe(2);
-    expect(bad.stderr).toMatch(/refusing to merge shards of different scenarios/);
-    expect(bad.stderr).not.toMatch(/^\s+at .+[(:]/m); // no stack trace
+    const bad = cli('merge', a, b, '--out', join(tmp, 'xm'));
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/refusing to merge shards of different scenarios/);
+    expect(bad.err).not.toMatch(/^\s+at .+[(:]/m); // no stack trace
     const c = shardDir('x3', SHA_A, { index: 2, count: 2 }, [1, 3]);
-    const good = spawnSync(process.execPath, [BIN, 'merge', a, c, '--out', join(tmp, 'xg')], {
-      encoding: 'utf8',
-    });
-    expect(good.status).toBe(0);
-    expect(good.stdout).toMatch(/3\/5 points/);
+    const good = cli('merge', a, c, '--out', join(tmp, 'xg'));
+    expect(good.code).toBe(0);
+    expect(good.out).toMatch(/3\/5 points/);
   });
 });

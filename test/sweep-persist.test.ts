@@ -2,10 +2,10 @@
  * points.ndjson and sweep.json on synthetic files: whole lines, a torn last line dropped
  * (never parsed as data) and repaired before appending, headers of another scenario refused.
  */
-import { appendFileSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { appendFileSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { scratchDir } from './fixtures/scratch';
 import { InputError } from '../src/scenario/errors';
 import {
   assertSameSweep,
@@ -20,13 +20,7 @@ import {
 } from '../src/sweep/persist';
 import type { PointRecord } from '../src/sweep/persist';
 
-let tmp = '';
-beforeAll(() => {
-  tmp = mkdtempSync(join(tmpdir(), 'dithercav-persist-'));
-});
-afterAll(() => {
-  if (tmp) rmSync(tmp, { recursive: true, force: true });
-});
+const tmp = scratchDir('persist');
 
 function rec(index: number, a: number): PointRecord {
   return {

@@ -3,72 +3,29 @@
  * can reach, and the reachable operating point decoupled with a margin that asks least of it.
  *
  * The map's arrays are flattened row-major over its axes, the last axis fastest
- * (src/results/map.ts); the amplitude and frequency axes are found by key, in any order.
+ * (src/results/grid-index.ts); the amplitude and frequency axes are found by key, in any order.
  */
 import type { OperatingPoint, SweepMap } from '../results/map';
 import type { Scenario } from '../scenario/schema';
 import { actuatorSheet, actuatorUtilisation } from '../physics/actuator';
 import { strokePeakToPeak } from '../physics/drive';
 import { formatSI } from '../scenario/units';
-
-export const AMPLITUDE_KEY = 'drive.amplitude';
-export const FREQUENCY_KEY = 'drive.frequency';
-
-/** Row-major strides of the map's axes (last axis stride 1). */
-function strides(map: SweepMap): number[] {
-  const s = new Array<number>(map.axes.length);
-  let acc = 1;
-  for (let i = map.axes.length - 1; i >= 0; i--) {
-    s[i] = acc;
-    acc *= map.axes[i].values.length;
-  }
-  return s;
-}
-
-function pointCount(map: SweepMap): number {
-  return map.axes.reduce((n, a) => n * a.values.length, 1);
-}
-
-/** The value of every axis at a flat index. */
-function axisValues(map: SweepMap, st: number[], index: number): Record<string, number> {
-  const out: Record<string, number> = {};
-  map.axes.forEach((a, i) => {
-    out[a.key] = a.values[Math.floor(index / st[i]) % a.values.length];
-  });
-  return out;
-}
-
-/**
- * The scenario at one map point, as far as the drive and actuator are concerned: axis
- * values under `drive.` and `actuator.` replace the scenario's (copies, never mutation);
- * other axes (laser, cavity) do not change what the actuator must deliver.
- */
-function pointScenario(scenario: Scenario, values: Record<string, number>): Scenario {
-  const drive: Record<string, unknown> = { ...scenario.drive };
-  const act: Record<string, unknown> | undefined =
-    scenario.actuator === undefined ? undefined : { ...scenario.actuator };
-  for (const [key, v] of Object.entries(values)) {
-    const [head, field, ...rest] = key.split('.');
-    if (rest.length > 0 || field === undefined) continue;
-    if (head === 'drive') drive[field] = v;
-    else if (head === 'actuator' && act !== undefined) act[field] = v;
-  }
-  return { ...scenario, drive: drive as Scenario['drive'], actuator: act as Scenario['actuator'] };
-}
+import { AMPLITUDE_KEY, FREQUENCY_KEY } from '../scenario/keypath';
+import { withOverrides } from '../scenario/validate';
+import { axisStrides, axisValuesAt, pointCount } from '../results/grid-index';
 
 /**
  * Per map point, whether the scenario's actuator can deliver the drive there (no limit of
- * actuatorSheet exceeded: voltage, current, resonance margin, above resonance), the axes'
- * drive and actuator values applied to the scenario. Axes the map lacks keep the
- * scenario's values.
+ * actuatorSheet exceeded: voltage, current, resonance margin, above resonance), every axis
+ * value of the point applied to the scenario by `withOverrides`, as the sweep built the
+ * point (validated; a copy). Axes the map lacks keep the scenario's values.
  * @returns one boolean per point (flat, row-major), or null when the scenario has no actuator
  */
 export function reachableMask(map: SweepMap, scenario: Scenario): boolean[] | null {
   if (scenario.actuator === undefined) return null;
-  const st = strides(map);
-  const n = pointCount(map);
+  const n = pointCount(map.axes);
   const mask = new Array<boolean>(n);
-  for (let i = 0; i < n; i++) mask[i] = actuatorSheet(pointScenario(scenario, axisValues(map, st, i))).ok;
+  for (let i = 0; i < n; i++) mask[i] = actuatorSheet(withOverrides(scenario, axisValuesAt(map.axes, i))).ok;
   return mask;
 }
 
@@ -130,8 +87,8 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
       recommended_reason: `no operating point: the map needs both ${ampKey} and ${freqKey} axes`,
     };
   }
-  const st = strides(map);
-  const n = pointCount(map);
+  const st = axisStrides(map.axes);
+  const n = pointCount(map.axes);
   const nA = map.axes[ai].values.length;
   const nF = map.axes[fi].values.length;
   const isDecoupled = (i: number) => map.classes[i] === 'decoupled';
@@ -172,8 +129,8 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   let reachableCount = 0;
   const refusals = new Map<string, number>();
   for (const i of withMargin) {
-    const values = axisValues(map, st, i);
-    const s = pointScenario(scenario, values);
+    const values = axisValuesAt(map.axes, i);
+    const s = withOverrides(scenario, values);
     let cost: Cost;
     if (hasActuator) {
       const sheet = actuatorSheet(s);
@@ -215,8 +172,8 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
     };
   }
 
-  const values = axisValues(map, st, best);
-  const s = pointScenario(scenario, values);
+  const values = axisValuesAt(map.axes, best);
+  const s = withOverrides(scenario, values);
   const amplitude = values[ampKey];
   const frequency = values[freqKey];
   const stroke = strokePeakToPeak(s.drive);

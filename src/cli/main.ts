@@ -3,7 +3,7 @@
  * registers itself here. Exit codes: 0 success, 1 a run failed, 2 bad input.
  */
 import { Command, CommanderError } from 'commander';
-import { InputError } from '../scenario/errors';
+import { errorText, InputError } from '../scenario/errors';
 import { TOOL_VERSION } from '../version';
 import { registerCheck } from './commands/check';
 import { registerSchema } from './commands/schema';
@@ -71,8 +71,7 @@ export async function main(argv: string[]): Promise<number> {
       process.stderr.write(`dithercav: bad input\n${err.message}\n`);
       return 2;
     }
-    const msg = err instanceof Error ? err.message : String(err);
-    process.stderr.write(`dithercav: failed: ${msg}\n`);
+    process.stderr.write(`dithercav: failed: ${errorText(err)}\n`);
     return 1;
   }
 }

@@ -11,9 +11,10 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { SWEEP_FILES } from '../results/files';
 import type { CurvePoint, MapAxis, SweepMap } from '../results/map';
+import { axisStrides } from '../results/grid-index';
 import { RUN_CLASSES } from '../results/summary';
 import { QUANTITY_KINDS } from '../scenario/units';
-import { InputError } from '../scenario/errors';
+
 import { TOOL_VERSION } from '../version';
 import { classBadge, classColour, classLegend } from './class-style';
 import {
@@ -112,13 +113,6 @@ function axisTitle(a: MapAxis): string {
   return unit === '' ? a.key : `${a.key} (${unit})`;
 }
 
-/** Row-major strides of the flattened point arrays (the last axis varies fastest). */
-export function strides(axes: MapAxis[]): number[] {
-  const s = new Array<number>(axes.length).fill(1);
-  for (let k = axes.length - 2; k >= 0; k--) s[k] = s[k + 1] * axes[k + 1].values.length;
-  return s;
-}
-
 /** Which axis goes across (x) and which up (y) on the maps; null for a one-axis sweep. */
 export function mapAxes(m: SweepMap): { x: number; y: number } | null {
   if (m.axes.length < 2) return null;
@@ -133,7 +127,7 @@ export function mapAxes(m: SweepMap): { x: number; y: number } | null {
  * first value), as plotly's heatmap wants it (rows along y). Missing values are null.
  */
 export function grid<T>(m: SweepMap, values: (T | null)[], xy: { x: number; y: number }): (T | null)[][] {
-  const st = strides(m.axes);
+  const st = axisStrides(m.axes);
   const ny = m.axes[xy.y].values.length;
   const nx = m.axes[xy.x].values.length;
   const z: (T | null)[][] = [];
@@ -272,7 +266,7 @@ function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Re
 function hoverText(m: SweepMap, xy: { x: number; y: number }): string[][] {
   const ax = m.axes[xy.x];
   const ay = m.axes[xy.y];
-  const st = strides(m.axes);
+  const st = axisStrides(m.axes);
   return ay.values.map((yv, iy) =>
     ax.values.map((xv, ix) => {
       const i = iy * st[xy.y] + ix * st[xy.x];
@@ -523,7 +517,7 @@ export function bestPoints(m: SweepMap, n = BEST_POINTS): number[] {
 }
 
 function pointAxes(m: SweepMap, i: number): number[] {
-  const st = strides(m.axes);
+  const st = axisStrides(m.axes);
   return m.axes.map((a, k) => a.values[Math.floor(i / st[k]) % a.values.length]);
 }
 

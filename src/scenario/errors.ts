@@ -14,6 +14,11 @@ export interface InputProblem {
   column?: number;
 }
 
+/** The text of anything thrown: an Error's message (its name when the message is empty), else String(err). */
+export function errorText(err: unknown): string {
+  return err instanceof Error ? err.message || err.name : String(err);
+}
+
 /** One or more problems with a scenario file or the command line; exit code 2. */
 export class InputError extends Error {
   readonly exitCode = 2;

@@ -3,6 +3,10 @@
  * The same text names a key in error messages, in sweep axes and in `withOverrides`.
  */
 
+/** The key paths of the drive's amplitude and frequency: the two axes of a stability map. */
+export const AMPLITUDE_KEY = 'drive.amplitude';
+export const FREQUENCY_KEY = 'drive.frequency';
+
 /** One step of a key path: a mapping key or a list index. */
 export type PathSegment = string | number;
 

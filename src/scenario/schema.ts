@@ -315,6 +315,13 @@ export type AnalysisSpec = Scenario['analysis'];
 export type SweepSpec = NonNullable<Scenario['sweep']>;
 export type SweepAxisSpec = SweepSpec['axes'][number];
 
+/**
+ * What `simulation.engine` may ask for, read from the schema's own enum, so the commands'
+ * `--engine` choices follow any change of the engine names.
+ */
+export const ENGINE_CHOICES = simulation.shape.engine.unwrap().options;
+export type EngineChoice = SimulationSpec['engine'];
+
 /** Transmission of a mirror: given, or 1 - R - A. */
 export function mirrorTransmission(m: Mirror): number {
   return m.transmission ?? Math.max(0, 1 - m.reflectivity - m.loss);

@@ -336,32 +336,23 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
   const chainLen = Math.min(16, N0);
   const K = Math.ceil(N0 / chainLen);
   const warm = Math.min(3, N0 - 1);
-  const chain = createLaneEngine(
-    { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
-    p,
-    K,
-    still,
-    o.rng,
-  );
+  /** A still-mirror lane engine of the static scan over `lanes` lanes (steady-state pulling on). */
+  const laneEngine = (lanes: number) =>
+    createLaneEngine(
+      { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
+      p,
+      lanes,
+      still,
+      o.rng,
+    );
+  const chain = laneEngine(K);
   chain.setLaserState(o.initial.Er, o.initial.Ei, o.initial.N);
   const pos = (j: number, N: number) => (((j % N) + N) % N) * (o.halfWavelength_m / N);
   let positions = Array.from({ length: N0 }, (_, j) => pos(j, N0));
   let up: (LaneMeans | null)[] = new Array(N0).fill(null);
   let down: (LaneMeans | null)[] = new Array(N0).fill(null);
-  let store = createLaneEngine(
-    { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
-    p,
-    N0,
-    still,
-    o.rng,
-  );
-  let storeDown = createLaneEngine(
-    { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
-    p,
-    N0,
-    still,
-    o.rng,
-  );
+  let store = laneEngine(N0);
+  let storeDown = laneEngine(N0);
   const fail = (msg: string): StaticResult => ({
     positions_m: positions,
     up: [],
@@ -448,13 +439,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
         if (busy) active.push(j);
       }
       const A = active.length;
-      const mids = createLaneEngine(
-        { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
-        p,
-        Math.max(1, 2 * A),
-        still,
-        o.rng,
-      );
+      const mids = laneEngine(Math.max(1, 2 * A));
       active.forEach((j, a) => {
         mids.copyLane(store, j, a); // up branch from the left neighbour
         mids.copyLane(storeDown, (j + 1) % N, A + a); // down branch from the right neighbour
@@ -476,20 +461,8 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       const N2 = 2 * N;
       const up2: LaneMeans[] = new Array(N2);
       const down2: LaneMeans[] = new Array(N2);
-      const store2 = createLaneEngine(
-        { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
-        p,
-        N2,
-        still,
-        o.rng,
-      );
-      const storeDown2 = createLaneEngine(
-        { kind: o.engine, dt: o.dt, maxExcursion_m: maxExc, pullCorrection: true },
-        p,
-        N2,
-        still,
-        o.rng,
-      );
+      const store2 = laneEngine(N2);
+      const storeDown2 = laneEngine(N2);
       for (let j = 0; j < N; j++) {
         const k = (j + 1) % N;
         up2[2 * j] = upL[j];

@@ -7,7 +7,7 @@
  * A numerical failure is data (status 'numerical-failure'), not an exception.
  */
 import { createHash } from 'node:crypto';
-import type { Scenario } from '../scenario/schema';
+import type { EngineChoice, Scenario } from '../scenario/schema';
 import type { RunArtifacts, SpectraSet } from '../results/artifacts';
 import type { Derived, Warning } from '../results/summary';
 import { MAX_DRIVE_OFFSETS, MIN_DETECTION_WINDOWS } from '../results/limits';
@@ -38,17 +38,7 @@ import {
   engineName,
 } from './engine-choice';
 
-/** What `simulation.engine` and the commands' `--engine` may ask for. */
-export const ENGINE_CHOICES = [
-  'auto',
-  'roundtrip',
-  'modal',
-  'meanfield',
-  'adiabatic',
-  'exact',
-  'fast',
-] as const;
-export type EngineChoice = (typeof ENGINE_CHOICES)[number];
+export type { EngineChoice };
 
 export interface RunOptions {
   engine?: EngineChoice;

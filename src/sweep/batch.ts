@@ -5,7 +5,7 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { InputError } from '../scenario/errors';
+import { errorText, InputError } from '../scenario/errors';
 import { loadScenarioFile } from '../scenario/load';
 import type { Scenario } from '../scenario/schema';
 import { scenarioSha256 } from '../scenario/canonical';
@@ -14,7 +14,7 @@ import type { RunArtifacts } from '../results/artifacts';
 import { RUN_FILES } from '../results/artifacts';
 import type { RunClass, RunSummary } from '../results/summary';
 import { readRunSummary } from '../results/read';
-import { hasResultMarker, writeResultMarker } from '../results/marker';
+import { hasResultMarker } from '../results/marker';
 import { FOLDER_FILES } from '../results/files';
 import type { BatchIndexEntry } from '../results/batch';
 import { BATCH_FILES } from '../results/batch';
@@ -280,10 +280,6 @@ function finishedRun(dir: string, sha256: string, warn: (m: string) => void): Ru
     warn(`${errorText(err)}\n(running it again)`);
     return null;
   }
-}
-
-function errorText(err: unknown): string {
-  return err instanceof Error ? err.message : String(err);
 }
 
 /**

@@ -3,7 +3,8 @@
  * the base scenario with overrides (`withOverrides`), never a mutation of a shared object.
  *
  * Points are numbered row-major over the axes, the last axis varying fastest, so the
- * index of a point depends only on the axes, never on the order in which points finish.
+ * index of a point depends only on the axes, never on the order in which points finish
+ * (src/results/grid-index.ts).
  */
 import type { Scenario, SweepAxisSpec } from '../scenario/schema';
 import { InputError } from '../scenario/errors';
@@ -11,6 +12,7 @@ import { formatKeyPath, parseKeyPath } from '../scenario/keypath';
 import { nearestKey, numericKeyPaths } from '../scenario/shape';
 import { withOverrides } from '../scenario/validate';
 import type { MapAxis } from '../results/map';
+import { axisValuesAt, pointCount } from '../results/grid-index';
 
 /** Refuse grids beyond this many points: a typo in `points` should not start a month-long job. */
 export const MAX_GRID_POINTS = 10_000_000;
@@ -177,7 +179,7 @@ export function expandGrid(scenario: Scenario, file: string | null = null): Swee
     seen.add(axis.key);
     axes.push(axis);
   });
-  const total = axes.reduce((n, a) => n * a.values.length, 1);
+  const total = pointCount(axes);
   if (total > MAX_GRID_POINTS) {
     throw new InputError(file, [
       { path: 'sweep.axes', message: `expected at most ${MAX_GRID_POINTS} points in all, found ${total}` },
@@ -186,32 +188,9 @@ export function expandGrid(scenario: Scenario, file: string | null = null): Swee
   return { base, axes, total };
 }
 
-/**
- * Axis indices of a point: row-major, last axis fastest, so for axes of lengths
- * n_0..n_{k-1}, index = ((i_0 n_1 + i_1) n_2 + i_2) ... Throws RangeError outside 0..total-1.
- */
-export function gridIndices(axes: readonly { values: readonly number[] }[], index: number): number[] {
-  const total = axes.reduce((n, a) => n * a.values.length, 1);
-  if (!Number.isInteger(index) || index < 0 || index >= total)
-    throw new RangeError(`point index ${index} outside 0..${total - 1}`);
-  const out = new Array<number>(axes.length);
-  let rest = index;
-  for (let k = axes.length - 1; k >= 0; k--) {
-    const n = axes[k].values.length;
-    out[k] = rest % n;
-    rest = Math.floor(rest / n);
-  }
-  return out;
-}
-
 /** The point at `index`: its axis values (SI) by key. */
 export function gridPoint(grid: Pick<SweepGrid, 'axes'>, index: number): GridPoint {
-  const idx = gridIndices(grid.axes, index);
-  const axes: Record<string, number> = {};
-  grid.axes.forEach((a, k) => {
-    axes[a.key] = a.values[idx[k]];
-  });
-  return { index, axes };
+  return { index, axes: axisValuesAt(grid.axes, index) };
 }
 
 /** The scenario of one point: the base with every axis key set to the point's value (validated). */

@@ -7,12 +7,10 @@ import type { CurvePoint, MapAxis, SweepMap } from '../results/map';
 import type { RunClass } from '../results/summary';
 import { RESULT_VERSION } from '../results/summary';
 import type { Scenario } from '../scenario/schema';
-import { gridIndices } from './grid';
+import { axisIndices, pointCount } from '../results/grid-index';
 import type { PointRecord } from '../results/points';
 import { reachableMask, recommendOperatingPoint } from '../analysis/operating-point';
-
-export const AMPLITUDE_KEY = 'drive.amplitude';
-export const FREQUENCY_KEY = 'drive.frequency';
+import { AMPLITUDE_KEY, FREQUENCY_KEY } from '../scenario/keypath';
 
 /** Metrics of map.json and where each comes from in a point's summary. */
 export const MAP_METRICS = {
@@ -108,7 +106,7 @@ function curves(
   const decoupled: [number, boolean][][] = axes[jf].values.map(() => []);
   byIndex.forEach((r, index) => {
     if (!r || r.summary.status !== 'ok' || !r.summary.driven) return;
-    const idx = gridIndices(axes, index);
+    const idx = axisIndices(axes, index);
     const a = axes[ia].values[idx[ia]];
     const hops = finite(r.summary.driven.hops_per_period);
     if (hops !== null) onset[idx[jf]].push([a, hops > hopLimitPerPeriod]);
@@ -133,7 +131,7 @@ function curves(
  * `reachable` and `recommended` are null ('not computed'); withOperatingPoint fills them.
  */
 export function buildSweepMap(input: MapInput): SweepMap {
-  const total = input.axes.reduce((n, a) => n * a.values.length, 1);
+  const total = pointCount(input.axes);
   const byIndex = new Array<PointRecord | undefined>(total);
   for (const r of input.records) if (r.index >= 0 && r.index < total) byIndex[r.index] = r;
   const metrics: Record<string, (number | null)[]> = {};

@@ -8,7 +8,7 @@
 import * as fs from 'node:fs';
 import * as path from 'node:path';
 import type { Scenario } from '../scenario/schema';
-import { InputError } from '../scenario/errors';
+import { errorText, InputError } from '../scenario/errors';
 import { normaliseScenarioForJson, scenarioSha256 } from '../scenario/canonical';
 import type { EngineChoice } from '../simulate';
 import { referenceKey } from '../simulate';
@@ -68,10 +68,10 @@ export interface SweepOutcome {
   map: SweepMap;
 }
 
-/** The scenario with simulation.engine replaced, when an engine is chosen on the command line. */
+/** The scenario with simulation.engine replaced (by `withOverrides`), when an engine is chosen on the command line. */
 export function withEngine(s: Scenario, engine: EngineChoice | undefined): Scenario {
   if (engine === undefined || engine === s.simulation.engine) return s;
-  return { ...s, simulation: { ...s.simulation, engine } };
+  return withOverrides(s, { 'simulation.engine': engine });
 }
 
 /** The sweep.json a scenario (with its engine choice applied) and shard give. */
@@ -110,10 +110,6 @@ class Slots {
     if (next) next();
     else this.free++;
   }
-}
-
-function errorText(err: unknown): string {
-  return err instanceof Error ? err.message : String(err);
 }
 
 /** `file` relative to `dir`, forward slashes. */

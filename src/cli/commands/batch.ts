@@ -9,7 +9,7 @@
 import * as path from 'node:path';
 import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
-import { ENGINE_CHOICES, EngineChoice } from '../../simulate';
+import { ENGINE_CHOICES, EngineChoice } from '../../scenario/schema';
 import { batchCounts, runBatch } from '../../sweep/batch';
 import { writeBatchIndexHtml } from '../../report/batch-index';
 import { writeSweepReport } from '../../report/sweep-report';

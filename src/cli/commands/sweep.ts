@@ -11,7 +11,7 @@ import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
-import { ENGINE_CHOICES, EngineChoice } from '../../simulate';
+import { ENGINE_CHOICES, EngineChoice } from '../../scenario/schema';
 import { defaultJobs } from '../../sweep/pool';
 import { resolveShard, shardFolderName } from '../../sweep/shard';
 import { runSweep } from '../../sweep/run-sweep';

@@ -255,33 +255,6 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     );
   }
 
-  /**
-   * Interpolate the history of a for one lane-mode at `back` samples before the newest
-   * (4-point Lagrange, stencil never newer than the newest sample) into out[0], out[1].
-   */
-  private readHistory(
-    j: number,
-    w0: number,
-    w1: number,
-    w2: number,
-    w3: number,
-    start: number,
-    out: Float64Array,
-    o: number,
-  ): void {
-    const base = j * this.cap;
-    const h = this.head - start;
-    const i0 = base + (h & this.mask);
-    const i1 = base + ((h - 1) & this.mask);
-    const i2 = base + ((h - 2) & this.mask);
-    const i3 = base + ((h - 3) & this.mask);
-    const rr = this.ringRe;
-    const ri = this.ringIm;
-    out[o] = w0 * rr[i0] + w1 * rr[i1] + w2 * rr[i2] + w3 * rr[i3];
-    out[o + 1] = w0 * ri[i0] + w1 * ri[i1] + w2 * ri[i2] + w3 * ri[i3];
-  }
-
-  private readonly tmp2 = new Float64Array(2);
   private readonly weights = new Float64Array(5);
 
   /** Lagrange weights for nodes start, start+1, start+2, start+3 (in samples back) at `back`. */

@@ -292,7 +292,6 @@ export class RoundTripEngine implements LaneEngine {
   private seedLane(l: number, Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void {
     const p = this.p;
     const M = this.M;
-    const NL = this.NL;
     const dt = this.dt;
     // the ring holds v (after the medium) for the last NL steps: v(t_k) such that
     // rho1 Pc v(t_k - tau_L) = e(t_k) for a steady cold-cavity mode; fill with e / rho1 at steady gain
