@@ -14,7 +14,7 @@ const ROOMS = {
   scenario: { value: [], types: [] },
   physics: { value: ['numerics', 'scenario'], types: ['results'] },
   // results/summary.ts still names the actuator sheet's type: the one import that runs back up.
-  results: { value: [], types: ['physics'] },
+  results: { value: ['scenario'], types: ['physics'] },
   analysis: { value: ['numerics', 'results', 'physics', 'scenario'], types: [] },
   simulate: { value: ['physics', 'numerics', 'analysis', 'scenario', 'results'], types: [] },
   sweep: { value: ['simulate', 'analysis', 'scenario', 'results'], types: [] },

@@ -112,7 +112,7 @@ export function acquireFolderLock(dir: string, opts: AcquireOptions): FolderLock
   // Two rounds: after removing a stale lock another process may win the create; then we report it.
   for (let attempt = 0; attempt < 2; attempt++) {
     if (tryCreate(file, info)) return holdLock(file, info);
-    let text = '';
+    let text: string;
     try {
       text = fs.readFileSync(file, 'utf8');
     } catch (err) {
