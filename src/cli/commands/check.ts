@@ -109,6 +109,33 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
   ]);
   for (const n of b.notes) out.push(`  note: ${n}`);
 
+  const al = d.alignment;
+  if (s.external && al) {
+    // docs/model.md §2.5
+    const angle = (v: number | null) => (v === null ? 'n/a' : `${formatNumber(v * 1e6)} urad`);
+    section('Alignment of the return mirror', [
+      ['tilt', angle(al.tilt_rad)],
+      ['decentre', q(al.decenter_m, 'm')],
+      [
+        'coupling',
+        formatNumber(d.feedback_efficiency),
+        `aligned ${formatNumber(al.aligned_feedback_efficiency)} x misalignment factor ${formatNumber(al.coupling_factor)}`,
+      ],
+      [
+        'tilt that halves the coupling',
+        angle(al.half_coupling_tilt_rad),
+        al.basis === 'eigenmode'
+          ? 'M3 tilted alone; the gap eigenmode axis moves'
+          : al.basis === 'return'
+            ? 'M3 tilted alone; one round trip (no eigenmode)'
+            : 'not modelled',
+      ],
+      ...(al.tilt_per_stroke_rad_m !== 0
+        ? [['actuator tilt per stroke', `${formatNumber(al.tilt_per_stroke_rad_m)} urad/um`] as string[]]
+        : []),
+    ]);
+  }
+
   out.push('', bold(`Laser modes (${d.modes.length})`, colour));
   out.push(
     formatTable(

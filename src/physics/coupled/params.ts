@@ -61,6 +61,15 @@ export interface CoupledParams {
   phasePerMetre: Float64Array;
   /** single-pass internal loss */
   internalLoss: number;
+  /**
+   * The coupling law of docs/model.md §2.5: amplitude factor on couplingOut and kappa at
+   * mirror displacement x from rest (m; the lane's rest offset plus the drive), relative to
+   * feedbackEfficiency, when an actuator tilts the return mirror as it moves
+   * (actuator.tilt_per_stroke); null when the coupling does not depend on the position.
+   * Every time-domain engine applies it at the step's mirror position; the power flows use
+   * eta_fb factor(x)^2 as the instantaneous feedback efficiency.
+   */
+  couplingAt: ((x_m: number) => number) | null;
 }
 
 /**
@@ -69,7 +78,7 @@ export interface CoupledParams {
  */
 export function buildCoupledParams(
   s: Scenario,
-  efficiencies: { feedback: number; roundtrip: number },
+  efficiencies: { feedback: number; roundtrip: number; couplingAt?: ((x_m: number) => number) | null },
 ): CoupledParams {
   const c = SPEED_OF_LIGHT_m_s;
   const L = s.laser;
@@ -136,5 +145,6 @@ export function buildCoupledParams(
     extPhase0,
     phasePerMetre,
     internalLoss: L.internal_loss,
+    couplingAt: hasExternal ? (efficiencies.couplingAt ?? null) : null,
   };
 }
