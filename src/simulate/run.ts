@@ -35,6 +35,7 @@ import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import { planEngines, EnginePlan } from './engine-choice';
 import { actuatorSheet } from '../physics/actuator';
+import { peakIntensityOf } from './budget';
 
 /** What `simulation.engine` and the commands' `--engine` may ask for. */
 export const ENGINE_CHOICES = ['auto', 'exact', 'fast', 'adiabatic'] as const;
@@ -512,6 +513,16 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       mode_steps_per_s: (laneSteps * params.M) / drivenWall,
     },
     warnings,
+    budget: driven && !driven.failed ? (driven.budget ?? null) : null,
+    peak_intensity: params.hasExternal
+      ? peakIntensityOf(
+          derived.beams,
+          drivenSummary ? drivenSummary.external_max_W : (staticSummary?.external_W.max ?? NaN),
+          driven && !driven.failed
+            ? Math.max(...driven.offsets.map((o) => o.intracavity.max))
+            : (staticSummary?.intracavity_W.max ?? free.intracavity_W),
+        )
+      : null,
     actuator: s.actuator ? actuatorSheet(s) : null,
   };
   const spectra: SpectraSet | null =

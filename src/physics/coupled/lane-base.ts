@@ -155,6 +155,7 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     let a2 = 0;
     let b2 = 0;
     let ad2 = 0;
+    let eb = 0;
     for (let m = 0; m < M; m++) {
       const j = l * M + m;
       const v = this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
@@ -163,6 +164,7 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
       if (p.hasExternal) {
         a2 += this.ar[j] * this.ar[j] + this.ai[j] * this.ai[j];
         b2 += this.br[j] * this.br[j] + this.bi[j] * this.bi[j];
+        eb += this.Er[j] * this.br[j] + this.Ei[j] * this.bi[j];
         ad2 += this.delayedForward2(j);
       }
     }
@@ -183,7 +185,11 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     const eta = p.feedbackEfficiency * f * f;
     const Tg = p.gapTransmission;
     out[FLOW_UNMATCHED] = (1 - eta) * out2;
-    out[FLOW_RETURNED_LOST] = (p.returnToLaser ? 1 - eta : 1) * p.T2 * b2;
+    // the laser ignoring its feedback: the ideal isolator takes all the change of the light
+    // M2 sends back, interference with the laser's own reflection included
+    out[FLOW_RETURNED_LOST] = p.returnToLaser
+      ? (1 - eta) * p.T2 * b2
+      : p.T2 * b2 + 2 * p.r2 * p.t2 * f * Math.sqrt(p.feedbackEfficiency) * eb;
     out[FLOW_MIRROR_LOSS] += p.A2 * b2 + p.A3 * Tg * ad2;
     out[FLOW_RETURN_THROUGH] = p.T3 * Tg * ad2;
     out[FLOW_GAP_ELEMENT] = (1 - Tg) * (1 + p.R3 * Tg) * ad2;

@@ -15,8 +15,10 @@
  *                                                     + A3 T_gap |a_del|^2
  *   INTERNAL_LOSS   the laser's intracavity loss:      w_int (C - T2 |E|^2)
  *   UNMATCHED       laser light outside the gap mode:  (1 - eta) T2 |E|^2
- *   RETURNED_LOST   light back through M2 that misses the laser mode: (1 - eta) T2 |b|^2
- *                   (all of T2 |b|^2 when the laser ignores its feedback: the isolator)
+ *   RETURNED_LOST   light back through M2 that misses the laser mode: (1 - eta) T2 |b|^2;
+ *                   when the laser ignores its feedback, what the ideal isolator takes:
+ *                   T2 |b|^2 + 2 r2 t2 sqrt(eta) Re(E* b) (the change of the light M2 sends
+ *                   back, its interference with the laser's own reflection included)
  *   RETURN_THROUGH  through M3 (a detector behind it): T3 T_gap |a_del|^2
  *   GAP_ELEMENT     lost in the gap element, both passes: (1 - T_gap) (1 + R3 T_gap) |a_del|^2
  *   GAP_CLIPPING    the per-round-trip loss eta_rt:    (1 - eta_rt) R3 T_gap^2 |a_del|^2
