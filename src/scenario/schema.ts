@@ -290,6 +290,26 @@ const sweep = z.strictObject({
   axes: z.array(axis).min(1, 'expected at least one axis'),
 });
 
+/** One tolerance: a normal spread (standard deviation) or a uniform one (half width), in the key's units. */
+const tolerance = z.union([z.strictObject({ normal: axisValue }), z.strictObject({ uniform: axisValue })], {
+  error:
+    "expected { normal: <standard deviation> } or { uniform: <half width> } in the key's units, e.g. { normal: 20 um }",
+});
+
+/** `dithercav yield`: manufacturing tolerances on scenario keys (docs/model.md §7). */
+const tolerances = z.strictObject({
+  vary: z
+    .record(z.string(), tolerance)
+    .refine((r) => Object.keys(r).length > 0, 'expected at least one key to vary')
+    .describe('key path -> { normal: sd } or { uniform: half width }, in the units of the key'),
+  gap_power_floor: quantity('power', nonNegative)
+    .optional()
+    .describe('yield also counts the draws whose mean gap power is at least this'),
+  seed: integer(0, 2 ** 32 - 1)
+    .optional()
+    .describe('seed of the draws (default simulation.seed)'),
+});
+
 export const scenarioSchema = z.strictObject({
   name: z
     .string({ error: (iss) => `expected a name (text), found ${describeFound(iss.input)}` })
@@ -302,6 +322,7 @@ export const scenarioSchema = z.strictObject({
   simulation: simulation.default(simulation.parse({})),
   analysis: analysis.default(analysis.parse({})),
   sweep: sweep.optional(),
+  tolerances: tolerances.optional().describe('tolerances for `dithercav yield`'),
 });
 
 /** A validated scenario, every quantity in SI. */
@@ -318,6 +339,7 @@ export type SimulationSpec = Scenario['simulation'];
 export type AnalysisSpec = Scenario['analysis'];
 export type SweepSpec = NonNullable<Scenario['sweep']>;
 export type SweepAxisSpec = SweepSpec['axes'][number];
+export type TolerancesSpec = NonNullable<Scenario['tolerances']>;
 
 /** Transmission of a mirror: given, or 1 - R - A. */
 export function mirrorTransmission(m: Mirror): number {
