@@ -11,12 +11,15 @@ import { writeBatchIndexHtml } from './batch-index';
 import { readJsonFile } from './read-results';
 import { writeRunReport } from './run-report';
 import { SWEEP_MAP_FILE, writeSweepReport } from './sweep-report';
+import { YIELD_FILES } from '../results/yield';
+import { writeYieldReport } from './yield-report';
 
-export type ResultFolderKind = 'run' | 'sweep' | 'batch';
+export type ResultFolderKind = 'run' | 'sweep' | 'batch' | 'yield';
 
-/** What a folder holds: summary.json -> run, map.json -> sweep, index.json -> batch; null for none. */
+/** What a folder holds: summary.json -> run, yield.json -> yield, map.json -> sweep, index.json -> batch; null for none. */
 export function detectResultFolder(dir: string): ResultFolderKind | null {
   if (existsSync(join(dir, RUN_FILES.summary))) return 'run';
+  if (existsSync(join(dir, YIELD_FILES.summary))) return 'yield';
   if (existsSync(join(dir, SWEEP_MAP_FILE))) return 'sweep';
   if (existsSync(join(dir, BATCH_FILES.index))) return 'batch';
   return null;
@@ -75,6 +78,7 @@ export function rebuildReport(dir: string): RebuildResult {
   }
   if (kind === 'run') return { kind, written: [writeRunReport(dir)] };
   if (kind === 'sweep') return { kind, written: [writeSweepReport(dir)] };
+  if (kind === 'yield') return { kind, written: [writeYieldReport(dir)] };
   const index = readBatchIndex(join(dir, BATCH_FILES.index));
   const written = [writeBatchIndexHtml(dir, index)];
   for (const e of index) {
