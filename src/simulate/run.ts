@@ -196,6 +196,12 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const engine = plan.driven.kind;
   const engineReason = `${plan.driven.reason}; static reference: ${refs.data.staticEngine} engine`;
   if (plan.driven.warning) warnings.push({ code: 'engine-validity', message: plan.driven.warning });
+  if (engine === 'adiabatic' && params.couplingAt !== null)
+    warnings.push({
+      code: 'tilt-not-followed',
+      message:
+        'the adiabatic path follows the still-mirror curve, which holds the coupling at the rest tilt: actuator.tilt_per_stroke is not followed (docs/model.md §2.5); choose a time-stepping engine',
+    });
   const dt = plan.driven.kind === 'adiabatic' ? plan.basis.exactStep_s : plan.driven.dt;
 
   let driven: DrivenResult | null = null;
