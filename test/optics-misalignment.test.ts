@@ -196,3 +196,62 @@ describe('coupling of a misaligned return mirror', () => {
     expect(couplingLaw(s)).toBeNull();
   });
 });
+
+describe('the engines follow the coupling law', () => {
+  it('with an actuator tilt, the gap power of a blind laser falls by the closed-form overlap at the mirror position', async () => {
+    const { laserInput, engineFrom, freeOf, paramsOf, scenario, STILL } =
+      await import('./fixtures/engine/build');
+    const { FastEngine } = await import('../src/physics/coupled/fast');
+    const { createRng } = await import('../src/numerics/rng');
+    const { externalPowerOf } = await import('../src/simulate/references');
+    // a plano-concave laser (so it has a Gaussian mode) facing the demo-like gap; the laser
+    // ignores its feedback, so the gap power is eta_fb T2 |E|^2 / |1 + r2 r3' e^{-i phi}|^2
+    // (docs/model.md §2.2) and scales with eta_fb alone at a fixed mirror position
+    const laser = laserInput({ cavity_length: '22 cm', R2: 0.99, gain: { pump_ratio: 1.8 } });
+    laser.rear_mirror = { reflectivity: 0.999, loss: 0, radius: '1 m' };
+    const k = 150; // rad/m
+    const x0 = 1e-6; // m: tilt k x0 = 150 urad, near the half-coupling tilt
+    const mk = (tiltPerStroke: number) =>
+      scenario({
+        laser,
+        external: {
+          length: '9 cm',
+          return_mirror: { reflectivity: 0.9995, radius: '1.5 m' },
+          roundtrip_efficiency: 1,
+          return_to_laser: false,
+        },
+        actuator: { stroke_per_volt: '10 nm/V', tilt_per_stroke: tiltPerStroke },
+      });
+    const aligned = paramsOf(mk(0));
+    const tilting = paramsOf(mk(k));
+    expect(tilting.couplingAt).not.toBeNull();
+    const s = mk(k);
+    const { derived } = deriveAll(s);
+    const w1 = derived.beams.radius_at_M2_m!;
+    const w2sq = (s.laser.wavelength / Math.PI) * Math.sqrt(0.09 * (1.5 - 0.09));
+    // Joyce and DeLoach (1984) at a common waist plane (flat M2), axis moved by R3 theta
+    const expected = Math.exp((-2 * (1.5 * k * x0) ** 2) / (w1 * w1 + w2sq));
+    const free = freeOf(aligned);
+    for (const kind of ['exact', 'fast'] as const) {
+      const gap = (p: typeof aligned) => {
+        const dt = p.roundTripExternal_s / 2;
+        const e =
+          kind === 'exact'
+            ? engineFrom(p, dt, STILL, [x0], free, 2e-6)
+            : new FastEngine(p, 1, 20 * dt, STILL, createRng(5));
+        if (kind === 'fast') {
+          e.offset[0] = x0;
+          e.setLaserState(free.Er, free.Ei, free.N);
+        }
+        e.advance(Math.round(30e-6 / e.dt)); // > 20 photon lifetimes of the gap (~1 us)
+        let sum = 0;
+        const n = 200;
+        e.advance(n, (en) => (sum += externalPowerOf(en, 0)));
+        return sum / n;
+      };
+      // the laser is the same in both (blind to its feedback): only the coupling differs;
+      // 1e-6 covers the spontaneous-emission noise (1e-15 W against mW)
+      expect(gap(tilting) / gap(aligned)).toBeCloseTo(expected, 5);
+    }
+  });
+});
