@@ -255,3 +255,18 @@ describe('the engines follow the coupling law', () => {
     }
   });
 });
+
+describe('canonical form with the misalignment keys', () => {
+  it('leaves them out at their default (earlier hashes stay valid) and round-trips either way', async () => {
+    const { normaliseScenarioForJson } = await import('../src/scenario/canonical');
+    const s = demo();
+    const plain = normaliseScenarioForJson(s) as { external: { return_mirror: Record<string, unknown> } };
+    expect('tilt' in plain.external.return_mirror).toBe(false);
+    expect(scenarioSchema.parse(plain)).toEqual(s);
+    const tilted = withReturnMirror(s, { tilt: 2e-5, decenter: 1e-5 }, { tilt_per_stroke: 3 });
+    const n = normaliseScenarioForJson(tilted) as typeof plain & { actuator: Record<string, unknown> };
+    expect(n.external.return_mirror.tilt).toBe(2e-5);
+    expect(n.actuator.tilt_per_stroke).toBe(3);
+    expect(scenarioSchema.parse(n)).toEqual(tilted);
+  });
+});

@@ -17,6 +17,8 @@ import {
 } from './fixtures/report/make-fixtures';
 import { findChromium, PipeBrowser } from './fixtures/report/cdp';
 import { InputError } from '../src/scenario/errors';
+import { buildYieldReportHtml } from '../src/report/yield-report';
+import type { YieldSummary } from '../src/results/yield';
 
 let root = '';
 const dirs = { run: '', sweep: '' };
@@ -83,10 +85,32 @@ describe.skipIf(!chromium)('the comparison page in headless Chromium', () => {
   afterAll(async () => {
     if (browser) await browser.close();
   });
-  for (const kind of ['run', 'sweep'] as const) {
-    it(`${kind} folders: every declared plot drawn, no error, no request`, async () => {
+  const yieldPage = (): string => {
+    // a hand-made yield summary of the right shape (layout only, not physics)
+    const y: YieldSummary = {
+      name: 'layout-fixture-yield',
+      draws_planned: 8,
+      draws_finished: 8,
+      draws_failed: 0,
+      seed: 1,
+      tolerances: [{ key: 'external.length', distribution: 'normal', spread: 1e-5, nominal: 0.09 }],
+      yield_decoupled: 0.75,
+      gap_power_floor_W: 0.05,
+      yield_above_floor: 0.5,
+      yield_both: 0.5,
+      gap_power_percentiles_W: { p5: 0.03, p25: 0.04, p50: 0.06, p75: 0.08, p95: 0.1 },
+      ripple_percentiles: { p5: 0.001, p25: 0.002, p50: 0.003, p75: 0.004, p95: 0.005 },
+      histogram: { edges_W: [0.03, 0.05, 0.07, 0.09, 0.11], counts: [2, 2, 3, 1] },
+      ranking_method: 'Spearman rank correlation',
+      ranking: [{ key: 'external.length', rho_gap_power: -0.7, rho_ripple: 0.2 }],
+      class_counts: { decoupled: 6, modulated: 2 },
+    };
+    return buildYieldReportHtml(y);
+  };
+  for (const kind of ['run', 'sweep', 'yield'] as const) {
+    it(`${kind === 'yield' ? 'yield report' : `${kind} folders`}: every declared plot drawn, no error, no request`, async () => {
       const file = join(root, `compare-${kind}.html`);
-      writeFileSync(file, buildComparisonHtml(dirs[kind], dirs[kind]));
+      writeFileSync(file, kind === 'yield' ? yieldPage() : buildComparisonHtml(dirs[kind], dirs[kind]));
       const url = pathToFileURL(file).href;
       const { session, events } = await browser.open(url);
       const probe = await browser.evaluate<{ declared: string[]; drawn: { id: string; svg: boolean }[] }>(
