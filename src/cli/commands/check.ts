@@ -8,6 +8,7 @@ import type { CommandContext } from '../main';
 import { loadScenarioFile, LoadedScenario } from '../../scenario/load';
 import { formatProblems } from '../../scenario/errors';
 import type { Derived } from '../../results/summary';
+import { planDraws } from '../../sweep/yield';
 import { deriveAll } from '../../physics/derive';
 import { bold, colourAllowed, formatNumber, formatQuantity, formatTable } from '../format';
 
@@ -177,6 +178,8 @@ export function registerCheck(program: Command, ctx: CommandContext): void {
     .option('--json', 'print { file, scenario_sha256, derived, warnings } as JSON')
     .action((file: string, opts: { json?: boolean }) => {
       const loaded = loadScenarioFile(file);
+      // the tolerances section's keys and spreads are checked here too (docs/model.md §7)
+      if (loaded.scenario.tolerances) planDraws(loaded.scenario, 1, file);
       const { derived } = deriveAll(loaded.scenario);
       if (opts.json) {
         const body: CheckJson = {
