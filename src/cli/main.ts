@@ -14,6 +14,7 @@ import { registerMerge } from './commands/merge';
 import { registerReport } from './commands/report';
 import { registerActuator } from './commands/actuator';
 import { registerCompare } from './commands/compare';
+import { registerYield } from './commands/yield';
 
 /** Exit status a command reports back to main. */
 export type ExitCode = 0 | 1 | 2;
@@ -40,6 +41,7 @@ export function buildProgram(ctx: CommandContext): Command {
   registerReport(program, ctx);
   registerActuator(program, ctx);
   registerCompare(program, ctx);
+  registerYield(program, ctx);
   registerSchema(program, ctx);
   for (const c of program.commands) c.exitOverride();
   return program;

@@ -9,6 +9,7 @@ import { buildCoupledParams, CoupledParams } from './coupled/params';
 import { singleModePower } from './laser/saturation';
 import { computeBeams } from './optics/beams';
 import { finesse, linewidth_Hz, phaseAveragedPowerRatio } from './optics/airy';
+import { couplingLaw, misalignmentOf } from './optics/misalignment';
 
 export interface DerivedAll {
   derived: Derived;
@@ -18,10 +19,14 @@ export interface DerivedAll {
 /** Derived quantities and the engine parameters of a scenario. */
 export function deriveAll(s: Scenario): DerivedAll {
   const beams = computeBeams(s);
+  // docs/model.md §2.5: the return mirror's tilt and decentre scale the aligned coupling
+  const mis = misalignmentOf(s);
   const params = buildCoupledParams(s, {
-    feedback: beams.feedbackEfficiency,
+    feedback: beams.feedbackEfficiency * mis.factor,
     roundtrip: beams.roundtripEfficiency,
+    couplingAt: couplingLaw(s, mis),
   });
+  if (mis.note) beams.beams.notes.push(mis.note);
   const c = SPEED_OF_LIGHT_m_s;
   const ext = s.external;
   const fsrExt = ext ? c / (2 * ext.length) : NaN;
@@ -70,6 +75,17 @@ export function deriveAll(s: Scenario): DerivedAll {
       gain_rel: m.gainRel[k],
     })),
     beams: beams.beams,
+    alignment: {
+      tilt_rad: ext ? ext.return_mirror.tilt : 0,
+      decenter_m: ext ? ext.return_mirror.decenter : 0,
+      tilt_per_stroke_rad_m: s.actuator?.tilt_per_stroke ?? 0,
+      aligned_feedback_efficiency: beams.feedbackEfficiency,
+      coupling_factor: mis.factor,
+      half_coupling_tilt_rad: mis.halfCouplingTilt_rad,
+      axis_offset_at_M2_m: mis.axisOffsetAtM2_m,
+      axis_tilt_rad: mis.axisSlope_rad,
+      basis: mis.basis,
+    },
     free_running_estimate_W: best,
   };
   return { derived, params };

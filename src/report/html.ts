@@ -18,7 +18,7 @@ export interface PageSpec {
   /** document title (escaped) */
   title: string;
   /** what the page is, for the header line and the `data-report-kind` attribute */
-  kind: 'run' | 'sweep' | 'batch';
+  kind: 'run' | 'sweep' | 'batch' | 'yield' | 'comparison';
   /** main heading (escaped), usually the scenario name */
   heading: string;
   /** one line under the heading (escaped) */

@@ -12,12 +12,15 @@ import { readBatchIndex } from '../results/read';
 import { writeRunReport } from './run-report';
 import { writeSweepReport } from './sweep-report';
 import { SWEEP_FILES } from '../results/files';
+import { YIELD_FILES } from '../results/yield';
+import { writeYieldReport } from './yield-report';
 
-export type ResultFolderKind = 'run' | 'sweep' | 'batch';
+export type ResultFolderKind = 'run' | 'sweep' | 'batch' | 'yield';
 
-/** What a folder holds: summary.json -> run, map.json -> sweep, index.json -> batch; null for none. */
+/** What a folder holds: summary.json -> run, yield.json -> yield, map.json -> sweep, index.json -> batch; null for none. */
 export function detectResultFolder(dir: string): ResultFolderKind | null {
   if (existsSync(join(dir, RUN_FILES.summary))) return 'run';
+  if (existsSync(join(dir, YIELD_FILES.summary))) return 'yield';
   if (existsSync(join(dir, SWEEP_FILES.map))) return 'sweep';
   if (existsSync(join(dir, BATCH_FILES.index))) return 'batch';
   return null;
@@ -55,6 +58,7 @@ export function rebuildReport(dir: string): RebuildResult {
   }
   if (kind === 'run') return { kind, written: [writeRunReport(dir)] };
   if (kind === 'sweep') return { kind, written: [writeSweepReport(dir)] };
+  if (kind === 'yield') return { kind, written: [writeYieldReport(dir)] };
   const index = readBatchIndex(dir);
   const written = [writeBatchIndexHtml(dir, index)];
   for (const e of index) {

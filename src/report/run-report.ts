@@ -13,6 +13,7 @@ import { axis, baseLayout, plotDiv, PlotSpec, renderPage, TRACE_COLOURS } from '
 import { readRunArtifacts } from './read-results';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
 import { scenarioRows } from './scenario-table';
+import { budgetSection, intensityNote } from './budget-section';
 
 /** Interface mismatch above this is highlighted: the same limit the run warns at (results/limits.ts). */
 import { INTERFACE_MISMATCH_LIMIT } from '../results/limits';
@@ -1020,7 +1021,7 @@ function engineSection(s: RunSummary): SafeHtml {
 export function buildRunReportHtml(a: RunArtifacts, generatedAt: Date = new Date()): string {
   const s = a.summary;
   const plots: PlotSpec[] = [];
-  const body = html`${verdict(s)}${comparison(s)}${staticSection(a, plots)}${tracesSection(a.traces, plots)}${rinSection(a.spectra, plots)}${opticalSection(a.spectra, s.drive, plots)}${modesSection(s, plots)}${driveSection(s)}${actuatorSection(s)}${balanceSection(s)}${derivedSection(s)}${scenarioSection(s)}${engineSection(s)}`;
+  const body = html`${intensityNote(s)}${verdict(s)}${comparison(s)}${staticSection(a, plots)}${tracesSection(a.traces, plots)}${rinSection(a.spectra, plots)}${opticalSection(a.spectra, s.drive, plots)}${modesSection(s, plots)}${driveSection(s)}${actuatorSection(s)}${budgetSection(s)}${balanceSection(s)}${derivedSection(s)}${scenarioSection(s)}${engineSection(s)}`;
   const name = typeof s.name === 'string' ? s.name : 'unnamed run';
   const drive = s.drive;
   return renderPage({

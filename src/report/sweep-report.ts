@@ -308,7 +308,7 @@ function orderedMetrics(m: SweepMap): string[] {
   ];
 }
 
-function mapLayout(m: SweepMap, xy: { x: number; y: number }): Record<string, unknown> {
+export function mapLayout(m: SweepMap, xy: { x: number; y: number }): Record<string, unknown> {
   const ax = m.axes[xy.x];
   const ay = m.axes[xy.y];
   return baseLayout({
@@ -329,7 +329,7 @@ function mapLayout(m: SweepMap, xy: { x: number; y: number }): Record<string, un
 }
 
 /** Discrete colour scale for class numbers 0..n-1 (zmin -0.5, zmax n-0.5). */
-function classColorscale(): [number, string][] {
+export function classColorscale(): [number, string][] {
   const n = RUN_CLASSES.length;
   const out: [number, string][] = [];
   RUN_CLASSES.forEach((c, k) => {

@@ -51,6 +51,24 @@ export interface BeamInfo {
   notes: string[];
 }
 
+/** Misalignment of the return mirror and its effect on the coupling (docs/model.md §2.5). */
+export interface AlignmentInfo {
+  tilt_rad: number;
+  decenter_m: number;
+  tilt_per_stroke_rad_m: number;
+  /** eta_fb with M3 aligned (geometry or the scenario's number) */
+  aligned_feedback_efficiency: number;
+  /** eta_fb(misaligned) / eta_fb(aligned); derived.feedback_efficiency includes it */
+  coupling_factor: number;
+  /** tilt of M3 alone that halves the coupling, rad; null when not modelled */
+  half_coupling_tilt_rad: number | null;
+  /** the gap eigenmode's axis at M2 (stable gap), m and rad; null otherwise */
+  axis_offset_at_M2_m: number | null;
+  axis_tilt_rad: number | null;
+  /** 'eigenmode' (stable gap), 'return' (one round trip, no eigenmode) or 'none' (not modelled) */
+  basis: 'eigenmode' | 'return' | 'none';
+}
+
 export interface Derived {
   fsr_laser_Hz: number;
   fsr_external_Hz: number;
@@ -72,6 +90,8 @@ export interface Derived {
   laser_class: 'A' | 'B';
   modes: ModeInfo[];
   beams: BeamInfo;
+  /** absent in summaries written before misalignment was modelled */
+  alignment?: AlignmentInfo;
   free_running_estimate_W: number;
 }
 
@@ -152,6 +172,60 @@ export interface DrivenSummary {
   stopped_by: 'target' | 'budget';
 }
 
+/**
+ * Power budget of the driven run (docs/model.md §6): means over the analysis window of all
+ * rest offsets, W, each with its standard error (`<name>_stderr_W`, batch means).
+ * The sinks are through_rear_mirror, mirror_losses (M1, M2, M3), internal_loss,
+ * unmatched (laser light outside the gap mode), returned_lost (light back through M2
+ * that misses the laser mode), through_return_mirror, gap_element_loss and gap_clipping;
+ * laser_output (net through M2) and gap_one_way are flows, not sinks.
+ * closure_rel = (supply - sum of sinks) / supply (signed): the interface mismatch at M2
+ * (docs/model.md §3.3) plus the change of stored energy over the window.
+ */
+export interface PowerBudget {
+  through_return_mirror_W: number;
+  through_return_mirror_stderr_W: number;
+  gap_element_loss_W: number;
+  gap_element_loss_stderr_W: number;
+  mirror_losses_W: number;
+  mirror_losses_stderr_W: number;
+  through_rear_mirror_W: number;
+  through_rear_mirror_stderr_W: number;
+  laser_output_W: number;
+  laser_output_stderr_W: number;
+  supply_W: number;
+  supply_stderr_W: number;
+  internal_loss_W: number;
+  internal_loss_stderr_W: number;
+  unmatched_W: number;
+  unmatched_stderr_W: number;
+  returned_lost_W: number;
+  returned_lost_stderr_W: number;
+  gap_clipping_W: number;
+  gap_clipping_stderr_W: number;
+  gap_one_way_W: number;
+  gap_one_way_stderr_W: number;
+  sinks_W: number;
+  closure_rel: number;
+  /** batch means the standard errors come from (lanes x batches) */
+  batches: number;
+}
+
+/**
+ * Peak intensities (docs/model.md §6): the full-band peak one-way power times the
+ * standing-wave factor 4 (field antinodes where forward and returning waves add), over
+ * the TEM00 area pi w^2 / 2, W/m^2; null where the beam size is not known.
+ */
+export interface PeakIntensity {
+  gap_waist_W_m2: number | null;
+  return_mirror_W_m2: number | null;
+  output_coupler_W_m2: number | null;
+  /** the one-way powers used: full-band peak gap power and peak laser intracavity power, W */
+  peak_gap_power_W: number;
+  peak_intracavity_W: number;
+  standing_wave_factor: number;
+}
+
 export interface DriveSummary {
   waveform: string;
   amplitude_m: number;
@@ -208,6 +282,10 @@ export interface RunSummary {
     simulated_lane_s_per_s: number;
   };
   warnings: Warning[];
+  /** the driven run's power budget; null without a time-stepped driven run; absent in older summaries */
+  budget?: PowerBudget | null;
+  /** peak intensities at the gap waist and on the mirrors; absent in older summaries */
+  peak_intensity?: PeakIntensity | null;
   /**
    * The drive and actuator requirement sheet of the scenario (actuatorSheet, MODEL.md
    * section 5): voltage, current, resonance margin and every limit checked. Null when the

@@ -15,6 +15,17 @@ export function normaliseScenarioForJson(s: Scenario): Record<string, unknown> {
   return normalise(s, '') as Record<string, unknown>;
 }
 
+/**
+ * Keys added after result files existed, left out of the canonical form while they hold
+ * their default (which changes nothing), so that the hash of an earlier scenario, and with
+ * it `--resume` into its folder, stays the same. Parsing fills the default back in.
+ */
+const OMITTED_AT_DEFAULT: Record<string, number> = {
+  'external.return_mirror.tilt': 0,
+  'external.return_mirror.decenter': 0,
+  'actuator.tilt_per_stroke': 0,
+};
+
 function normalise(v: unknown, where: string): unknown {
   if (typeof v === 'number') {
     if (v === Infinity) return 'flat';
@@ -27,6 +38,8 @@ function normalise(v: unknown, where: string): unknown {
     for (const k of Object.keys(v).sort()) {
       const x = (v as Record<string, unknown>)[k];
       if (x === undefined) continue;
+      const path = where === '' ? k : `${where}.${k}`;
+      if (path in OMITTED_AT_DEFAULT && x === OMITTED_AT_DEFAULT[path]) continue;
       out[k] = normalise(x, where === '' ? k : `${where}.${k}`);
     }
     return out;

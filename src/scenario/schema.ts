@@ -97,24 +97,43 @@ const radius = z
     description: "radius of curvature (> 0 concave towards the cavity) or 'flat'",
   });
 
+const mirrorFields = {
+  reflectivity: bounded(0, 1, { maxOpen: true }).describe('power reflectivity R, 0 <= R < 1'),
+  loss: bounded(0, 1).default(0).describe('power lost in the coating or substrate, A'),
+  transmission: bounded(0, 1).optional().describe('power transmission T; default 1 - R - loss'),
+  radius: radius.default(Infinity).describe("radius of curvature, or 'flat'"),
+};
+
+/** R + T + A <= 1, reported on `loss`. */
+function mirrorSums(
+  m: { reflectivity: number; loss: number; transmission?: number },
+  ctx: z.RefinementCtx,
+): void {
+  const t = m.transmission ?? 1 - m.reflectivity - m.loss;
+  if (m.reflectivity + m.loss + t > 1 + 1e-12 || t < -1e-12) {
+    ctx.addIssue({
+      code: 'custom',
+      path: ['loss'],
+      message: `expected reflectivity + transmission + loss <= 1, found ${m.reflectivity} + ${t.toPrecision(6)} + ${m.loss}`,
+    });
+  }
+}
+
 /** One mirror: power reflectivity R, loss A; transmission T = 1 - R - A unless given. */
-const mirror = z
+const mirror = z.strictObject(mirrorFields).superRefine(mirrorSums);
+
+/** The return mirror: a mirror that may also be tilted and decentred (docs/model.md §2.5). */
+const returnMirror = z
   .strictObject({
-    reflectivity: bounded(0, 1, { maxOpen: true }).describe('power reflectivity R, 0 <= R < 1'),
-    loss: bounded(0, 1).default(0).describe('power lost in the coating or substrate, A'),
-    transmission: bounded(0, 1).optional().describe('power transmission T; default 1 - R - loss'),
-    radius: radius.default(Infinity).describe("radius of curvature, or 'flat'"),
+    ...mirrorFields,
+    tilt: quantity('angle')
+      .default(0)
+      .describe('tilt of M3 from alignment (turns its normal in the plane of the decentre), rad'),
+    decenter: quantity('length')
+      .default(0)
+      .describe('transverse displacement of M3 from the axis, in the plane of the tilt'),
   })
-  .superRefine((m, ctx) => {
-    const t = m.transmission ?? 1 - m.reflectivity - m.loss;
-    if (m.reflectivity + m.loss + t > 1 + 1e-12 || t < -1e-12) {
-      ctx.addIssue({
-        code: 'custom',
-        path: ['loss'],
-        message: `expected reflectivity + transmission + loss <= 1, found ${m.reflectivity} + ${t.toPrecision(6)} + ${m.loss}`,
-      });
-    }
-  });
+  .superRefine(mirrorSums);
 
 const auto = z.literal('auto');
 
@@ -159,7 +178,7 @@ const laser = z.strictObject({
 
 const external = z.strictObject({
   length: quantity('length', positive).describe('M2 to M3 spacing L2 at rest'),
-  return_mirror: mirror,
+  return_mirror: returnMirror,
   gap_transmission: bounded(0, 1, { minOpen: true })
     .default(1)
     .describe('single-pass power transmission of the gap element'),
@@ -212,6 +231,9 @@ const actuator = z.strictObject({
   min_resonance_margin: quantity('dimensionless', positive)
     .default(1.5)
     .describe('required resonance / drive frequency'),
+  tilt_per_stroke: quantity('tilt_per_stroke')
+    .default(0)
+    .describe('tilt the actuator adds to the return mirror per metre of displacement'),
 });
 
 const simulation = z.strictObject({
@@ -286,6 +308,26 @@ const sweep = z.strictObject({
   axes: z.array(axis).min(1, 'expected at least one axis'),
 });
 
+/** One tolerance: a normal spread (standard deviation) or a uniform one (half width), in the key's units. */
+const tolerance = z.union([z.strictObject({ normal: axisValue }), z.strictObject({ uniform: axisValue })], {
+  error:
+    "expected { normal: <standard deviation> } or { uniform: <half width> } in the key's units, e.g. { normal: 20 um }",
+});
+
+/** `dithercav yield`: manufacturing tolerances on scenario keys (docs/model.md §7). */
+const tolerances = z.strictObject({
+  vary: z
+    .record(z.string(), tolerance)
+    .refine((r) => Object.keys(r).length > 0, 'expected at least one key to vary')
+    .describe('key path -> { normal: sd } or { uniform: half width }, in the units of the key'),
+  gap_power_floor: quantity('power', nonNegative)
+    .optional()
+    .describe('yield also counts the draws whose mean gap power is at least this'),
+  seed: integer(0, 2 ** 32 - 1)
+    .optional()
+    .describe('seed of the draws (default simulation.seed)'),
+});
+
 export const scenarioSchema = z.strictObject({
   name: z
     .string({ error: (iss) => `expected a name (text), found ${describeFound(iss.input)}` })
@@ -298,6 +340,7 @@ export const scenarioSchema = z.strictObject({
   simulation: simulation.default(simulation.parse({})),
   analysis: analysis.default(analysis.parse({})),
   sweep: sweep.optional(),
+  tolerances: tolerances.optional().describe('tolerances for `dithercav yield`'),
 });
 
 /** A validated scenario, every quantity in SI. */
@@ -314,6 +357,7 @@ export type SimulationSpec = Scenario['simulation'];
 export type AnalysisSpec = Scenario['analysis'];
 export type SweepSpec = NonNullable<Scenario['sweep']>;
 export type SweepAxisSpec = SweepSpec['axes'][number];
+export type TolerancesSpec = NonNullable<Scenario['tolerances']>;
 
 /**
  * What `simulation.engine` may ask for, read from the schema's own enum, so the commands'

@@ -100,7 +100,8 @@ let numericCache: string[] | null = null;
 /**
  * Every key path of the scenario schema whose value may be a number (SI quantity, plain
  * number, or a number-or-'auto' choice), in schema order: the keys a sweep axis or an
- * override may set. The `sweep` section itself is left out (an axis cannot sweep axes).
+ * override may set. The `sweep` and `tolerances` sections are left out (an axis cannot
+ * sweep axes, nor a tolerance vary tolerances).
  */
 export function numericKeyPaths(): string[] {
   if (numericCache) return numericCache.slice();
@@ -110,7 +111,7 @@ export function numericKeyPaths(): string[] {
     if (objs.length > 0) {
       for (const o of objs)
         for (const [k, child] of Object.entries(defOf(o).shape ?? {})) {
-          if (path.length === 0 && k === 'sweep') continue;
+          if (path.length === 0 && (k === 'sweep' || k === 'tolerances')) continue;
           walk(child, [...path, k]);
         }
       return;
@@ -166,4 +167,26 @@ export function nearestKey(word: string, candidates: readonly string[]): string 
   // Compare the last segment too, so "drive.amplitud" still finds "drive.amplitude".
   const limit = Math.max(2, Math.ceil(Math.max(word.length, best.length) / 3));
   return bestD <= limit ? best : null;
+}
+
+/**
+ * The quantity kind (units) of the numeric value at a key path, from the schema's
+ * metadata ('dimensionless' for plain numbers), or null when the path holds no number.
+ */
+export function quantityKindAt(path: readonly PathSegment[]): string | null {
+  for (const s of schemasAt(path)) {
+    let cur: z.ZodType = s;
+    const stack: z.ZodType[] = [cur];
+    while (stack.length > 0) {
+      cur = stack.pop()!;
+      const meta = z.globalRegistry.get(cur) as Record<string, unknown> | undefined;
+      if (meta && typeof meta[KIND_META] === 'string') return meta[KIND_META] as string;
+      const d = defOf(cur);
+      if (d.type === 'number') return 'dimensionless';
+      if (d.type === 'union' && d.options) stack.push(...d.options);
+      else if (WRAPPERS.has(d.type) && d.innerType) stack.push(d.innerType);
+      else if (d.type === 'pipe' && d.in) stack.push(d.in);
+    }
+  }
+  return null;
 }

@@ -22,6 +22,7 @@ export const QUANTITY_KINDS = {
   stiffness: 'N/m',
   force: 'N',
   angle: 'rad',
+  tilt_per_stroke: 'rad/m',
   dimensionless: '',
 } as const;
 
@@ -45,6 +46,7 @@ const EXAMPLES: Record<QuantityKind, string> = {
   stiffness: "a stiffness such as '5 N/um' or 5e6 (newtons per metre)",
   force: "a force such as '2 N' or 2 (newtons)",
   angle: "an angle such as '90 deg' or 1.5708 (radians)",
+  tilt_per_stroke: "a tilt per stroke such as '10 urad/um' or 10 (radians per metre)",
   dimensionless: 'a plain number',
 };
 

@@ -13,6 +13,8 @@ import { MinMaxDecimator } from '../analysis/decimate';
 import { WelchPsd, RinSpectrum } from '../analysis/spectra';
 import { OpticalSpectrum, OpticalSpectrumResult } from '../analysis/opticalSpectrum';
 import type { TraceSet } from '../results/artifacts';
+import { BudgetAccumulator } from './budget';
+import type { PowerBudget } from '../results/summary';
 
 export interface DrivenOptions {
   dt: number;
@@ -62,6 +64,8 @@ export interface DrivenResult {
   steps: number;
   laneSteps: number;
   failed: string | null;
+  /** power budget over the analysis window (docs/model.md §6); null when no engine stepped */
+  budget?: PowerBudget | null;
 }
 
 /**
@@ -268,8 +272,16 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   const an = new DrivenAnalysis(p, L, o.dt, o.analysedSteps, e.t, o, p.hasExternal);
   const row = an.row;
   const powers = new Float64Array(M);
+  // power budget (docs/model.md §6): the engine's own flows, every step of every lane
+  const budget = new BudgetAccumulator(
+    L,
+    o.analysedSteps,
+    o.driveFrequency_Hz ? o.analysedSteps * o.dt * o.driveFrequency_Hz : null,
+  );
   const onStep = (en: LaneEngine) => {
     for (let l = 0; l < L; l++) {
+      en.powerFlows(l, budget.scratch);
+      budget.push(l, budget.scratch);
       const pi = en.intracavityPower(l);
       let dom = 0;
       let domP = -1;
@@ -321,6 +333,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
     steps: total,
     laneSteps: total * L,
     failed: null,
+    budget: budget.result(),
   };
 }
 

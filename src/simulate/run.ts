@@ -27,6 +27,7 @@ import {
   staticReference,
   StaticResult,
 } from './references';
+import { combineBudgets, peakIntensityOf } from './budget';
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import {
@@ -187,6 +188,12 @@ export function planRun(
   const engine = engines.driven.kind;
   const warnings: Warning[] = [];
   if (engines.driven.warning) warnings.push({ code: 'engine-validity', message: engines.driven.warning });
+  if (engine === 'adiabatic' && params.couplingAt !== null)
+    warnings.push({
+      code: 'tilt-not-followed',
+      message:
+        'the adiabatic path follows the still-mirror curve, which holds the coupling at the rest tilt: actuator.tilt_per_stroke is not followed (docs/model.md §2.5); choose a time-stepping engine',
+    });
   const deprecated = DEPRECATED_ENGINE_NAMES[requested];
   if (deprecated)
     warnings.push({
@@ -278,6 +285,10 @@ export function mergeBatches(batches: DrivenResult[]): DrivenResult {
       mismatch: weighted((b) => b.balance.mismatch),
     },
     fieldRatio: Math.sqrt(weighted((b) => b.fieldRatio ** 2)),
+    budget: combineBudgets(
+      batches.map((b) => b.budget),
+      lanes,
+    ),
     steps: batches.reduce((a, b) => a + b.steps, 0),
     laneSteps: batches.reduce((a, b) => a + b.laneSteps, 0),
     failed: null,
@@ -447,6 +458,17 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     timing: { wall_s: wall, drivenWall_s: Math.max(1e-9, wall - (reused ? 0 : refs.data.wall_s)) },
   });
   const ok = driven && !driven.failed ? driven : null;
+  // power budget and peak intensities (docs/model.md §6)
+  summary.budget = ok ? (ok.budget ?? null) : null;
+  summary.peak_intensity = params.hasExternal
+    ? peakIntensityOf(
+        derived.beams,
+        ok ? Math.max(...ok.offsets.map((o) => o.external.max)) : (summary.static?.external_W.max ?? NaN),
+        ok
+          ? Math.max(...ok.offsets.map((o) => o.intracavity.max))
+          : (summary.static?.intracavity_W?.max ?? free.intracavity_W),
+      )
+    : null;
   const f = driveMoves(s.drive) ? s.drive.frequency : null;
   const spectra: SpectraSet | null = ok
     ? {

@@ -14,6 +14,7 @@ import type { EngineChoice } from '../simulate';
 import { referenceKey } from '../simulate';
 import type { SweepMap } from '../results/map';
 import { expandGrid, gridPoint } from './grid';
+import type { SweepGrid } from './grid';
 import { withOverrides } from '../scenario/validate';
 import { buildSweepMap, withOperatingPoint } from './map';
 import type { PointRecord } from '../results/points';
@@ -45,6 +46,13 @@ export interface SweepOptions {
   executor?: Executor;
   /** stops the sweep: no new points start, finished ones are kept */
   signal?: AbortSignal;
+  /**
+   * The points to run instead of the scenario's sweep grid (e.g. the draws of
+   * `dithercav yield`): their axes for sweep.json and map.json, and each point's axis
+   * values (written to points.ndjson) and scenario. Resume, shards, workers and progress
+   * work as for a grid.
+   */
+  pointSet?: PointSet;
   /** called after each finished point with the points done and to do in this folder */
   onProgress?: (done: number, total: number, rec: PointRecord | null) => void;
   onWarning?: (message: string) => void;
@@ -68,7 +76,16 @@ export interface SweepOutcome {
   map: SweepMap;
 }
 
+/** A list of points that is not a grid (see SweepOptions.pointSet). */
+export interface PointSet {
+  axes: SweepGrid['axes'];
+  total: number;
+  /** the axis values (and any other numbers to keep with the point) and the scenario of point `index` */
+  pointAt(index: number): { axes: Record<string, number>; scenario: Scenario };
+}
+
 /** The scenario with simulation.engine replaced (by `withOverrides`), when an engine is chosen on the command line. */
+
 export function withEngine(s: Scenario, engine: EngineChoice | undefined): Scenario {
   if (engine === undefined || engine === s.simulation.engine) return s;
   return withOverrides(s, { 'simulation.engine': engine });
@@ -80,9 +97,10 @@ export function sweepHeaderFor(
   source: string | null,
   shard: Shard | null,
   engine?: EngineChoice,
+  pointSet?: PointSet,
 ): SweepHeader {
   const s = withEngine(scenario, engine);
-  const grid = expandGrid(s, source);
+  const grid = pointSet ?? expandGrid(s, source);
   return makeHeader({
     name: s.name,
     scenario_sha256: scenarioSha256(s),
@@ -135,8 +153,8 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   const shard = opts.shard ?? null;
   const warn = opts.onWarning ?? (() => undefined);
   const s = withEngine(scenario, opts.engine);
-  const grid = expandGrid(s, source);
-  const header = sweepHeaderFor(scenario, source, shard, opts.engine);
+  const grid = opts.pointSet ?? expandGrid(s, source);
+  const header = sweepHeaderFor(scenario, source, shard, opts.engine, opts.pointSet);
   const dir = opts.outDir;
   writeResultMarker(dir, 'sweep');
   const pointsFile = path.join(dir, SWEEP_FILES.points);
@@ -176,10 +194,12 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   // sweep at once with the point named; group points by the references they share.
   const groups = new Map<string, { index: number; axes: Record<string, number>; scenario: Scenario }[]>();
   for (const index of pending) {
-    const pt = gridPoint(grid, index);
+    const set = opts.pointSet;
+    const given = set ? set.pointAt(index) : null;
+    const pt = given ? { index, axes: given.axes } : gridPoint(grid, index);
     let ps: Scenario;
     try {
-      ps = withOverrides(grid.base, pt.axes);
+      ps = given ? given.scenario : withOverrides((grid as SweepGrid).base, pt.axes);
     } catch (err) {
       if (err instanceof InputError) {
         throw new InputError(

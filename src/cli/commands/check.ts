@@ -8,6 +8,7 @@ import type { CommandContext } from '../main';
 import { loadScenarioFile, LoadedScenario } from '../../scenario/load';
 import { formatProblems } from '../../scenario/errors';
 import type { Derived } from '../../results/summary';
+import { planDraws } from '../../sweep/yield';
 import { deriveAll } from '../../physics/derive';
 import { bold, colourAllowed, formatNumber, formatQuantity, formatTable } from '../format';
 
@@ -123,6 +124,33 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
   ]);
   for (const n of b.notes) out.push(`  note: ${n}`);
 
+  const al = d.alignment;
+  if (s.external && al) {
+    // docs/model.md §2.5
+    const angle = (v: number | null) => (v === null ? 'n/a' : `${formatNumber(v * 1e6)} urad`);
+    section('Alignment of the return mirror', [
+      ['tilt', angle(al.tilt_rad)],
+      ['decentre', q(al.decenter_m, 'm')],
+      [
+        'coupling',
+        formatNumber(d.feedback_efficiency),
+        `aligned ${formatNumber(al.aligned_feedback_efficiency)} x misalignment factor ${formatNumber(al.coupling_factor)}`,
+      ],
+      [
+        'tilt that halves the coupling',
+        angle(al.half_coupling_tilt_rad),
+        al.basis === 'eigenmode'
+          ? 'M3 tilted alone; the gap eigenmode axis moves'
+          : al.basis === 'return'
+            ? 'M3 tilted alone; one round trip (no eigenmode)'
+            : 'not modelled',
+      ],
+      ...(al.tilt_per_stroke_rad_m !== 0
+        ? [['actuator tilt per stroke', `${formatNumber(al.tilt_per_stroke_rad_m)} urad/um`] as string[]]
+        : []),
+    ]);
+  }
+
   out.push('', bold(`Laser modes (${d.modes.length})`, colour));
   out.push(
     formatTable(
@@ -164,6 +192,8 @@ export function registerCheck(program: Command, ctx: CommandContext): void {
     .option('--json', 'print { file, scenario_sha256, derived, warnings } as JSON')
     .action((file: string, opts: { json?: boolean }) => {
       const loaded = loadScenarioFile(file);
+      // the tolerances section's keys and spreads are checked here too (docs/model.md §7)
+      if (loaded.scenario.tolerances) planDraws(loaded.scenario, 1, file);
       const { derived } = deriveAll(loaded.scenario);
       if (opts.json) {
         const body: CheckJson = {

@@ -67,14 +67,14 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
   private readonly kGamma: number;
   private readonly kCross: Float64Array;
   private readonly kInvPsat: number;
-  private readonly kKappa: number;
+  private kKappa: number;
   private readonly kAlpha: number;
   private readonly kPumpF: Float64Array;
   private readonly kInvTauN: number;
   private readonly kClassA: boolean;
   private readonly kSqrtLaw: boolean;
   private readonly kNoiseW: Float64Array;
-  private readonly kCouple: number;
+  private kCouple: number;
   private readonly kR2: number;
   private readonly kReturn: boolean;
   /** 2 / (c dt): delay in samples per metre of external length */
@@ -402,10 +402,19 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     const xh = ext ? this.motion.position(this.t + half) : 0;
     const x1 = ext ? this.motion.position(this.t + dt) : 0;
     const newHead = (this.head + 1) & this.mask;
-    const etaT2 = this.kCouple * this.kCouple;
+    const varying = p.couplingAt !== null;
+    let etaT2 = this.kCouple * this.kCouple;
     for (let l = 0; l < this.L; l++) {
       const off = l * M;
       const e = this.energy[l];
+      if (varying) {
+        // docs/model.md §2.5: the coupling follows the mirror (taken at the step's midpoint)
+        const f = this.couplingFactor(this.offset[l] + xh);
+        this.couplingNow[l] = f;
+        this.kKappa = p.kappa * f;
+        this.kCouple = p.couplingOut * f;
+        etaT2 = this.kCouple * this.kCouple;
+      }
       // returned fields at t + dt/2 and t + dt (b at t is this.br/bi)
       if (ext) {
         this.returned(l, 0.5, this.offset[l] + xh, this.bhr, this.bhi, null);
@@ -564,6 +573,11 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     }
     this.head = newHead;
     this.t += dt;
+  }
+
+  /** |a(t - tau)|^2 of lane-mode j, the forward power b was reflected from. */
+  protected override delayedForward2(j: number): number {
+    return this.aDel2[j];
   }
 
   /** Saturation term sum_k C_mk |E_k|^2 / P_sat of one lane-mode from the stored fields. */

@@ -233,14 +233,23 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
     const xMid = ext ? this.motion.position(this.t + half) : 0;
     const xEnd = ext ? this.motion.position(this.t + h) : 0;
     const g = p.gammaC;
-    const kap = p.kappa;
-    const cpl = p.couplingOut;
+    let kap = p.kappa;
+    let cpl = p.couplingOut;
     const r2 = p.r2;
-    const etaT2 = cpl * cpl;
+    let etaT2 = cpl * cpl;
     const mx = this.mx;
+    const varying = ext && p.couplingAt !== null;
     for (let l = 0; l < this.L; l++) {
       const off = l * M;
       const e = this.energy[l];
+      if (varying) {
+        // docs/model.md §2.5: the coupling follows the mirror (taken at the step's midpoint)
+        const f = this.couplingFactor(this.offset[l] + xMid);
+        this.couplingNow[l] = f;
+        kap = p.kappa * f;
+        cpl = p.couplingOut * f;
+        etaT2 = cpl * cpl;
+      }
       this.inversionStep(l, half);
       if (ext) this.roundTripFactor(this.offset[l] + xMid);
       let gain = 0,

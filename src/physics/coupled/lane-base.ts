@@ -6,6 +6,22 @@
 import type { CoupledParams } from './params';
 import { emptyEnergy } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
+import {
+  coldLossShares,
+  ColdLossShares,
+  FLOW_COUNT,
+  FLOW_GAP_CLIPPING,
+  FLOW_GAP_ELEMENT,
+  FLOW_GAP_ONE_WAY,
+  FLOW_INTERNAL_LOSS,
+  FLOW_LASER_OUTPUT,
+  FLOW_MIRROR_LOSS,
+  FLOW_REAR_THROUGH,
+  FLOW_RETURN_THROUGH,
+  FLOW_RETURNED_LOST,
+  FLOW_SUPPLY,
+  FLOW_UNMATCHED,
+} from './power-flows';
 
 /**
  * cos and sin of the external round-trip phase phi_m = 2 pi frac(2 L2 / lambda_m) +
@@ -92,6 +108,12 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
   readonly noiseWeight: Float64Array;
   private noiseCount = 0;
   protected readonly phases: ModePhases;
+  /**
+   * Amplitude factor on the coupling t2 sqrt(eta_fb) of each lane at its last step
+   * (params.couplingAt at the mirror's position; 1 when the coupling does not vary).
+   */
+  readonly couplingNow: Float64Array;
+  private readonly shares: ColdLossShares;
 
   constructor(
     readonly p: CoupledParams,
@@ -116,6 +138,71 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
     this.noiseWeight = Float64Array.from(p.gainRel, (f) => Math.sqrt(Math.max(0, f)));
     this.phases = new ModePhases(p);
+    this.couplingNow = new Float64Array(lanes).fill(1);
+    this.shares = coldLossShares(p);
+  }
+
+  /** |a_del|^2 of lane-mode j: the forward power the returned field b was reflected from. */
+  protected delayedForward2(j: number): number {
+    return this.ar[j] * this.ar[j] + this.ai[j] * this.ai[j];
+  }
+
+  /** Amplitude factor of the coupling at mirror displacement x (1 when it does not vary). */
+  protected couplingFactor(x: number): number {
+    const law = this.p.couplingAt;
+    return law === null ? 1 : law(x);
+  }
+
+  /** See LaneEngine.powerFlows and power-flows.ts for the slots. */
+  powerFlows(l: number, out: Float64Array): void {
+    const p = this.p;
+    const M = this.M;
+    let e2 = 0;
+    let gain = 0;
+    let a2 = 0;
+    let b2 = 0;
+    let ad2 = 0;
+    let eb = 0;
+    for (let m = 0; m < M; m++) {
+      const j = l * M + m;
+      const v = this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];
+      e2 += v;
+      gain += p.gammaC * this.N[j] * v;
+      if (p.hasExternal) {
+        a2 += this.ar[j] * this.ar[j] + this.ai[j] * this.ai[j];
+        b2 += this.br[j] * this.br[j] + this.bi[j] * this.bi[j];
+        eb += this.Er[j] * this.br[j] + this.Ei[j] * this.bi[j];
+        ad2 += this.delayedForward2(j);
+      }
+    }
+    for (let k = 0; k < FLOW_COUNT; k++) out[k] = 0;
+    const tauL = p.roundTripLaser_s;
+    const cold = p.gammaC * tauL * e2;
+    const out2 = p.T2 * e2;
+    const rest = cold - out2;
+    out[FLOW_SUPPLY] = tauL * gain;
+    out[FLOW_REAR_THROUGH] = this.shares.rearThrough * rest;
+    out[FLOW_MIRROR_LOSS] = this.shares.mirrorLoss * rest;
+    out[FLOW_INTERNAL_LOSS] = this.shares.internal * rest;
+    if (!p.hasExternal) {
+      out[FLOW_LASER_OUTPUT] = out2;
+      return;
+    }
+    const f = this.couplingNow[l];
+    const eta = p.feedbackEfficiency * f * f;
+    const Tg = p.gapTransmission;
+    out[FLOW_UNMATCHED] = (1 - eta) * out2;
+    // the laser ignoring its feedback: the ideal isolator takes all the change of the light
+    // M2 sends back, interference with the laser's own reflection included
+    out[FLOW_RETURNED_LOST] = p.returnToLaser
+      ? (1 - eta) * p.T2 * b2
+      : p.T2 * b2 + 2 * p.r2 * p.t2 * f * Math.sqrt(p.feedbackEfficiency) * eb;
+    out[FLOW_MIRROR_LOSS] += p.A2 * b2 + p.A3 * Tg * ad2;
+    out[FLOW_RETURN_THROUGH] = p.T3 * Tg * ad2;
+    out[FLOW_GAP_ELEMENT] = (1 - Tg) * (1 + p.R3 * Tg) * ad2;
+    out[FLOW_GAP_CLIPPING] = (1 - p.roundtripEfficiency) * p.R3 * Tg * Tg * ad2;
+    out[FLOW_LASER_OUTPUT] = (1 - eta) * out2 + a2 - b2;
+    out[FLOW_GAP_ONE_WAY] = a2;
   }
 
   abstract externalEnergy(l: number): number;

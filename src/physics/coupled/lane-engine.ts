@@ -92,6 +92,12 @@ export interface LaneEngine {
   /** net power leaving through M2 on the outside of lane l, W */
   laserOutput(l: number): number;
   advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean;
+  /**
+   * Instantaneous power flows of lane l at the present state, W, summed over modes, into
+   * out[0 .. FLOW_COUNT - 1]; the slots and their exact meaning are defined once in
+   * power-flows.ts (docs/model.md §6). Allocates nothing.
+   */
+  powerFlows(l: number, out: Float64Array): void;
 }
 
 /**

@@ -73,6 +73,15 @@ export interface CoupledParams {
   internalLoss: number;
   /** the gain line as the scenario gives it (the round-trip engine builds its packets from it) */
   gain: GainSpec;
+  /**
+   * The coupling law of docs/model.md §2.5: amplitude factor on couplingOut and kappa at
+   * mirror displacement x from rest (m; the lane's rest offset plus the drive), relative to
+   * feedbackEfficiency, when an actuator tilts the return mirror as it moves
+   * (actuator.tilt_per_stroke); null when the coupling does not depend on the position.
+   * Every time-domain engine applies it at the step's mirror position; the power flows use
+   * eta_fb factor(x)^2 as the instantaneous feedback efficiency.
+   */
+  couplingAt: ((x_m: number) => number) | null;
 }
 
 /**
@@ -81,7 +90,7 @@ export interface CoupledParams {
  */
 export function buildCoupledParams(
   s: Scenario,
-  efficiencies: { feedback: number; roundtrip: number },
+  efficiencies: { feedback: number; roundtrip: number; couplingAt?: ((x_m: number) => number) | null },
 ): CoupledParams {
   const c = SPEED_OF_LIGHT_m_s;
   const L = s.laser;
@@ -150,5 +159,6 @@ export function buildCoupledParams(
     phasePerMetre,
     internalLoss: L.internal_loss,
     gain: L.gain,
+    couplingAt: hasExternal ? (efficiencies.couplingAt ?? null) : null,
   };
 }

@@ -38,6 +38,20 @@ import type { CoupledParams } from './params';
 import { emptyEnergy } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 import { chooseRoundTripStep, RoundTripStep } from './roundtrip-step';
+import {
+  FLOW_COUNT,
+  FLOW_GAP_CLIPPING,
+  FLOW_GAP_ELEMENT,
+  FLOW_GAP_ONE_WAY,
+  FLOW_INTERNAL_LOSS,
+  FLOW_LASER_OUTPUT,
+  FLOW_MIRROR_LOSS,
+  FLOW_REAR_THROUGH,
+  FLOW_RETURN_THROUGH,
+  FLOW_RETURNED_LOST,
+  FLOW_SUPPLY,
+  FLOW_UNMATCHED,
+} from './power-flows';
 
 const FLUSH = 1e-150;
 const ACC_GAIN = 0;
@@ -76,6 +90,11 @@ export class RoundTripEngine implements LaneEngine {
   readonly bank: PacketBank;
   /** gain sheets per round trip */
   readonly sheets: number;
+  /**
+   * powers of the last step per lane (W), for the power budget: |e|^2, |u|^2, |v|^2,
+   * |v_old|^2, |a|^2, |b|^2, |a_del|^2 and the coupling factor (docs/model.md §6)
+   */
+  private readonly last: Float64Array;
   /** worst relative error of the M2 scattering identity seen per lane since the last reset */
   readonly m2Closure: Float64Array;
 
@@ -179,6 +198,7 @@ export class RoundTripEngine implements LaneEngine {
     this.acc = new Float64Array(lanes * ACC);
     this.start = new Float64Array(lanes * 2);
     this.m2Closure = new Float64Array(lanes);
+    this.last = new Float64Array(lanes * 8);
     this.laser = new ComplexDelayLines(lanes, 2 * this.NL);
     if (p.hasExternal) {
       const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / c / dt;
@@ -555,6 +575,52 @@ export class RoundTripEngine implements LaneEngine {
     return (1 - p.feedbackEfficiency) * p.T2 * e2 + (this.sumA[l] - this.sumB[l]) / this.NL;
   }
 
+  /**
+   * Power flows of the last step of lane l into the slots of power-flows.ts: the exact M2
+   * splits what arrives (|e|^2 inside, |b|^2 outside) into what leaves (|u|^2, |a|^2), its
+   * loss A2 and the light outside the coupled modes; the laser's round trip loses
+   * (1 - R1 (1 - l)^2) |v_old|^2, shared as M1's transmission and loss and the two passes'
+   * internal loss; the gap loses (1 - r3'^2) |a_del|^2 at M3, in its element and per round
+   * trip. Supply is the gain's work |v|^2 - |u|^2. These close exactly but for the change of
+   * stored light (docs/model.md §6).
+   */
+  powerFlows(l: number, out: Float64Array): void {
+    const p = this.p;
+    const lb = 8 * l;
+    const e2 = this.last[lb];
+    const u2 = this.last[lb + 1];
+    const v2 = this.last[lb + 2];
+    const vOld2 = this.last[lb + 3];
+    const a2 = this.last[lb + 4];
+    const b2 = this.last[lb + 5];
+    const ad2 = this.last[lb + 6];
+    const fc = this.last[lb + 7];
+    for (let k = 0; k < FLOW_COUNT; k++) out[k] = 0;
+    const li = p.internalLoss;
+    out[FLOW_SUPPLY] = v2 - u2;
+    out[FLOW_REAR_THROUGH] = p.T1 * (1 - li) * vOld2;
+    out[FLOW_MIRROR_LOSS] = p.A1 * (1 - li) * vOld2 + p.A2 * (e2 + b2);
+    out[FLOW_INTERNAL_LOSS] = li * (1 + p.R1 * (1 - li)) * vOld2;
+    if (!p.hasExternal) {
+      // M2 alone: u = r2 e, the rest leaves as output (T2) or loss (A2)
+      out[FLOW_LASER_OUTPUT] = p.T2 * e2;
+      out[FLOW_UNMATCHED] = p.T2 * e2;
+      return;
+    }
+    const eta = p.feedbackEfficiency * fc * fc;
+    const Tg = p.gapTransmission;
+    out[FLOW_UNMATCHED] = (1 - eta) * p.T2 * e2;
+    // the rest of what arrives at M2: light from the gap that misses the laser mode (and,
+    // when the laser ignores its feedback, what the ideal isolator takes)
+    out[FLOW_RETURNED_LOST] = e2 + b2 - u2 - a2 - p.A2 * (e2 + b2) - (1 - eta) * p.T2 * e2;
+    out[FLOW_MIRROR_LOSS] += p.A3 * Tg * ad2;
+    out[FLOW_RETURN_THROUGH] = p.T3 * Tg * ad2;
+    out[FLOW_GAP_ELEMENT] = (1 - Tg) * (1 + p.R3 * Tg) * ad2;
+    out[FLOW_GAP_CLIPPING] = (1 - p.roundtripEfficiency) * p.R3 * Tg * Tg * ad2;
+    out[FLOW_LASER_OUTPUT] = (1 - eta) * p.T2 * e2 + a2 - b2;
+    out[FLOW_GAP_ONE_WAY] = a2;
+  }
+
   advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
     for (let s = 0; s < steps; s++) {
       this.stepOnce();
@@ -592,7 +658,8 @@ export class RoundTripEngine implements LaneEngine {
     const hc = this.halfChi0;
     const eh = this.expHalfChi0;
     const r2 = p.r2;
-    const cpl = p.couplingOut;
+    const cpl0 = p.couplingOut;
+    const law = p.couplingAt;
     const back = p.returnToLaser;
     const r3 = p.r3eff;
     const rho1 = this.rho1;
@@ -631,8 +698,7 @@ export class RoundTripEngine implements LaneEngine {
     }
     this.stepCount++;
     if ((this.stepCount & 1023) === 0) this.resyncPhasors(t1);
-    const etaT2 = cpl * cpl;
-    const Rsum = p.R2 + etaT2;
+
     for (let l = 0; l < L; l++) {
       const ea = l * ACC;
       const acc = this.acc;
@@ -692,7 +758,9 @@ export class RoundTripEngine implements LaneEngine {
         acc[ea + ACC_NOISE] += (eR * eR + eI * eI - before) * dt;
       }
       const e2 = eR * eR + eI * eI;
-      // ---- M2, the exact lossy beam splitter
+      // ---- M2, the exact lossy beam splitter (the coupling follows an actuator's tilt, §2.5)
+      const fc = law === null ? 1 : law(this.offset[l] + x);
+      const cpl = cpl0 * fc;
       let uR = r2 * eR;
       let uI = r2 * eI;
       if (back) {
@@ -709,6 +777,7 @@ export class RoundTripEngine implements LaneEngine {
       const a2 = aR * aR + aI * aI;
       const b2 = bR * bR + bI * bI;
       if (ext && back) {
+        const Rsum = p.R2 + cpl * cpl;
         const lhs = u2 + a2;
         const rhs = Rsum * (e2 + b2);
         const errM2 = rhs > 0 ? Math.abs(lhs - rhs) / rhs : 0;
@@ -815,6 +884,15 @@ export class RoundTripEngine implements LaneEngine {
         acc[ea + ACC_EXT_SCALE] += a2 * dt;
       }
       this.sumV[l] += v2 - vOld2;
+      const lb = 8 * l;
+      this.last[lb] = e2;
+      this.last[lb + 1] = u2;
+      this.last[lb + 2] = v2;
+      this.last[lb + 3] = vOld2;
+      this.last[lb + 4] = a2;
+      this.last[lb + 5] = b2;
+      this.last[lb + 6] = aDel2;
+      this.last[lb + 7] = fc;
       // ---- windows over the last round trip
       const j = l * NL + slot;
       const eOldR = this.eRe[j];
