@@ -19,6 +19,7 @@ import { parse as parseYaml } from 'yaml';
 import type { Executor } from './pool';
 import { createExecutor, ExecutorStopped } from './pool';
 import { runSweep, withEngine } from './run-sweep';
+import { computedOnly } from './map';
 import type { SweepOutcome } from './run-sweep';
 import type { PointRecord } from './persist';
 
@@ -170,7 +171,8 @@ function fillFromRun(e: BatchEntry, s: RunSummary): void {
  * else at the finished point with the highest gain over static.
  */
 function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
-  const m = out.map;
+  // computed points only: an inferred point of a refined map is never quoted as a result
+  const m = computedOnly(out.map);
   const classes: Record<string, number> = {};
   for (const c of m.classes) if (c) classes[c] = (classes[c] ?? 0) + 1;
   e.points = { finished: out.finished, failed: out.failed, total: out.planned, classes };

@@ -11,6 +11,7 @@ import { scenarioSchema } from '../scenario/schema';
 import type { Scenario } from '../scenario/schema';
 import type { SweepMap } from '../results/map';
 import { buildSweepMap, withOperatingPoint } from './map';
+import type { RefineSettings } from './refine';
 import type { PointRecord, SweepHeader } from './persist';
 import {
   describeDropped,
@@ -33,7 +34,7 @@ export interface MergeOutcome {
   header: SweepHeader;
   records: PointRecord[];
   map: SweepMap;
-  /** grid points no shard holds */
+  /** grid points no shard holds and the refinement does not infer */
   missing: number;
   /** points found in more than one shard (identical, so kept once) */
   duplicates: number;
@@ -55,7 +56,8 @@ export function defaultMergeDir(firstDir: string, name: string): string {
  * different scenarios (scenario hashes differ; the message lists each folder's name and
  * hash), when the output folder is one of the inputs, or when one point index has
  * different results in two shards. Torn last lines are dropped with a warning.
- * Missing points (a shard not given) are allowed: the map holds null there.
+ * Missing points (a shard not given) are allowed: the map holds null there. Shards of a
+ * refined sweep give the map of the unsharded refined sweep (src/sweep/refine.ts).
  */
 export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): MergeOutcome {
   const warn = opts.onWarning ?? (() => undefined);
@@ -134,6 +136,16 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
       `the scenario stored in ${path.join(dirs[0], SWEEP_FILES.header)} no longer validates; the map is drawn without its thresholds`,
     );
 
+  // A refined sweep's shards each refine their own coarse cells; the merged map infers with
+  // the same settings over the whole grid. Shards of mixed settings are merged without inference.
+  const refines = headers.map((h) => JSON.stringify(h.refine ?? null));
+  let refine: RefineSettings | null = null;
+  if (refines.every((r) => r === refines[0])) refine = headers[0].refine ?? null;
+  else
+    warn(
+      'the shards were planned with different refinement settings (or some with --full); the merged map infers no point',
+    );
+
   fs.mkdirSync(outDir, { recursive: true });
   const header = makeHeader({
     name: first.name,
@@ -143,6 +155,7 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
     axes: first.axes,
     total_points: first.total_points,
     shard: null,
+    refine,
   });
   const tmp = path.join(outDir, `${SWEEP_FILES.points}.tmp-${process.pid}`);
   fs.writeFileSync(tmp, records.map(formatPointLine).join(''));
@@ -155,9 +168,17 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
       axes: first.axes,
       records,
       scenario,
+      refine,
     }),
     scenario,
   );
   fs.writeFileSync(path.join(outDir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
-  return { dir: outDir, header, records, map, missing: first.total_points - records.length, duplicates };
+  return {
+    dir: outDir,
+    header,
+    records,
+    map,
+    missing: first.total_points - records.length - (map.inferred_points ?? 0),
+    duplicates,
+  };
 }

@@ -20,6 +20,7 @@ import { RESULT_VERSION } from '../results/summary';
 import type { MapAxis } from '../results/map';
 import { InputError } from '../scenario/errors';
 import { TOOL_VERSION } from '../version';
+import type { RefineSettings } from './refine';
 
 /** File names inside a sweep folder. */
 export const SWEEP_FILES = {
@@ -254,6 +255,11 @@ export interface SweepHeader {
   total_points: number;
   /** this folder's share of the grid, or null for the whole grid */
   shard: { index: number; count: number } | null;
+  /**
+   * the refinement the points were planned with (src/sweep/refine.ts), or null when every
+   * point is computed (--full); absent in folders written before refinement (full)
+   */
+  refine?: RefineSettings | null;
   created: string;
 }
 

@@ -1,9 +1,12 @@
 /**
- * One sweep into one folder: expand the grid, skip what is already there (--resume),
- * group the points by reference key (each thread computes a key's references once and
- * reuses them), run the points on the executor,
- * append each finished point to points.ndjson, and write map.json at the end (also when
- * stopped early, over the points finished so far).
+ * One sweep into one folder: expand the grid, skip what is already there (--resume), run
+ * the points on the executor, append each finished point to points.ndjson, and write
+ * map.json at the end (also when stopped early, over the points finished so far).
+ *
+ * By default the map refines (src/sweep/refine.ts): the coarse grid first, then the points
+ * the refinement plan asks for as results come in, then the inferred neighbours of the
+ * operating point; `full` runs every point. Ready points go out grouped by reference key
+ * (each thread computes a key's references once and reuses them), the longest first.
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
@@ -15,7 +18,9 @@ import { referenceKey } from '../simulate';
 import type { SweepMap } from '../results/map';
 import { expandGrid, gridPoint } from './grid';
 import { withOverrides } from '../scenario/validate';
-import { buildSweepMap, withOperatingPoint } from './map';
+import { buildSweepMap, operatingPointNeeds, refinePointOf, withOperatingPoint } from './map';
+import type { RefinePlan, RefinePoint, RefineSettings } from './refine';
+import { defaultRefineSettings, ownedIndices, planRefinement } from './refine';
 import type { PointRecord, SweepHeader } from './persist';
 import {
   assertSameSweep,
@@ -30,6 +35,7 @@ import {
   writeHeader,
 } from './persist';
 import type { Executor } from './pool';
+import { reachableMask } from '../analysis/operating-point';
 import { createExecutor, ExecutorStopped } from './pool';
 import type { Shard } from './shard';
 import { shardIndices } from './shard';
@@ -53,14 +59,51 @@ export interface SweepOptions {
   /** stops the sweep: no new points start, finished ones are kept */
   signal?: AbortSignal;
   /** called after each finished point with the points done and to do in this folder */
-  onProgress?: (done: number, total: number, rec: PointRecord | null) => void;
+  onProgress?: (done: number, total: number, rec: PointRecord | null, bound?: ProgressBound) => void;
   onWarning?: (message: string) => void;
+  /** compute every point of the grid (no refinement) */
+  full?: boolean;
+  /** refinement settings (default: defaultRefineSettings of the scenario's thresholds); ignored with `full` */
+  refine?: RefineSettings;
+}
+
+/**
+ * How far a refining sweep may still grow: `total` in onProgress counts the points planned
+ * so far (done + needed now); `upper` the most it can come to (cells still undecided may
+ * split down to every point). For a full grid both equal the points to run.
+ */
+export interface ProgressBound {
+  upper: number;
+  refining: boolean;
+}
+
+interface QueuedPoint {
+  index: number;
+  axes: Record<string, number>;
+  scenario: Scenario;
+  key: string;
+  /** relative cost estimate: the simulated time grows as 1 / drive frequency */
+  cost: number;
+}
+
+function noop(): void {}
+
+/**
+ * A point's relative cost, to start the longest first: the analysed periods over the drive
+ * frequency (the stepped time, docs/model.md §3.6: the cost grows as 1/f) times the rest
+ * offsets. Only the order depends on it.
+ */
+export function pointCost(s: Scenario): number {
+  const f = s.drive.frequency;
+  const periods = s.simulation.periods;
+  const offsets = s.simulation.drive_offsets;
+  return f > 0 ? (periods * offsets) / f : 0;
 }
 
 export interface SweepOutcome {
   dir: string;
   header: SweepHeader;
-  /** points this folder is to hold (the shard's share of the grid) */
+  /** points this folder is to compute (the shard's share of the grid; refined: what the plan asked for) */
   planned: number;
   /** points present at the end (resumed + new) */
   finished: number;
@@ -68,6 +111,8 @@ export interface SweepOutcome {
   failed: number;
   /** points kept from an earlier run (--resume) */
   resumed: number;
+  /** points inferred by the refinement, not run */
+  inferred: number;
   /** true when stopped by the signal before every point finished */
   interrupted: boolean;
   map: SweepMap;
@@ -166,18 +211,26 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
       `${dir}: the earlier points were moved to ${SWEEP_FILES.points}.previous (use --resume to continue a sweep)`,
     );
   }
-  writeHeader(dir, existing && opts.resume ? { ...header, created: existing.created } : header);
+  const refineSettings = opts.full ? null : (opts.refine ?? defaultRefineSettings(s.analysis));
+  const fullHeader: SweepHeader = { ...header, refine: refineSettings };
+  writeHeader(dir, existing && opts.resume ? { ...fullHeader, created: existing.created } : fullHeader);
 
-  const planned = shardIndices(grid.total, shard);
-  const done = new Set(kept.map((r) => r.index));
-  const pending = planned.filter((i) => done.has(i) === false);
-  const plannedSet = new Set(planned);
+  const refine = refineSettings;
+  // the points this folder may come to hold: the shard's share of the grid, or (refined) the
+  // points of the coarse cells the shard owns
+  const region = refine ? ownedIndices(grid.axes, refine, shard) : shardIndices(grid.total, shard);
+  const regionSet = new Set(region);
   const records: PointRecord[] = kept.slice();
+  const known = new Map<number, RefinePoint>();
+  for (const r of kept) known.set(r.index, refinePointOf(r));
+  const dispatched = new Set<number>(kept.map((r) => r.index));
 
-  // Build and validate every pending point before starting any, so bad input stops the
-  // sweep at once with the point named; group points by the references they share.
-  const groups = new Map<string, { index: number; axes: Record<string, number>; scenario: Scenario }[]>();
-  for (const index of pending) {
+  // Build and validate every point the sweep may run before starting any, so bad input stops
+  // the sweep at once with the point named; note each point's reference key.
+  const built = new Map<number, QueuedPoint>();
+  const keyOrder = new Map<string, number>();
+  for (const index of region) {
+    if (dispatched.has(index)) continue;
     const pt = gridPoint(grid, index);
     let ps: Scenario;
     try {
@@ -195,10 +248,61 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
       throw err;
     }
     const key = referenceKey(ps);
-    let g = groups.get(key);
-    if (!g) groups.set(key, (g = []));
-    g.push({ index, axes: pt.axes, scenario: ps });
+    if (!keyOrder.has(key)) keyOrder.set(key, keyOrder.size);
+    built.set(index, { index, axes: pt.axes, scenario: ps, key, cost: pointCost(ps) });
   }
+
+  // What is to run next: every pending point (full grid), or what the refinement plan needs
+  // now given the points known so far (it grows as points finish).
+  let plan: RefinePlan | null = null;
+  // the actuator's reach does not depend on results: found once
+  let reachable: boolean[] | null | undefined;
+  const queue: QueuedPoint[] = [];
+  const currentMap = () =>
+    buildSweepMap({
+      name: header.name,
+      scenario_sha256: header.scenario_sha256,
+      axes: header.axes,
+      records,
+      scenario: s,
+      refine,
+      shard,
+    });
+  const refill = () => {
+    let next: number[];
+    if (refine) {
+      plan = planRefinement(grid.axes, known, refine, shard);
+      next = plan.need;
+      // refinement done: make sure the operating point and its margin are computed points
+      if (next.length === 0) {
+        const m = currentMap();
+        if (reachable === undefined) reachable = reachableMask(m, s);
+        next = operatingPointNeeds(m, s, reachable);
+      }
+    } else next = region;
+    let added = false;
+    for (const i of next) {
+      if (dispatched.has(i)) continue;
+      const q = built.get(i);
+      if (!q) continue;
+      dispatched.add(i);
+      queue.push(q);
+      added = true;
+    }
+    // one reference key after another (each thread keeps meeting the key it has cached),
+    // and within a key the longest points first, so no long point is left to run alone at the end
+    if (added) queue.sort((a, b) => keyOrder.get(a.key)! - keyOrder.get(b.key)! || b.cost - a.cost);
+  };
+  const progressCounts = (): [number, number, ProgressBound] => {
+    if (!refine || plan === null) {
+      const done = records.filter((r) => regionSet.has(r.index)).length;
+      return [done, region.length, { upper: region.length, refining: false }];
+    }
+    const p = plan as RefinePlan;
+    const done = records.filter((r) => regionSet.has(r.index)).length;
+    const pending = Math.max(p.need.filter((i) => !known.has(i)).length, queue.length + inFlight.size);
+    return [done, done + pending, { upper: Math.max(done + pending, p.upper_bound), refining: true }];
+  };
 
   const ownExecutor = !opts.executor;
   const jobs = Math.max(1, opts.jobs ?? 1);
@@ -212,49 +316,65 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     if (ownExecutor) void exec.destroy();
   };
   opts.signal?.addEventListener('abort', onAbort);
-  opts.onProgress?.(records.length, planned.length, null);
+  refill();
+  {
+    const [d, t, b] = progressCounts();
+    opts.onProgress?.(d, t, null, b);
+  }
 
   const track = <T>(p: Promise<T>): Promise<T> => {
     inFlight.add(p);
     void p.finally(() => inFlight.delete(p)).catch(() => undefined);
     return p;
   };
+  let dirty = false;
+  const finish = (rec: PointRecord) => {
+    writer.write(rec);
+    records.push(rec);
+    known.set(rec.index, refinePointOf(rec));
+    dirty = true;
+    const [d, t, b] = progressCounts();
+    opts.onProgress?.(d, t, rec, b);
+  };
 
   try {
-    // Groups go out one after another, so each thread keeps meeting the key it has cached.
-    outer: for (const [key, group] of groups) {
-      for (const p of group) {
-        await slots.acquire();
-        if (stopped) {
-          slots.release();
-          break outer;
-        }
-        const task = track(
-          exec.run({ type: 'point', index: p.index, axes: p.axes, scenario: p.scenario, referenceKey: key }),
-        );
-        task
-          .then(
-            (rec) => {
-              writer.write(rec);
-              records.push(rec);
-              opts.onProgress?.(records.length, planned.length, rec);
-            },
-            (err: unknown) => {
-              if (stopped || err instanceof ExecutorStopped) return;
-              // The thread itself failed (out of memory, a crash): record it like a failed run.
-              const rec: PointRecord = {
-                index: p.index,
-                axes: p.axes,
-                summary: failedPointSummary(`worker failed: ${errorText(err)}`),
-                wall_s: 0,
-              };
-              writer.write(rec);
-              records.push(rec);
-              opts.onProgress?.(records.length, planned.length, rec);
-            },
-          )
-          .finally(() => slots.release());
+    for (;;) {
+      if (stopped) break;
+      // re-plan when the queue runs low (planning a large grid after every point would cost more than it saves)
+      if (dirty && (!refine || queue.length <= exec.threads)) {
+        refill();
+        dirty = false;
       }
+      if (queue.length === 0) {
+        if (inFlight.size === 0) break;
+        await Promise.race([...inFlight].map((p) => p.then(noop, noop)));
+        continue;
+      }
+      await slots.acquire();
+      if (stopped) {
+        slots.release();
+        break;
+      }
+      const p = queue.shift();
+      if (!p) {
+        slots.release();
+        continue;
+      }
+      const task = track(
+        exec.run({ type: 'point', index: p.index, axes: p.axes, scenario: p.scenario, referenceKey: p.key }),
+      );
+      task
+        .then(finish, (err: unknown) => {
+          if (stopped || err instanceof ExecutorStopped) return;
+          // The thread itself failed (out of memory, a crash): record it like a failed run.
+          finish({
+            index: p.index,
+            axes: p.axes,
+            summary: failedPointSummary(`worker failed: ${errorText(err)}`),
+            wall_s: 0,
+          });
+        })
+        .finally(() => slots.release());
     }
     while (inFlight.size > 0) await Promise.allSettled([...inFlight]);
   } finally {
@@ -262,6 +382,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     writer.close();
     if (ownExecutor) await exec.destroy();
   }
+  if (refine) plan = planRefinement(grid.axes, known, refine, shard);
 
   records.sort((a, b) => a.index - b.index);
   const map = withOperatingPoint(
@@ -271,19 +392,28 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
       axes: header.axes,
       records,
       scenario: s,
+      refine,
+      shard,
     }),
     s,
   );
   fs.writeFileSync(path.join(dir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
-  const finishedHere = records.filter((r) => plannedSet.has(r.index)).length;
+  const finishedHere = records.filter((r) => regionSet.has(r.index)).length;
+  const finalPlan = plan as RefinePlan | null;
+  const opPending =
+    refine && finalPlan && finalPlan.need.length === 0
+      ? operatingPointNeeds(map, s).filter((i) => built.has(i)).length
+      : 0;
+  const plannedCount = refine && finalPlan ? finishedHere + finalPlan.need.length + opPending : region.length;
   return {
     dir,
-    header,
-    planned: planned.length,
+    header: fullHeader,
+    planned: plannedCount,
     finished: records.length,
     failed: records.filter((r) => r.summary.class === 'numerical-failure').length,
     resumed: kept.length,
-    interrupted: finishedHere < planned.length,
+    inferred: map.inferred_points ?? 0,
+    interrupted: finishedHere < plannedCount,
     map,
   };
 }
