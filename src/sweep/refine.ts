@@ -1,5 +1,5 @@
 /**
- * Maps that refine where the answer changes (docs/model.md §4, the stability map): a sweep
+ * Maps that refine where the answer changes (docs/model.md §9, maps that refine): a sweep
  * first computes a coarse grid, then subdivides a cell of it only where its corner points
  * differ in class, or by more than a set margin in the compared metrics, down to the grid's
  * own resolution. Grid points inside a cell whose corners all agree are not run: they are
