@@ -29,6 +29,7 @@ import { gridIndices } from '../src/sweep/grid';
 import type { SweepMap } from '../src/results/map';
 import { isComputedPoint } from '../src/results/map';
 import { bestPoints, buildSweepReportHtml } from '../src/report/sweep-report';
+import { etaText, formatProgressLine } from '../src/cli/progress';
 
 const ROOT = path.resolve(__dirname, '..');
 const N = 24;
@@ -171,6 +172,18 @@ describe('refinement planning', () => {
     // 10 % apart but each point's error is 5 %: 0.2 < 2 sqrt 2 x 0.055 x 2.2, within the noise
     expect(cornersAgree([p('decoupled', 2.0, 0.05), p('decoupled', 2.2, 0.05)], s)).toBe(true);
     expect(cornersAgree([p('decoupled', 2.0, null), p('modulated', 2.0, null)], s)).toBe(false);
+    // failed corners never agree: a failure says nothing of its neighbours
+    expect(cornersAgree([p('numerical-failure', 2.0, null), p('numerical-failure', 2.0, null)], s)).toBe(
+      false,
+    );
+  });
+
+  it('progress of a growing plan: planned so far, the most it can grow to, and the ETA as a range', () => {
+    // 28 points left at 2 points/s is 14 s; 298 left at most is 149 s = 2m29s
+    expect(formatProgressLine('sweep m', 12, 40, 2, 'points', 310)).toBe(
+      'sweep m: 12/40 points planned so far (at most 310), 2 points/s, ETA 14s to 2m29s',
+    );
+    expect(etaText(12, 40, 2)).toBe('14s');
   });
 });
 

@@ -211,7 +211,7 @@ export function buildSweepMap(input: MapInput): SweepMap {
     r ? (r.summary.class_reason ?? r.summary.message) : null,
   );
   const finished = byIndex.filter((r) => r !== undefined).length;
-  const failed = classes.filter((c) => c === 'numerical-failure').length;
+  const failed = byIndex.filter((r) => r !== undefined && r.summary.class === 'numerical-failure').length;
   const hopLimit = input.scenario?.analysis.max_hops_per_period ?? 0;
   const point_source: ('computed' | 'inferred' | null)[] = Array.from(byIndex, (r) =>
     r ? 'computed' : null,

@@ -154,7 +154,7 @@ function cornerIndices(lo: readonly number[], hi: readonly number[], st: readonl
 }
 
 /**
- * True when the corner points of a cell agree: one class, and for each compared metric
+ * True when the corner points of a cell agree: one class (not 'numerical-failure'), and for each compared metric
  * either all null or all finite with max - min at most margin x max(floor, max |v|) or
  * within noise_factor standard errors (for power-like metrics with a stated error).
  */
@@ -162,6 +162,8 @@ export function cornersAgree(points: readonly RefinePoint[], settings: RefineSet
   if (points.length <= 1) return true;
   const cls = points[0].class;
   if (points.some((p) => p.class !== cls)) return false;
+  // a failed point says nothing of its neighbours: a cell with one is always split
+  if (cls === 'numerical-failure') return false;
   for (const m of settings.metrics) {
     const vals = points.map((p) => p.metrics[m.name] ?? null);
     const finite = vals.filter((v): v is number => v !== null && Number.isFinite(v));
