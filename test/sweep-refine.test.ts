@@ -30,6 +30,8 @@ import type { SweepMap } from '../src/results/map';
 import { isComputedPoint } from '../src/results/map';
 import { bestPoints, buildSweepReportHtml } from '../src/report/sweep-report';
 import { etaText, formatProgressLine } from '../src/cli/progress';
+import { combinedZ, directScenario, spreadIndices } from '../src/bench/map-refined';
+import { drivenStderr } from '../src/sweep/map';
 
 const ROOT = path.resolve(__dirname, '..');
 const N = 24;
@@ -382,5 +384,40 @@ describe('resume and shards with refinement', () => {
     expect(plan.complete).toBe(true);
     expect(plan.need).toEqual([]);
     expect(plan.upper_bound).toBe(read.records.length);
+  });
+});
+
+describe('the pieces of the map benchmark', () => {
+  it('z is the difference over the combined standard error: |1.0 - 1.1| / hypot(0.03, 0.04) = 2', () => {
+    // 3-4-5 triangle: hypot(0.03, 0.04) = 0.05; 1e-12 leaves room for rounding only
+    expect(combinedZ(1.0, 0.03, 1.1, 0.04)).toBeCloseTo(2, 12);
+    expect(combinedZ(1.0, null, 1.1, 0.04)).toBeNull();
+  });
+
+  it('the error from the spread over offsets is s / sqrt(n) with the n - 1 sample variance', () => {
+    // values 1, 2, 3, 4: mean 2.5, sample variance 5/3, s.e. sqrt(5/3 / 4) = 0.6455
+    const se = drivenStderr({ external_mean_by_offset_W: { values: [1, 2, 3, 4] } });
+    expect(se!.from).toBe('offsets');
+    expect(se!.stderr_W).toBeCloseTo(Math.sqrt(5 / 12), 12);
+    // a stated error wins
+    const stated = drivenStderr({
+      external_mean_stderr_W: 0.1,
+      external_mean_by_offset_W: { values: [1, 2] },
+    } as never);
+    expect(stated).toEqual({ stderr_W: 0.1, from: 'summary' });
+    expect(drivenStderr({ external_mean_by_offset_W: { values: [1] } })).toBeNull();
+  });
+
+  it('the direct run samples the rest positions between those of the map: offsets moved by lambda / (4 n)', () => {
+    const d = directScenario(scenario);
+    const n = scenario.simulation.drive_offsets;
+    expect(d.drive.offset - scenario.drive.offset).toBeCloseTo(scenario.laser.wavelength / (4 * n), 18);
+    expect(d.simulation.seed).toBe(scenario.simulation.seed + 1);
+  });
+
+  it('spread indices lie within the grid, distinct and spread out', () => {
+    expect(spreadIndices(2, 2)).toEqual([0, 1]);
+    // (j + 0.5) 8 / 4 - 0.5 = 0.5, 2.5, 4.5, 6.5, rounded half up
+    expect(spreadIndices(8, 4)).toEqual([1, 3, 5, 7]);
   });
 });

@@ -183,7 +183,9 @@ async function main(): Promise<void> {
     map32_points_computed: e.map32_points_computed,
     map32_points_inferred: e.map32_points_inferred,
     map32_validation_max_stderr: e.map32_validation_max_stderr,
+    map32_validation_max_stderr_inferred: e.map32_validation_max_stderr_inferred,
     map32_validation_points: e.validation.length,
+    map32_validation_points_inferred: e.validation.filter((v) => v.source === 'inferred').length,
     map32_validation_stderr_from: stderrSources,
     jobs2_speedup: c?.subset_jobs2_speedup ?? null,
     jobs2_speedup_points: c?.map_points_measured ?? null,
@@ -225,7 +227,7 @@ async function main(): Promise<void> {
         : null,
       map32: {
         ...e,
-        note: 'the demo sweep (scenarios/demo-sweep.yaml, its own periods and offsets), refined (coarse step 4, margin 5 %), measured whole with 2 workers; validation: the mean gap power of the map (computed or inferred) against a direct run of the point with another seed, z = |difference| / combined standard error; stderr_from says whether the summaries stated the error or it came from the spread over the rest offsets',
+        note: 'the demo sweep (scenarios/demo-sweep.yaml, its own periods and offsets), refined (coarse step 4, margin 5 %), measured whole with 2 workers; validation: the mean gap power of the map (computed or inferred) against a direct run of the point at rest offsets moved by half their spacing and another noise seed, z = |difference| / combined standard error; stderr_from says whether the summaries stated the error or it came from the spread over the rest offsets (s / sqrt(n), n the offsets: few offsets make it a rough error)',
       },
       cpu_pair: pair
         ? {
@@ -275,6 +277,14 @@ async function main(): Promise<void> {
       e.map32_validation_max_stderr === null ? '-' : `${e.map32_validation_max_stderr.toFixed(2)} s.e.`,
       '<= 2 s.e.',
       yes(holds.map32_validation_max_stderr),
+    ],
+    [
+      `    of it, at the ${e.validation.filter((v) => v.source === 'inferred').length} inferred validation points`,
+      e.map32_validation_max_stderr_inferred === null
+        ? '-'
+        : `${e.map32_validation_max_stderr_inferred.toFixed(2)} s.e.`,
+      '',
+      '',
     ],
   );
   if (c)

@@ -6,9 +6,9 @@
  * the map against runs of those points on their own.
  *
  * Validation: at each validation point the map's mean gap power (computed, or inferred from
- * its cell's corners) is compared with a direct run of that point (the stepping engine
- * `auto` picks, the exact engine when `auto` picks a path that does not step the motion,
- * and another noise seed), in units of the combined standard error
+ * its cell's corners) is compared with a direct run of that point (directScenario: other
+ * rest offsets and noise; the stepping engine `auto` picks, the exact engine when `auto`
+ * picks a path that does not step the motion), in units of the combined standard error
  *   z = |P_map - P_direct| / sqrt(se_map^2 + se_direct^2).
  * The standard error is the summary's `driven.external_mean_stderr_W` where present, else the
  * spread of the per-offset means over the rest offsets, s / sqrt(n) (drivenStderr); for an
@@ -112,6 +112,8 @@ export interface RefinedMapResult {
   map32_points_inferred: number;
   map32_classes: Record<string, number>;
   map32_validation_max_stderr: number | null;
+  /** the largest z among the validation points the map inferred (null when none was inferred) */
+  map32_validation_max_stderr_inferred: number | null;
   validation: ValidationPoint[];
   validation_wall_s: number;
   /** sum of the computed points' own run times: the work the two workers shared */
@@ -145,10 +147,23 @@ function mapAnswer(
   return { value, se: null, from: 'none' };
 }
 
-/** A direct run of one point: the stepping engine of `auto`, exact where `auto` does not step; seed + 1. */
+/**
+ * A direct run of one point, independent of the map's: another noise seed (seed + 1) and
+ * the rest offsets moved by half their spacing (lambda / (4 n) for n offsets over lambda / 2),
+ * so it samples the positions between the map's; the stepping engine of `auto`, the exact
+ * engine where `auto` picks a path that does not step the motion.
+ */
+export function directScenario(point: Scenario): Scenario {
+  const n = point.simulation.drive_offsets;
+  return {
+    ...point,
+    drive: { ...point.drive, offset: point.drive.offset + point.laser.wavelength / (4 * n) },
+    simulation: { ...point.simulation, seed: point.simulation.seed + 1 },
+  };
+}
+
 function directRun(point: Scenario): ReturnType<typeof runScenario> {
-  const seed = point.simulation.seed + 1;
-  const s: Scenario = { ...point, simulation: { ...point.simulation, seed } };
+  const s = directScenario(point);
   const first = runScenario(s);
   const stepped = first.summary.engine === 'exact' || first.summary.engine === 'fast';
   if (stepped || first.summary.status !== 'ok') return first;
@@ -228,6 +243,10 @@ export async function measureRefinedMap(
         );
       }
     const zs = validation.map((v) => v.z).filter((z): z is number => z !== null);
+    const zi = validation
+      .filter((v) => v.source === 'inferred')
+      .map((v) => v.z)
+      .filter((z): z is number => z !== null);
     const classes: Record<string, number> = {};
     map.classes.forEach((c, i) => {
       if (c === null) return;
@@ -241,6 +260,7 @@ export async function measureRefinedMap(
       map32_points_inferred: map.inferred_points ?? 0,
       map32_classes: classes,
       map32_validation_max_stderr: zs.length > 0 ? Math.max(...zs) : null,
+      map32_validation_max_stderr_inferred: zi.length > 0 ? Math.max(...zi) : null,
       validation,
       validation_wall_s: Number(process.hrtime.bigint() - v0) / 1e9,
       map32_point_seconds: recs.reduce((a, r) => a + r.wall_s, 0),
