@@ -114,6 +114,7 @@ let scenario: Scenario;
 let full: SweepMap;
 let refined: SweepMap;
 let refinedRuns: number[];
+let fullRuns: number[];
 
 function mapScenario(): Scenario {
   const base = loadScenarioFile(path.join(ROOT, 'scenarios', 'demo-sweep.yaml')).scenario;
@@ -141,8 +142,9 @@ const neighbourPairs = (): [number, number][] => {
 beforeAll(async () => {
   tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'dithercav-refine-'));
   scenario = mapScenario();
-  full = (await runSweep(scenario, { outDir: path.join(tmp, 'full'), executor: fakeExecutor(), full: true }))
-    .map;
+  const fx = fakeExecutor();
+  full = (await runSweep(scenario, { outDir: path.join(tmp, 'full'), executor: fx, full: true })).map;
+  fullRuns = fx.runs;
   const ex = fakeExecutor();
   refined = (await runSweep(scenario, { outDir: path.join(tmp, 'refined'), executor: ex })).map;
   refinedRuns = ex.runs;
@@ -197,6 +199,12 @@ describe('a refined map against the full grid (synthetic evaluator)', () => {
     const read = readPoints(path.join(tmp, 'full', 'points.ndjson'));
     expect(read.records.length).toBe(N * N);
     expect(read.dropped).toEqual([]);
+  });
+
+  it('hands out the longest points first: a full grid runs in order of growing drive frequency', () => {
+    // at equal settings the stepped time grows as 1/f (docs/model.md §3.6), so the order is by f
+    const f = fullRuns.map((i) => gridIndices(full.axes, i)[1]);
+    for (let k = 1; k < f.length; k++) expect(f[k]).toBeGreaterThanOrEqual(f[k - 1]);
   });
 
   it('finds every class boundary the full grid finds: both points of each differing neighbour pair are computed', () => {

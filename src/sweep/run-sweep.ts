@@ -89,15 +89,17 @@ interface QueuedPoint {
 function noop(): void {}
 
 /**
- * A point's relative cost, to start the longest first: the analysed periods over the drive
- * frequency (the stepped time, docs/model.md §3.6: the cost grows as 1/f) times the rest
- * offsets. Only the order depends on it.
+ * A point's relative cost, to start the longest first: the stepped time times the rest
+ * offsets. The stepped time is the settling (at least one drive period) plus the analysed
+ * window, whole periods holding at least four detection windows (as the run sizes it,
+ * docs/model.md §4.3), so it grows as 1/f at low drive frequency (docs/model.md §3.6).
+ * The engine's step is left out. Only the order of the points depends on it.
  */
 export function pointCost(s: Scenario): number {
   const f = s.drive.frequency;
-  const periods = s.simulation.periods;
-  const offsets = s.simulation.drive_offsets;
-  return f > 0 ? (periods * offsets) / f : 0;
+  if (!(f > 0)) return 0;
+  const analysed = Math.max(s.simulation.periods / f, 4 / s.analysis.detection_bandwidth);
+  return s.simulation.drive_offsets * (1 / f + analysed);
 }
 
 export interface SweepOutcome {
