@@ -64,6 +64,8 @@ export interface BatchOptions {
   inProcess?: boolean;
   resume?: boolean;
   engine?: EngineChoice;
+  /** sweeps compute every grid point (no refinement) */
+  full?: boolean;
   signal?: AbortSignal;
   hooks: BatchHooks;
   onWarning?: (message: string) => void;
@@ -315,6 +317,7 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
           outDir: dir,
           source: e.file,
           resume: opts.resume,
+          full: opts.full ?? false,
           executor: exec,
           signal: opts.signal,
           onWarning: warn,
