@@ -260,6 +260,9 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   // the actuator's reach does not depend on results: found once
   let reachable: boolean[] | null | undefined;
   const queue: QueuedPoint[] = [];
+  let filledOnce = false;
+  // points of this folder's region present so far (kept and new), counted as they come
+  let doneInRegion = kept.filter((r) => regionSet.has(r.index)).length;
   const currentMap = () =>
     buildSweepMap({
       name: header.name,
@@ -281,7 +284,12 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
         if (reachable === undefined) reachable = reachableMask(m, s);
         next = operatingPointNeeds(m, s, reachable);
       }
-    } else next = region;
+    } else {
+      // a full grid: every pending point at once, and only once
+      if (filledOnce) return;
+      filledOnce = true;
+      next = region;
+    }
     let added = false;
     for (const i of next) {
       if (dispatched.has(i)) continue;
@@ -296,12 +304,9 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     if (added) queue.sort((a, b) => keyOrder.get(a.key)! - keyOrder.get(b.key)! || b.cost - a.cost);
   };
   const progressCounts = (): [number, number, ProgressBound] => {
-    if (!refine || plan === null) {
-      const done = records.filter((r) => regionSet.has(r.index)).length;
-      return [done, region.length, { upper: region.length, refining: false }];
-    }
+    const done = doneInRegion;
+    if (!refine || plan === null) return [done, region.length, { upper: region.length, refining: false }];
     const p = plan as RefinePlan;
-    const done = records.filter((r) => regionSet.has(r.index)).length;
     const pending = Math.max(p.need.filter((i) => !known.has(i)).length, queue.length + inFlight.size);
     return [done, done + pending, { upper: Math.max(done + pending, p.upper_bound), refining: true }];
   };
@@ -333,6 +338,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   const finish = (rec: PointRecord) => {
     writer.write(rec);
     records.push(rec);
+    if (regionSet.has(rec.index)) doneInRegion++;
     known.set(rec.index, refinePointOf(rec));
     dirty = true;
     const [d, t, b] = progressCounts();
