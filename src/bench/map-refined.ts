@@ -28,7 +28,9 @@ import { gridPoint } from '../sweep/grid';
 import type { PointRecord } from '../sweep/persist';
 import { readPoints } from '../sweep/persist';
 import type { SweepMap } from '../results/map';
-import { runScenario } from '../simulate/run';
+import type { RunArtifacts } from '../results/artifacts';
+import type { Executor } from '../sweep/pool';
+import { createExecutor } from '../sweep/pool';
 
 /** scenarios/demo-sweep.yaml of the package. */
 export const DEMO_SWEEP_FILE = path.resolve(__dirname, '..', '..', 'scenarios', 'demo-sweep.yaml');
@@ -102,6 +104,7 @@ export interface ValidationPoint {
   /** where the errors came from: the summaries' stated error or the spread over offsets */
   stderr_from: string;
   z: number | null;
+  /** the direct run's own wall time (the summary's timing; a rerun on the exact engine counts alone) */
   direct_wall_s: number;
 }
 
@@ -162,17 +165,17 @@ export function directScenario(point: Scenario): Scenario {
   };
 }
 
-function directRun(point: Scenario): ReturnType<typeof runScenario> {
+async function directRun(exec: Executor, point: Scenario): Promise<RunArtifacts> {
   const s = directScenario(point);
-  const first = runScenario(s);
+  const first = await exec.run({ type: 'run', scenario: s });
   const stepped = first.summary.engine === 'exact' || first.summary.engine === 'fast';
   if (stepped || first.summary.status !== 'ok') return first;
-  return runScenario({ ...s, simulation: { ...s.simulation, engine: 'exact' } });
+  return exec.run({ type: 'run', scenario: { ...s, simulation: { ...s.simulation, engine: 'exact' } } });
 }
 
 /**
- * Run the refined map with `jobs` workers, then each validation point directly (one after
- * another on this thread), and compare (see the file comment).
+ * Run the refined map with `jobs` workers, then each validation point directly (on as many
+ * workers; each direct run computes its own references), and compare (see the file comment).
  */
 export async function measureRefinedMap(
   s: Scenario,
@@ -207,12 +210,19 @@ export async function measureRefinedMap(
     const validation: ValidationPoint[] = [];
     const base = { ...s };
     delete base.sweep;
-    for (const ia of o.validationIndices)
-      for (const jf of o.validationIndices) {
-        const index = ia * map.axes[1].values.length + jf;
+    const indices = o.validationIndices.flatMap((ia) =>
+      o.validationIndices.map((jf) => ia * map.axes[1].values.length + jf),
+    );
+    // the direct runs share the workers of the map, lowest frequency (longest) first
+    indices.sort(
+      (a, b) => gridPoint(map, a).axes['drive.frequency'] - gridPoint(map, b).axes['drive.frequency'],
+    );
+    const exec = createExecutor(o.jobs);
+    const validate = async (index: number): Promise<void> => {
+      {
         const pt = gridPoint(map, index);
         const t = process.hrtime.bigint();
-        const art = directRun(withOverrides(base, pt.axes));
+        const art = await directRun(exec, withOverrides(base, pt.axes));
         const d = art.summary.driven;
         const dse = d ? drivenStderr(d) : null;
         const ans = mapAnswer(map, byIndex, index, plan?.inferred.get(index));
@@ -235,13 +245,20 @@ export async function measureRefinedMap(
           direct_engine: art.summary.engine,
           stderr_from: `map: ${ans.from}, direct: ${dse?.from ?? 'none'}`,
           z,
-          direct_wall_s: Number(process.hrtime.bigint() - t) / 1e9,
+          direct_wall_s: art.summary.timing?.wall_s ?? Number(process.hrtime.bigint() - t) / 1e9,
         };
         validation.push(vp);
         log(
-          `validation ${validation.length}/${o.validationIndices.length ** 2}: point ${index} (${vp.source}), z = ${z === null ? '-' : z.toFixed(2)} (${vp.direct_engine} engine, ${vp.direct_wall_s.toFixed(0)} s)`,
+          `validation ${validation.length}/${indices.length}: point ${index} (${vp.source}), z = ${z === null ? '-' : z.toFixed(2)} (${vp.direct_engine} engine, ${vp.direct_wall_s.toFixed(0)} s)`,
         );
       }
+    };
+    try {
+      await Promise.all(indices.map(validate));
+    } finally {
+      await exec.destroy();
+    }
+    validation.sort((a, b) => a.index - b.index);
     const zs = validation.map((v) => v.z).filter((z): z is number => z !== null);
     const zi = validation
       .filter((v) => v.source === 'inferred')
