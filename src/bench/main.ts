@@ -227,7 +227,7 @@ async function main(): Promise<void> {
         : null,
       map32: {
         ...e,
-        note: 'the demo sweep (scenarios/demo-sweep.yaml, its own periods and offsets), refined (coarse step 4, margin 5 %), measured whole with 2 workers; validation: the mean gap power of the map (computed or inferred) against a direct run of the point at rest offsets moved by half their spacing and another noise seed, z = |difference| / combined standard error; stderr_from says whether the summaries stated the error or it came from the spread over the rest offsets (s / sqrt(n), n the offsets: few offsets make it a rough error)',
+        note: 'the demo sweep (scenarios/demo-sweep.yaml, its own periods and offsets), refined (coarse step 4, margin 10 %), measured whole with 2 workers; validation: the mean gap power of the map (computed or inferred) against a direct run of the point at rest offsets moved by half their spacing and another noise seed, z = |difference| / combined standard error; stderr_from says whether the summaries stated the error or it came from the spread over the rest offsets (s / sqrt(n), n the offsets: few offsets make it a rough error)',
       },
       cpu_pair: pair
         ? {
