@@ -1,5 +1,6 @@
 /**
- * The real binary on a tiny 3 x 2 sweep (test/fixtures/sweep/tiny-sweep.yaml): results do
+ * The real binary on a tiny 3 x 2 sweep (test/fixtures/sweep/tiny-sweep.yaml), every point
+ * computed (--full; refinement has its own tests in sweep-refine.test.ts): results do
  * not depend on --jobs, on being killed (-9 or Ctrl-C) and resumed, or on sharding and
  * merging. The independent expectation is always the same sweep run once, uninterrupted:
  * every point present exactly once with the same summary (run time aside).
@@ -55,7 +56,7 @@ function expectSameAsReference(points: Map<number, string>) {
 
 beforeAll(() => {
   requireDist();
-  const r = cliSync(['sweep', TINY, '--out', join(tmp, 'ref'), '--jobs', '2', '--quiet']);
+  const r = cliSync(['sweep', TINY, '--full', '--out', join(tmp, 'ref'), '--jobs', '2', '--quiet']);
   expect(r.code, r.err).toBe(0);
   referenceOut = r.out;
   reference = pointsOf(join(tmp, 'ref'));
@@ -82,7 +83,7 @@ describe('sweep command end to end', () => {
   });
 
   it('--jobs 1 gives the same points as --jobs 2', () => {
-    const r = cliSync(['sweep', TINY, '--out', join(tmp, 'j1'), '--jobs', '1', '--quiet']);
+    const r = cliSync(['sweep', TINY, '--full', '--out', join(tmp, 'j1'), '--jobs', '1', '--quiet']);
     expect(r.code, r.err).toBe(0);
     expectSameAsReference(pointsOf(join(tmp, 'j1')));
   });
@@ -102,6 +103,7 @@ describe('sweep command end to end', () => {
     const out = await runSweep(loadScenarioFile(TINY).scenario, {
       outDir: dir,
       inProcess: true,
+      full: true,
       onProgress: (d) => seen.push(d),
     });
     expect(out.finished).toBe(TOTAL);
@@ -112,7 +114,7 @@ describe('sweep command end to end', () => {
 
   it('killed with -9 midway (plus a torn last line) and resumed: every point once, equal to the uninterrupted run', async () => {
     const dir = join(tmp, 'killed');
-    const { child, done } = cliAsync(['sweep', TINY, '--out', dir, '--jobs', '1', '--quiet']);
+    const { child, done } = cliAsync(['sweep', TINY, '--full', '--out', dir, '--jobs', '1', '--quiet']);
     await waitForLines(join(dir, 'points.ndjson'), 2);
     child.kill('SIGKILL');
     const killed = await done;
@@ -121,7 +123,7 @@ describe('sweep command end to end', () => {
     expect(kept).toBeGreaterThanOrEqual(2);
     expect(kept).toBeLessThan(TOTAL);
     appendFileSync(join(dir, 'points.ndjson'), '{"index":5,"axes":{"drive.ampl'); // a write cut short
-    const r = cliSync(['sweep', TINY, '--out', dir, '--jobs', '2', '--resume']);
+    const r = cliSync(['sweep', TINY, '--full', '--out', dir, '--jobs', '2', '--resume']);
     expect(r.code, r.err).toBe(0);
     expect(r.err).toMatch(/points\.ndjson:\d+: dropped \(the last line is incomplete/);
     // the killed process left its lock behind; its process id is gone, so the lock is taken over, saying so
@@ -134,7 +136,7 @@ describe('sweep command end to end', () => {
 
   it('Ctrl-C (SIGINT) stops cleanly with exit 130, finished points and map.json kept; --resume completes it', async () => {
     const dir = join(tmp, 'sigint');
-    const { child, done } = cliAsync(['sweep', TINY, '--out', dir, '--jobs', '1']);
+    const { child, done } = cliAsync(['sweep', TINY, '--full', '--out', dir, '--jobs', '1']);
     await waitForLines(join(dir, 'points.ndjson'), 1);
     child.kill('SIGINT');
     const r = await done;
@@ -144,7 +146,7 @@ describe('sweep command end to end', () => {
     expect(points.size).toBeGreaterThanOrEqual(1);
     const map = JSON.parse(readFileSync(join(dir, 'map.json'), 'utf8'));
     expect(map.finished_points).toBe(points.size);
-    const again = cliSync(['sweep', TINY, '--out', dir, '--jobs', '2', '--resume', '--quiet']);
+    const again = cliSync(['sweep', TINY, '--full', '--out', dir, '--jobs', '2', '--resume', '--quiet']);
     expect(again.code, again.err).toBe(0);
     expectSameAsReference(pointsOf(dir));
   });
@@ -152,14 +154,14 @@ describe('sweep command end to end', () => {
   it('shards 1/3, 2/3 (from SLURM array variables) and 3/3 merged equal the unsharded sweep', async () => {
     const base = join(tmp, 'sharded');
     const runs = [
-      cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet', '--shard', '1/3']),
+      cliAsync(['sweep', TINY, '--full', '--out', base, '--jobs', '1', '--quiet', '--shard', '1/3']),
       // SLURM_ARRAY_TASK_ID 11 of an array 10-12: I = 11 - 10 + 1 = 2, N = 3
-      cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet'], {
+      cliAsync(['sweep', TINY, '--full', '--out', base, '--jobs', '1', '--quiet'], {
         SLURM_ARRAY_TASK_ID: '11',
         SLURM_ARRAY_TASK_MIN: '10',
         SLURM_ARRAY_TASK_COUNT: '3',
       }),
-      cliAsync(['sweep', TINY, '--out', base, '--jobs', '1', '--quiet', '--shard', '3/3']),
+      cliAsync(['sweep', TINY, '--full', '--out', base, '--jobs', '1', '--quiet', '--shard', '3/3']),
     ];
     const results = await Promise.all(runs.map((r) => r.done));
     results.forEach((r) => expect(r.code, r.err).toBe(0));

@@ -47,13 +47,26 @@ export function formatProgressLine(
   total: number,
   ratePerS: number,
   unit = 'points',
+  upper?: number,
 ): string {
-  const parts = [`${label}: ${done}/${total} ${unit}`];
+  const growing = upper !== undefined && upper > total;
+  const parts = [`${label}: ${done}/${total} ${unit}${growing ? ` planned so far (at most ${upper})` : ''}`];
   if (ratePerS > 0 && Number.isFinite(ratePerS)) {
     parts.push(`${formatRate(ratePerS)} ${unit}/s`);
-    if (done < total) parts.push(`ETA ${formatDuration((total - done) / ratePerS)}`);
+    if (done < total || growing) parts.push(`ETA ${etaText(done, total, ratePerS, upper)}`);
   }
   return parts.join(', ');
+}
+
+/**
+ * The time left at `ratePerS`: one figure for a fixed total, a range "2m10s to 9m40s" when
+ * the plan may still grow to `upper` (a refining map), so the ETA never claims more than known.
+ */
+export function etaText(done: number, total: number, ratePerS: number, upper?: number): string {
+  if (!(ratePerS > 0)) return '?';
+  const low = formatDuration(Math.max(0, total - done) / ratePerS);
+  if (upper === undefined || upper <= total) return low;
+  return `${low} to ${formatDuration((upper - done) / ratePerS)}`;
 }
 
 export interface ProgressOptions {
@@ -73,8 +86,11 @@ export interface ProgressOptions {
 
 /** Reports a count of finished items; `log` prints a message without breaking the bar. */
 export interface ProgressReporter {
-  /** `done` items finished of `total` (the total may change, e.g. after a resume count) */
-  update(done: number, total?: number): void;
+  /**
+   * `done` items finished of `total` (the total may change, e.g. after a resume count, or
+   * grow while a map refines); `upper`: the most the total may still grow to
+   */
+  update(done: number, total?: number, upper?: number): void;
   log(message: string): void;
   /** the final line (plain) or the finished bar; idempotent */
   stop(): void;
@@ -95,22 +111,24 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
   const t0 = now();
   let first: number | null = null;
   let done = 0;
+  let upper: number | undefined;
   let stopped = false;
   const rate = () => {
     const dt = (now() - t0) / 1000;
     return first === null || dt <= 0 ? 0 : (done - first) / dt;
   };
   // bar and plain lines take an update alike, so that both show the same rate
-  const take = (d: number, t: number | undefined) => {
+  const take = (d: number, t: number | undefined, u: number | undefined) => {
     if (first === null) first = d;
     done = d;
     if (t !== undefined) total = t;
+    upper = u;
   };
 
   if (!opts.plain && interactive(stream)) {
     const bar = new SingleBar({
       stream,
-      format: `${opts.label} [{bar}] {value}/{total} ${unit} | {rate} ${unit}/s | ETA {eta_text}`,
+      format: `${opts.label} [{bar}] {value}/{total} ${unit}{bound} | {rate} ${unit}/s | ETA {eta_text}`,
       hideCursor: true,
       clearOnComplete: false,
       stopOnComplete: false,
@@ -121,12 +139,16 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
     let started = false;
     const payload = () => {
       const r = rate();
-      return { rate: formatRate(r), eta_text: r > 0 ? formatDuration((total - done) / r) : '?' };
+      return {
+        rate: formatRate(r),
+        eta_text: etaText(done, total, r, upper),
+        bound: upper !== undefined && upper > total ? ` planned so far (at most ${upper})` : '',
+      };
     };
     return {
-      update(d, t) {
+      update(d, t, u) {
         if (stopped) return;
-        take(d, t);
+        take(d, t, u);
         if (!started) {
           started = true;
           bar.start(total, d, payload());
@@ -156,12 +178,12 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
   const print = () => {
     lastAt = now();
     lastPrinted = done;
-    stream.write(`${formatProgressLine(opts.label, done, total, rate(), unit)}\n`);
+    stream.write(`${formatProgressLine(opts.label, done, total, rate(), unit, upper)}\n`);
   };
   return {
-    update(d, t) {
+    update(d, t, u) {
       if (stopped) return;
-      take(d, t);
+      take(d, t, u);
       const tenth = total > 0 ? Math.floor((10 * done) / total) : 10;
       if (now() - lastAt >= interval || tenth > lastTenth) {
         lastTenth = tenth;

@@ -211,6 +211,8 @@ function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Re
     );
     for (const c of [c1, c2, c3]) if (c) out.push(c);
   }
+  const inferred = inferredTrace(m, xy);
+  if (inferred) out.push(inferred);
   if (
     Array.isArray(m.reachable) &&
     m.reachable.length === m.total_points &&
@@ -263,6 +265,35 @@ function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Re
   return out;
 }
 
+/**
+ * A refined map's inferred cells (not run: class and metrics from the computed corners of a
+ * uniform cell) hatched with a diagonal stroke, so they are never read as computed.
+ */
+function inferredTrace(m: SweepMap, xy: { x: number; y: number }): Record<string, unknown> | null {
+  if (!Array.isArray(m.point_source) || !m.point_source.includes('inferred')) return null;
+  const st = axisStrides(m.axes);
+  const x: number[] = [];
+  const y: number[] = [];
+  m.axes[xy.y].values.forEach((yv, iy) =>
+    m.axes[xy.x].values.forEach((xv, ix) => {
+      const i = iy * st[xy.y] + ix * st[xy.x];
+      if (m.point_source![i] === 'inferred') {
+        x.push(xv);
+        y.push(yv);
+      }
+    }),
+  );
+  return {
+    type: 'scatter',
+    mode: 'markers',
+    name: 'inferred, not run (hatched)',
+    x,
+    y,
+    marker: { symbol: 'line-ne', size: 9, line: { color: 'rgba(17,17,17,0.55)', width: 1.2 } },
+    hoverinfo: 'skip',
+  };
+}
+
 function hoverText(m: SweepMap, xy: { x: number; y: number }): string[][] {
   const ax = m.axes[xy.x];
   const ay = m.axes[xy.y];
@@ -281,6 +312,8 @@ function hoverText(m: SweepMap, xy: { x: number; y: number }): string[][] {
         );
       }
       lines.push(`class: ${plotText(m.classes[i] ?? NOT_COMPUTED)}`);
+      if (m.point_source?.[i] === 'inferred')
+        lines.push('inferred, not run (from the computed corners of its cell)');
       if (Array.isArray(m.reachable))
         lines.push(m.reachable[i] ? 'actuator can reach it' : "out of the actuator's reach");
       return lines.join('<br>');
@@ -365,7 +398,11 @@ function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
         drive
           ? 'Black dashed: the speed rule A = v_c/(2πf); red: where hops start (measured); white: the decoupling boundary (measured); '
           : ''
-      }${reachNote(m)}${m.recommended ? 'star: the recommended operating point. ' : ''}Empty
+      }${reachNote(m)}${m.recommended ? 'star: the recommended operating point. ' : ''}${
+        (m.inferred_points ?? 0) > 0
+          ? 'Hatched cells (diagonal stroke): inferred, not run: inside a cell of the refined grid whose computed corners agree; curves and the operating point use computed points only. '
+          : ''
+      }Empty
       cells: not finished or failed.
     </p>`,
   );
@@ -505,12 +542,12 @@ function oneAxisPlots(m: SweepMap, plots: PlotSpec[]): SafeHtml {
   </section>`;
 }
 
-/** Indices of the decoupled points with the highest gain over static, best first (at most `n`). */
+/** Indices of the computed (not inferred) decoupled points with the highest gain over static, best first (at most `n`). */
 export function bestPoints(m: SweepMap, n = BEST_POINTS): number[] {
   const g = m.metrics?.gain_over_static ?? [];
   const idx: number[] = [];
   m.classes.forEach((c, i) => {
-    if (c === 'decoupled' && isNum(g[i])) idx.push(i);
+    if (c === 'decoupled' && isNum(g[i]) && m.point_source?.[i] !== 'inferred') idx.push(i);
   });
   idx.sort((a, b) => (g[b] as number) - (g[a] as number) || a - b);
   return idx.slice(0, n);
@@ -611,7 +648,11 @@ function bestSection(m: SweepMap): SafeHtml {
 
 function countsSection(m: SweepMap): SafeHtml {
   const counts = new Map<string, number>();
-  for (const c of m.classes) counts.set(c ?? NOT_COMPUTED, (counts.get(c ?? NOT_COMPUTED) ?? 0) + 1);
+  m.classes.forEach((c0, i) => {
+    const c =
+      c0 === null ? NOT_COMPUTED : m.point_source?.[i] === 'inferred' ? `${c0} (inferred, not run)` : c0;
+    counts.set(c, (counts.get(c) ?? 0) + 1);
+  });
   return html`<section id="overview">
     <h2>What was swept</h2>
     <table>
@@ -638,7 +679,13 @@ function countsSection(m: SweepMap): SafeHtml {
       </tbody>
     </table>
     <p class="note">
-      ${m.finished_points} of ${m.total_points} points finished, ${m.failed_points} failed. Scenario SHA-256
+      ${m.finished_points} of ${m.total_points} points
+      finished${
+        (m.inferred_points ?? 0) > 0
+          ? ` (computed), ${m.inferred_points} inferred by the refinement and hatched on the maps`
+          : ''
+      },
+      ${m.failed_points} failed. Scenario SHA-256
       <code>${m.scenario_sha256}</code>.
     </p>
     <table>

@@ -63,4 +63,33 @@ export interface SweepMap {
   reachable: boolean[] | null;
   recommended: OperatingPoint | null;
   recommended_reason: string;
+  /**
+   * per point: 'computed' (run), 'inferred' (not run: inside a cell of a refined map whose
+   * computed corners agree; class and metrics interpolated from them) or null (not
+   * finished). A CSV or plot must carry this flag with every value. Absent in maps of
+   * versions before refinement (read every finished point as computed).
+   */
+  point_source?: PointSource[];
+  /** how many points are inferred (0 for a full grid) */
+  inferred_points?: number;
+  /** the refinement settings, or null when every point was to be computed (--full) */
+  refinement?: MapRefinement | null;
+}
+
+export type PointSource = 'computed' | 'inferred' | null;
+
+/** How a refined map was planned (src/sweep/refine.ts). */
+export interface MapRefinement {
+  /** grid steps between coarse points along each axis */
+  coarse_step: number;
+  /** relative difference in a compared metric that splits a cell */
+  margin: number;
+  /** the compared metrics besides the class */
+  metrics: string[];
+}
+
+/** True when point i of the map was run (not inferred, not missing). */
+export function isComputedPoint(map: Pick<SweepMap, 'point_source' | 'classes'>, i: number): boolean {
+  if (Array.isArray(map.point_source)) return map.point_source[i] === 'computed';
+  return map.classes[i] !== null && map.classes[i] !== undefined;
 }

@@ -11,6 +11,31 @@ import type { MapAxis } from './map';
 import { readSweepHeader } from './read';
 
 /** sweep.json: what a sweep folder holds. */
+/** One metric compared across a cell's corners, with the scale below which differences are not relative. */
+export interface RefineMetric {
+  name: string;
+  /**
+   * the smallest scale the difference is taken relative to: |max - min| is compared with
+   * margin x max(floor, largest |value|)
+   */
+  floor: number;
+  /** true when the metric scales with the mean gap power, so its noise is rel_stderr x value */
+  powerLike: boolean;
+}
+
+export interface RefineSettings {
+  /** grid steps between coarse points along each axis (the last grid index is always coarse) */
+  coarse_step: number;
+  /** relative difference of a compared metric across a cell that makes it split */
+  margin: number;
+  metrics: RefineMetric[];
+  /**
+   * differences smaller than this many combined standard errors do not split a cell
+   * (2 sqrt 2: two standard errors of the difference of two independent means)
+   */
+  noise_factor: number;
+}
+
 export interface SweepHeader {
   version: number;
   tool_version: string;
@@ -25,6 +50,11 @@ export interface SweepHeader {
   total_points: number;
   /** this folder's share of the grid, or null for the whole grid */
   shard: { index: number; count: number } | null;
+  /**
+   * the refinement the points were planned with (src/sweep/refine.ts), or null when every
+   * point is computed (--full); absent in folders written before refinement (full)
+   */
+  refine?: RefineSettings | null;
   created: string;
 }
 

@@ -22,6 +22,7 @@ import { parse as parseYaml } from 'yaml';
 import type { Executor } from './pool';
 import { createExecutor, ExecutorStopped } from './pool';
 import { runSweep, withEngine } from './run-sweep';
+import { computedOnly } from './map';
 import type { SweepOutcome } from './run-sweep';
 import type { PointRecord } from '../results/points';
 
@@ -66,6 +67,8 @@ export interface BatchOptions {
   inProcess?: boolean;
   resume?: boolean;
   engine?: EngineChoice;
+  /** sweeps compute every grid point (no refinement) */
+  full?: boolean;
   signal?: AbortSignal;
   hooks: BatchHooks;
   onWarning?: (message: string) => void;
@@ -232,7 +235,8 @@ function fillFromRun(e: BatchEntry, s: RunSummary): void {
  * else at the finished point with the highest gain over static.
  */
 function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
-  const m = out.map;
+  // computed points only: an inferred point of a refined map is never quoted as a result
+  const m = computedOnly(out.map);
   const classes: Record<string, number> = {};
   for (const c of m.classes) if (c) classes[c] = (classes[c] ?? 0) + 1;
   e.points = { finished: out.finished, failed: out.failed, total: out.planned, classes };
@@ -388,6 +392,7 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
           outDir: dir,
           source: e.file,
           resume: opts.resume,
+          full: opts.full ?? false,
           executor: exec,
           signal: opts.signal,
           onWarning: warn,

@@ -4,6 +4,7 @@ export * from './persist';
 export * from './shard';
 export * from './pool';
 export * from './map';
+export * from './refine';
 export * from './run-sweep';
 export * from './merge';
 export * from './batch';

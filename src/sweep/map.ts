@@ -11,6 +11,8 @@ import { axisIndices, pointCount } from '../results/grid-index';
 import type { PointRecord } from '../results/points';
 import { reachableMask, recommendOperatingPoint } from '../analysis/operating-point';
 import { AMPLITUDE_KEY, FREQUENCY_KEY } from '../scenario/keypath';
+import type { Inference, RefinePoint, RefineSettings } from './refine';
+import { planRefinement } from './refine';
 
 /** Metrics of map.json and where each comes from in a point's summary. */
 export const MAP_METRICS = {
@@ -66,6 +68,66 @@ export interface MapInput {
   records: readonly PointRecord[];
   /** the base scenario: its analysis thresholds decide what counts as hopping */
   scenario: Scenario | null;
+  /** the refinement the sweep ran with (null or absent: a full grid, nothing inferred) */
+  refine?: RefineSettings | null;
+  /** the shard whose coarse cells the map covers (refined maps only) */
+  shard?: { index: number; count: number } | null;
+}
+
+/** What refinement compares of a finished point (src/sweep/refine.ts). */
+export function refinePointOf(r: PointRecord): RefinePoint {
+  const metrics: Record<string, number | null> = {};
+  for (const [name, get] of Object.entries(MAP_METRICS))
+    metrics[name] = r.summary.status === 'ok' ? finite(get(r)) : null;
+  const mean = r.summary.driven ? finite(r.summary.driven.external_mean_W) : null;
+  const se = r.summary.driven ? drivenStderr(r.summary.driven) : null;
+  return {
+    class: r.summary.class,
+    metrics,
+    rel_stderr: se !== null && mean !== null && mean > 0 ? se.stderr_W / mean : null,
+  };
+}
+
+/**
+ * The standard error of a driven run's mean gap power, W: the summary's own
+ * `external_mean_stderr_W` when it states one (docs/model.md §3.6), else the spread of the
+ * per-offset means over the rest offsets, s / sqrt(n) (n >= 2; the offsets are stratified
+ * random draws, docs/model.md §4, so their means are independent samples); null with a
+ * single offset. `from` says which.
+ */
+export function drivenStderr(d: {
+  external_mean_by_offset_W?: { values?: number[] } | null;
+}): { stderr_W: number; from: 'summary' | 'offsets' } | null {
+  const stated = finite((d as Record<string, unknown>).external_mean_stderr_W);
+  if (stated !== null) return { stderr_W: stated, from: 'summary' };
+  const v = (d.external_mean_by_offset_W?.values ?? []).filter((x) => Number.isFinite(x));
+  if (v.length < 2) return null;
+  const m = v.reduce((a, b) => a + b, 0) / v.length;
+  const s2 = v.reduce((a, b) => a + (b - m) ** 2, 0) / (v.length - 1);
+  return { stderr_W: Math.sqrt(s2 / v.length), from: 'offsets' };
+}
+
+/**
+ * A metric at an inferred point: the weighted corners' values, interpolated in log (a
+ * geometric mean, exact for power laws such as the peak speed 2 pi f A on log axes) when
+ * all are positive, else linearly; null when a corner with weight has none.
+ */
+export function interpolateMetric(
+  values: readonly (number | null)[],
+  weights: readonly number[],
+): number | null {
+  let lin = 0;
+  let lg = 0;
+  let positive = true;
+  for (let k = 0; k < values.length; k++) {
+    if (weights[k] === 0) continue;
+    const v = values[k];
+    if (v === null || !Number.isFinite(v)) return null;
+    lin += weights[k] * v;
+    if (v > 0) lg += weights[k] * Math.log(v);
+    else positive = false;
+  }
+  return positive ? Math.exp(lg) : lin;
 }
 
 /** Curves over amplitude and frequency, or nulls when the grid is not such a map. */
@@ -128,6 +190,10 @@ function curves(
  * - critical_curve: A = v_c / (2 pi f), the amplitude whose peak speed 2 pi f A equals
  *   the critical speed v_c (MODEL.md 4), v_c the median of the points' critical_speed_m_s
  *   (drawn whatever the other axes).
+ * The curves use computed points only (records), never inferred ones.
+ * With `refine`, the points the refinement plan infers (src/sweep/refine.ts) get the class
+ * of their cell's corners and metrics interpolated from them, and `point_source` says
+ * 'inferred' there.
  * `reachable` and `recommended` are null ('not computed'); withOperatingPoint fills them.
  */
 export function buildSweepMap(input: MapInput): SweepMap {
@@ -152,6 +218,30 @@ export function buildSweepMap(input: MapInput): SweepMap {
   const finished = byIndex.filter((r) => r !== undefined).length;
   const failed = byIndex.filter((r) => r !== undefined && r.summary.status !== 'ok').length;
   const hopLimit = input.scenario?.analysis.max_hops_per_period ?? 0;
+  const point_source: ('computed' | 'inferred' | null)[] = Array.from(byIndex, (r) =>
+    r ? 'computed' : null,
+  );
+  let inferred: Map<number, Inference> = new Map();
+  if (input.refine) {
+    const known = new Map<number, RefinePoint>();
+    for (const r of input.records) if (r.index >= 0 && r.index < total) known.set(r.index, refinePointOf(r));
+    inferred = planRefinement(input.axes, known, input.refine, input.shard ?? null).inferred;
+    for (const [i, inf] of inferred) {
+      if (byIndex[i]) continue;
+      point_source[i] = 'inferred';
+      const cornerClass = byIndex[inf.corners[0]]!.summary.class;
+      classes[i] = cornerClass === 'error' ? null : cornerClass;
+      class_reasons[i] =
+        `inferred, not run: its cell's computed corners (points ${inf.corners.join(', ')}) agree in class and metrics`;
+      for (const name of Object.keys(MAP_METRICS)) {
+        metrics[name][i] = interpolateMetric(
+          inf.corners.map((c) => metrics[name][c]),
+          inf.weights,
+        );
+      }
+    }
+  }
+  const inferredCount = point_source.filter((p) => p === 'inferred').length;
   return {
     version: RESULT_VERSION,
     name: input.name,
@@ -167,6 +257,32 @@ export function buildSweepMap(input: MapInput): SweepMap {
     reachable: null,
     recommended: null,
     recommended_reason: 'not computed',
+    point_source,
+    inferred_points: inferredCount,
+    refinement: input.refine
+      ? {
+          coarse_step: input.refine.coarse_step,
+          margin: input.refine.margin,
+          metrics: input.refine.metrics.map((m) => m.name),
+        }
+      : null,
+  };
+}
+
+/**
+ * The map as far as computed points go: classes, reasons and metrics of inferred points
+ * set to null. The operating point and any other decision is taken on this.
+ */
+export function computedOnly(map: SweepMap): SweepMap {
+  if (!Array.isArray(map.point_source) || !map.point_source.includes('inferred')) return map;
+  const keep = (i: number) => map.point_source![i] !== 'inferred';
+  const metrics: Record<string, (number | null)[]> = {};
+  for (const [k, v] of Object.entries(map.metrics)) metrics[k] = v.map((x, i) => (keep(i) ? x : null));
+  return {
+    ...map,
+    metrics,
+    classes: map.classes.map((c, i) => (keep(i) ? c : null)),
+    class_reasons: map.class_reasons.map((c, i) => (keep(i) ? c : null)),
   };
 }
 
@@ -179,6 +295,44 @@ export function withOperatingPoint(map: SweepMap, scenario: Scenario | null): Sw
   if (!scenario) return map;
   const reachable = reachableMask(map, scenario);
   const withMask = { ...map, reachable };
-  const choice = recommendOperatingPoint(withMask, scenario);
+  // inferred points never decide the operating point: only computed ones count as decoupled
+  const choice = recommendOperatingPoint(computedOnly(withMask), scenario);
   return { ...withMask, recommended: choice.recommended, recommended_reason: choice.recommended_reason };
+}
+
+/**
+ * The inferred points the operating point still needs computed. The recommended point and
+ * its margin (its neighbours along amplitude and frequency, docs/model.md §5) are decided on
+ * computed points only; on a refined map the neighbours of a computed point inside a uniform
+ * region are mostly inferred. So the sweep asks: which point would be recommended if the
+ * inferred classes held (the map as built, inferred points included)? When that point or a
+ * neighbour of it is inferred, those are returned to be run; once they are all computed the
+ * computed-only recommendation is that same point (the optimistic candidates include every
+ * computed-only one and the cheapest of them is verified). Empty when nothing is missing.
+ */
+export function operatingPointNeeds(
+  map: SweepMap,
+  scenario: Scenario,
+  reachable: boolean[] | null = reachableMask(map, scenario),
+): number[] {
+  if (!Array.isArray(map.point_source) || !map.point_source.includes('inferred')) return [];
+  const ai = map.axes.findIndex((a) => a.key === AMPLITUDE_KEY);
+  const fi = map.axes.findIndex((a) => a.key === FREQUENCY_KEY);
+  if (ai < 0 || fi < 0) return [];
+  const optimistic = recommendOperatingPoint({ ...map, reachable }, scenario);
+  if (!optimistic.recommended) return [];
+  const i = optimistic.recommended.index;
+  const idx = axisIndices(map.axes, i);
+  const st: number[] = [];
+  let acc = 1;
+  for (let k = map.axes.length - 1; k >= 0; k--) {
+    st[k] = acc;
+    acc *= map.axes[k].values.length;
+  }
+  const around = [i];
+  for (const k of [ai, fi]) {
+    if (idx[k] > 0) around.push(i - st[k]);
+    if (idx[k] < map.axes[k].values.length - 1) around.push(i + st[k]);
+  }
+  return around.filter((j) => map.point_source![j] === 'inferred');
 }

@@ -18,6 +18,7 @@ import type { SweepHeader } from '../results/sweep-header';
 import { makeHeader, readHeader, writeHeader } from '../results/sweep-header';
 import { SWEEP_FILES } from '../results/files';
 import { activeLock } from '../results/lock';
+import type { RefineSettings } from './refine';
 
 export interface MergeOptions {
   /** output folder; default `<parent of the first folder>/<scenario name>-merged` */
@@ -35,7 +36,7 @@ export interface MergeOutcome {
   header: SweepHeader;
   records: PointRecord[];
   map: SweepMap;
-  /** grid points no shard holds */
+  /** grid points no shard holds and the refinement does not infer */
   missing: number;
   /** points found in more than one shard (identical, so kept once) */
   duplicates: number;
@@ -57,7 +58,8 @@ export function defaultMergeDir(firstDir: string, name: string): string {
  * different scenarios (scenario hashes differ; the message lists each folder's name and
  * hash), when the output folder is one of the inputs, or when one point index has
  * different results in two shards. Torn last lines are dropped with a warning.
- * Missing points (a shard not given) are allowed: the map holds null there.
+ * Missing points (a shard not given) are allowed: the map holds null there. Shards of a
+ * refined sweep give the map of the unsharded refined sweep (src/sweep/refine.ts).
  */
 export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): MergeOutcome {
   const warn = opts.onWarning ?? (() => undefined);
@@ -146,6 +148,16 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
       `the scenario stored in ${path.join(dirs[0], SWEEP_FILES.header)} no longer validates; the map is drawn without its thresholds`,
     );
 
+  // A refined sweep's shards each refine their own coarse cells; the merged map infers with
+  // the same settings over the whole grid. Shards of mixed settings are merged without inference.
+  const refines = headers.map((h) => JSON.stringify(h.refine ?? null));
+  let refine: RefineSettings | null = null;
+  if (refines.every((r) => r === refines[0])) refine = headers[0].refine ?? null;
+  else
+    warn(
+      'the shards were planned with different refinement settings (or some with --full); the merged map infers no point',
+    );
+
   fs.mkdirSync(outDir, { recursive: true });
   const header = makeHeader({
     name: first.name,
@@ -156,6 +168,7 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
     axes: first.axes,
     total_points: first.total_points,
     shard: null,
+    refine,
   });
   const tmp = path.join(outDir, `${SWEEP_FILES.points}.tmp-${process.pid}`);
   fs.writeFileSync(tmp, records.map(formatPointLine).join(''));
@@ -168,9 +181,17 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
       axes: first.axes,
       records,
       scenario,
+      refine,
     }),
     scenario,
   );
   fs.writeFileSync(path.join(outDir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
-  return { dir: outDir, header, records, map, missing: first.total_points - records.length, duplicates };
+  return {
+    dir: outDir,
+    header,
+    records,
+    map,
+    missing: first.total_points - records.length - (map.inferred_points ?? 0),
+    duplicates,
+  };
 }

@@ -1,5 +1,5 @@
 /**
- * `dithercav batch PATH... [--out DIR] [--jobs N] [--resume] [--quiet] [--engine E]`:
+ * `dithercav batch PATH... [--out DIR] [--jobs N] [--resume] [--full] [--quiet] [--engine E]`:
  * every .yaml/.yml/.json scenario under the paths (recursive, sorted), run or swept by
  * content, one folder each under DIR (default reports/batch/), with index.json (and
  * index.html from the report room) listing every file: status, class or error, key
@@ -29,6 +29,7 @@ interface BatchCliOptions {
   quiet?: boolean;
   engine?: EngineChoice;
   force?: boolean;
+  full?: boolean;
 }
 
 /** Register `batch`. */
@@ -42,6 +43,7 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
     .option('--out <dir>', 'output folder (default reports/batch/)')
     .option('--jobs <n>', 'worker threads (default: the available processors)')
     .option('--resume', 'skip finished runs and resume sweeps')
+    .option('--full', 'sweeps compute every grid point (default: refined where neighbouring points differ)')
     .option('--quiet', 'no progress output')
     .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
     .option('--force', FORCE_HELP)
@@ -64,6 +66,7 @@ export function registerBatch(program: Command, ctx: CommandContext): void {
           jobs,
           resume: opts.resume ?? false,
           engine: opts.engine,
+          full: opts.full ?? false,
           signal: stop.signal,
           hooks,
           onWarning: (m) => log(`warning: ${m}`),

@@ -45,7 +45,7 @@ export function registerMerge(program: Command, ctx: CommandContext): void {
         ctx.setExit(1);
       }
       process.stdout.write(
-        `merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}' -> ${out.dir}\n`,
+        `merged ${dirs.length} folder(s): ${out.records.length}/${out.header.total_points} points of '${out.header.name}'${(out.map.inferred_points ?? 0) > 0 ? ` computed, ${out.map.inferred_points} inferred (refined map)` : ''} -> ${out.dir}\n`,
       );
       const pointLine = recommendedPointLine(out.map);
       if (pointLine !== null) process.stdout.write(`${pointLine}\n`);

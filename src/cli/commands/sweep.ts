@@ -1,6 +1,8 @@
 /**
- * `dithercav sweep FILE [--out DIR] [--jobs N] [--resume] [--shard I/N] [--quiet] [--engine E]`:
- * the grid of the scenario's `sweep` section, one point per worker thread at a time,
+ * `dithercav sweep FILE [--out DIR] [--jobs N] [--resume] [--shard I/N] [--full] [--quiet] [--engine E]`:
+ * the grid of the scenario's `sweep` section, refined where the answer changes (a coarse
+ * grid first, then subdivided where neighbours differ; src/sweep/refine.ts) or every
+ * point with --full, one point per worker thread at a time,
  * into DIR (default reports/<scenario name>/; a shard into DIR/shard-I-of-N/):
  * points.ndjson (appended as each point finishes), sweep.json, map.json, report.html.
  * Exit 0 when every point ran, 1 when some point failed numerically or the sweep was
@@ -93,6 +95,7 @@ interface SweepCliOptions {
   quiet?: boolean;
   engine?: EngineChoice;
   force?: boolean;
+  full?: boolean;
 }
 
 /** Register `sweep`. */
@@ -109,6 +112,10 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
     .option(
       '--shard <i/n>',
       'run shard I of N (points with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT',
+    )
+    .option(
+      '--full',
+      'compute every grid point (default: a coarse grid refined where neighbouring points differ; the rest is inferred and marked so)',
     )
     .option('--quiet', 'no progress output')
     .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
@@ -144,9 +151,11 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
           resume: opts.resume ?? false,
           shard,
           engine: opts.engine,
+          full: opts.full ?? false,
           signal: stop.signal,
           onWarning: (m) => progress.log(`warning: ${m}`),
-          onProgress: (done, total) => progress.update(done, total),
+          onProgress: (done, total, _rec, bound) =>
+            progress.update(done, total, bound?.refining ? bound.upper : undefined),
         });
       } finally {
         progress.stop();
@@ -160,10 +169,16 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         ctx.setExit(1);
       }
       const counts = new Map<string, number>();
-      for (const c of out.map.classes) if (c) counts.set(c, (counts.get(c) ?? 0) + 1);
+      out.map.classes.forEach((c, i) => {
+        if (c && out.map.point_source?.[i] !== 'inferred') counts.set(c, (counts.get(c) ?? 0) + 1);
+      });
       const classes = [...counts].map(([c, n]) => `${n} ${c}`).join(', ');
+      const inferred =
+        out.inferred > 0
+          ? ` computed and ${out.inferred} inferred (not run: inside cells whose computed corners agree; marked in map.json, hatched in the report; --full computes every point)`
+          : '';
       process.stdout.write(
-        `${label}: ${out.finished}/${out.planned} points${out.resumed > 0 ? ` (${out.resumed} resumed)` : ''}` +
+        `${label}: ${out.finished}/${out.planned} points${inferred}${out.resumed > 0 ? ` (${out.resumed} resumed)` : ''}` +
           `${classes ? `: ${classes}` : ''} in ${formatDuration((Date.now() - t0) / 1000)} -> ${dir}\n`,
       );
       const pointLine = recommendedPointLine(out.map);

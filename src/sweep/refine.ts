@@ -1,0 +1,328 @@
+/**
+ * Maps that refine where the answer changes (docs/model.md §9, maps that refine): a sweep
+ * first computes a coarse grid, then subdivides a cell of it only where its corner points
+ * differ in class, or by more than a set margin in the compared metrics, down to the grid's
+ * own resolution. Grid points inside a cell whose corners all agree are not run: they are
+ * inferred, their class the corners' class and their metrics interpolated multilinearly
+ * over the corners (in index space, so in log space on a log axis), and marked as inferred
+ * in map.json (`point_source`).
+ *
+ * The plan is a pure function of the axes, the settings and the points computed so far.
+ * Every cell is decided from its own corners only, so:
+ * - `--resume` replays the plan over the points already in points.ndjson and runs only what
+ *   is still missing (a point is never run twice);
+ * - `--shard I/N` owns the coarse cells whose row-major ordinal is I - 1 modulo N and
+ *   refines inside them alone; corner points shared with a neighbour cell of another shard
+ *   are run in both (the results are identical, `merge` keeps one), and the merged map is
+ *   the map an unsharded refined sweep gives;
+ * - the map (which points are inferred, from which corners) is rebuilt from points.ndjson
+ *   by the same function at any time, also for an interrupted sweep.
+ */
+import type { MapAxis } from '../results/map';
+
+/** What the plan knows of a computed point. */
+export interface RefinePoint {
+  /** the class (a failed point has class 'numerical-failure') */
+  class: string;
+  /** the compared metrics (null where the run gave none) */
+  metrics: Record<string, number | null>;
+  /**
+   * relative standard error of the driven mean gap power (stderr / mean), when the run
+   * states one; differences within the combined noise of two points do not split a cell
+   */
+  rel_stderr: number | null;
+}
+
+export type { RefineMetric, RefineSettings } from '../results/sweep-header';
+import type { RefineSettings } from '../results/sweep-header';
+
+/** Default coarse step: 4 grid steps (a 32-point axis starts from 9 points, a 16-point one from 5). */
+export const DEFAULT_COARSE_STEP = 4;
+/**
+ * Default margin: 10 % in the compared metrics. On a smooth synthetic 32 x 32 map (the
+ * decoupling rule's gain curve over 3 decades of speed) margins of 5, 10 and 20 % inferred
+ * 20, 31 and 45 % of the points with worst gain errors of 0.14, 0.73 and 2.5 %: the margin
+ * bounds the error of a monotone metric, the error itself is far smaller.
+ */
+export const DEFAULT_REFINE_MARGIN = 0.1;
+
+/**
+ * The settings a sweep refines with: class, the gain over static (relative, power-like),
+ * the in-band ripple (relative to at least the ripple limit) and the hops per period
+ * (relative to at least the hop limit, or 1).
+ */
+export function defaultRefineSettings(
+  thresholds: { ripple_limit: number; max_hops_per_period: number },
+  margin = DEFAULT_REFINE_MARGIN,
+  coarse_step = DEFAULT_COARSE_STEP,
+): RefineSettings {
+  return {
+    coarse_step,
+    margin,
+    noise_factor: 2 * Math.SQRT2,
+    metrics: [
+      { name: 'gain_over_static', floor: 0, powerLike: true },
+      { name: 'ripple_rel', floor: thresholds.ripple_limit, powerLike: false },
+      { name: 'hops_per_period', floor: Math.max(1, thresholds.max_hops_per_period), powerLike: false },
+    ],
+  };
+}
+
+/** How one uncomputed point is inferred: the computed corners of its uniform cell and their weights. */
+export interface Inference {
+  corners: number[];
+  weights: number[];
+}
+
+export interface RefinePlan {
+  /** points whose results the plan needs next (not yet known), ascending */
+  need: number[];
+  /** uncomputed points inside a cell whose corners agree, and how each is inferred */
+  inferred: Map<number, Inference>;
+  /**
+   * the most points this sweep (or shard) can still come to hold: known + needed + the
+   * uncomputed points of cells still waiting for a corner or for a subdivision
+   */
+  upper_bound: number;
+  /** true when nothing more is needed: every owned cell is uniform or resolved to single steps */
+  complete: boolean;
+}
+
+/** Indices along one axis of the coarse grid: 0, step, 2 step, ..., and n - 1. */
+export function coarseIndices(n: number, step: number): number[] {
+  const s = Math.max(1, Math.floor(step));
+  const out: number[] = [];
+  for (let i = 0; i < n - 1; i += s) out.push(i);
+  out.push(n - 1);
+  return n === 1 ? [0] : out;
+}
+
+function stridesOf(dims: readonly number[]): number[] {
+  const st = new Array<number>(dims.length);
+  let acc = 1;
+  for (let k = dims.length - 1; k >= 0; k--) {
+    st[k] = acc;
+    acc *= dims[k];
+  }
+  return st;
+}
+
+/** Every flat index of the box lo..hi (inclusive) per axis. */
+function boxIndices(lo: readonly number[], hi: readonly number[], st: readonly number[]): number[] {
+  const out: number[] = [];
+  const rec = (k: number, base: number) => {
+    if (k === lo.length) {
+      out.push(base);
+      return;
+    }
+    for (let i = lo[k]; i <= hi[k]; i++) rec(k + 1, base + i * st[k]);
+  };
+  rec(0, 0);
+  return out;
+}
+
+/** The corners of a box (deduplicated along axes where lo == hi). */
+function cornerIndices(lo: readonly number[], hi: readonly number[], st: readonly number[]): number[] {
+  const out: number[] = [];
+  const rec = (k: number, base: number) => {
+    if (k === lo.length) {
+      out.push(base);
+      return;
+    }
+    rec(k + 1, base + lo[k] * st[k]);
+    if (hi[k] > lo[k]) rec(k + 1, base + hi[k] * st[k]);
+  };
+  rec(0, 0);
+  return out;
+}
+
+/**
+ * True when the corner points of a cell agree: one class (not 'numerical-failure'), and for each compared metric
+ * either all null or all finite with max - min at most margin x max(floor, max |v|) or
+ * within noise_factor standard errors (for power-like metrics with a stated error).
+ */
+export function cornersAgree(points: readonly RefinePoint[], settings: RefineSettings): boolean {
+  if (points.length <= 1) return true;
+  const cls = points[0].class;
+  if (points.some((p) => p.class !== cls)) return false;
+  // a failed point says nothing of its neighbours: a cell with one is always split
+  if (cls === 'numerical-failure') return false;
+  for (const m of settings.metrics) {
+    const vals = points.map((p) => p.metrics[m.name] ?? null);
+    const finite = vals.filter((v): v is number => v !== null && Number.isFinite(v));
+    if (finite.length === 0) continue;
+    if (finite.length !== vals.length) return false;
+    const lo = Math.min(...finite);
+    const hi = Math.max(...finite);
+    const scale = Math.max(m.floor, ...finite.map(Math.abs));
+    let allowed = settings.margin * scale;
+    if (m.powerLike) {
+      let noise = 0;
+      let stated = true;
+      points.forEach((p, i) => {
+        if (p.rel_stderr === null || !Number.isFinite(p.rel_stderr)) stated = false;
+        else noise = Math.max(noise, p.rel_stderr * Math.abs(vals[i] as number));
+      });
+      if (stated) allowed = Math.max(allowed, settings.noise_factor * noise);
+    }
+    if (hi - lo > allowed) return false;
+  }
+  return true;
+}
+
+/** Multilinear weights of the corners of box lo..hi at point p (corners in cornerIndices order). */
+function cornerWeights(lo: readonly number[], hi: readonly number[], p: readonly number[]): number[] {
+  const out: number[] = [];
+  const rec = (k: number, w: number) => {
+    if (k === lo.length) {
+      out.push(w);
+      return;
+    }
+    if (hi[k] > lo[k]) {
+      const t = (p[k] - lo[k]) / (hi[k] - lo[k]);
+      rec(k + 1, w * (1 - t));
+      rec(k + 1, w * t);
+    } else rec(k + 1, w);
+  };
+  rec(0, 1);
+  return out;
+}
+
+function unflatten(index: number, dims: readonly number[]): number[] {
+  const out = new Array<number>(dims.length);
+  let rest = index;
+  for (let k = dims.length - 1; k >= 0; k--) {
+    out[k] = rest % dims[k];
+    rest = Math.floor(rest / dims[k]);
+  }
+  return out;
+}
+
+/** Which coarse cells a shard owns: ordinal % count == index - 1 (every cell without a shard). */
+export function ownsCell(ordinal: number, shard: { index: number; count: number } | null): boolean {
+  return shard === null || ordinal % shard.count === shard.index - 1;
+}
+
+/**
+ * The refinement plan for a grid of `axes` given the points known so far (see the module
+ * comment). `shard` restricts it to the coarse cells that shard owns.
+ */
+export function planRefinement(
+  axes: readonly Pick<MapAxis, 'values'>[],
+  known: ReadonlyMap<number, RefinePoint>,
+  settings: RefineSettings,
+  shard: { index: number; count: number } | null = null,
+): RefinePlan {
+  const dims = axes.map((a) => a.values.length);
+  const st = stridesOf(dims);
+  const coarse = dims.map((n) => coarseIndices(n, settings.coarse_step));
+  const need = new Set<number>();
+  const inferred = new Map<number, Inference>();
+  const open = new Set<number>();
+
+  const visit = (lo: number[], hi: number[]): void => {
+    const corners = cornerIndices(lo, hi, st);
+    const missing = corners.filter((c) => !known.has(c));
+    if (missing.length > 0) {
+      for (const c of missing) need.add(c);
+      for (const i of boxIndices(lo, hi, st)) open.add(i);
+      return;
+    }
+    const pts = corners.map((c) => known.get(c) as RefinePoint);
+    if (cornersAgree(pts, settings)) {
+      for (const i of boxIndices(lo, hi, st)) {
+        if (known.has(i) || inferred.has(i)) continue;
+        inferred.set(i, { corners, weights: cornerWeights(lo, hi, unflatten(i, dims)) });
+      }
+      return;
+    }
+    if (lo.every((l, k) => hi[k] - l <= 1)) return;
+    // split every axis longer than one step at its middle, visit the 2^d children
+    const parts = lo.map((l, k) => {
+      const h = hi[k];
+      if (h - l <= 1) return [[l, h]];
+      const mid = Math.floor((l + h) / 2);
+      return [
+        [l, mid],
+        [mid, h],
+      ];
+    });
+    const rec = (k: number, clo: number[], chi: number[]) => {
+      if (k === parts.length) {
+        visit(clo, chi);
+        return;
+      }
+      for (const [a, b] of parts[k]) rec(k + 1, [...clo, a], [...chi, b]);
+    };
+    rec(0, [], []);
+  };
+
+  // coarse cells, row-major over the coarse intervals (one "interval" [0,0] on a one-value axis)
+  const intervals = coarse.map((c) =>
+    c.length === 1 ? [[c[0], c[0]]] : c.slice(1).map((b, j) => [c[j], b]),
+  );
+  let ordinal = 0;
+  const owned: number[][][] = [];
+  const rec = (k: number, cell: number[][]) => {
+    if (k === intervals.length) {
+      if (ownsCell(ordinal, shard)) owned.push(cell);
+      ordinal++;
+      return;
+    }
+    for (const iv of intervals[k]) rec(k + 1, [...cell, iv]);
+  };
+  rec(0, []);
+  for (const cell of owned)
+    visit(
+      cell.map((iv) => iv[0]),
+      cell.map((iv) => iv[1]),
+    );
+
+  // a point needed by one cell or still open in another is not (finally) inferred
+  for (const i of need) inferred.delete(i);
+  for (const i of open) inferred.delete(i);
+  const ownedKnown = new Set<number>();
+  for (const cell of owned)
+    for (const i of boxIndices(
+      cell.map((iv) => iv[0]),
+      cell.map((iv) => iv[1]),
+      st,
+    ))
+      if (known.has(i)) ownedKnown.add(i);
+  // open cells of a non-uniform parent may still be subdivided: every uncomputed point of them may run
+  let upper = ownedKnown.size + need.size;
+  for (const i of open) if (!known.has(i) && !need.has(i)) upper++;
+  // cells that split but are resolved hold no open points; non-uniform cells waiting on children were visited
+  return {
+    need: [...need].sort((a, b) => a - b),
+    inferred,
+    upper_bound: upper,
+    complete: need.size === 0,
+  };
+}
+
+/** Every grid index of the cells a shard owns (all indices without a shard). */
+export function ownedIndices(
+  axes: readonly Pick<MapAxis, 'values'>[],
+  settings: Pick<RefineSettings, 'coarse_step'>,
+  shard: { index: number; count: number } | null,
+): number[] {
+  const dims = axes.map((a) => a.values.length);
+  const st = stridesOf(dims);
+  const coarse = dims.map((n) => coarseIndices(n, settings.coarse_step));
+  const intervals = coarse.map((c) =>
+    c.length === 1 ? [[c[0], c[0]]] : c.slice(1).map((b, j) => [c[j], b]),
+  );
+  const out = new Set<number>();
+  let ordinal = 0;
+  const rec = (k: number, lo: number[], hi: number[]) => {
+    if (k === intervals.length) {
+      if (ownsCell(ordinal, shard)) for (const i of boxIndices(lo, hi, st)) out.add(i);
+      ordinal++;
+      return;
+    }
+    for (const [a, b] of intervals[k]) rec(k + 1, [...lo, a], [...hi, b]);
+  };
+  rec(0, [], []);
+  return [...out].sort((a, b) => a - b);
+}
