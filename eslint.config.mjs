@@ -17,7 +17,7 @@ const ROOMS = {
   results: { value: ['scenario'], types: ['physics'] },
   analysis: { value: ['numerics', 'results', 'physics', 'scenario'], types: [] },
   simulate: { value: ['physics', 'numerics', 'analysis', 'scenario', 'results'], types: [] },
-  sweep: { value: ['simulate', 'analysis', 'scenario', 'results'], types: [] },
+  sweep: { value: ['simulate', 'analysis', 'scenario', 'results', 'numerics'], types: [] },
   report: { value: ['results', 'scenario'], types: [] },
   cli: {
     value: ['numerics', 'scenario', 'physics', 'results', 'analysis', 'simulate', 'sweep', 'report'],

@@ -11,7 +11,7 @@ import { axisIndices, pointCount } from '../results/grid-index';
 import type { PointRecord } from '../results/points';
 import { reachableMask, recommendOperatingPoint } from '../analysis/operating-point';
 import { AMPLITUDE_KEY, FREQUENCY_KEY } from '../scenario/keypath';
-import type { Inference, RefinePoint, RefineSettings } from './refine';
+import type { RefinePoint, RefineSettings } from './refine';
 import { planRefinement } from './refine';
 
 /** Metrics of map.json and where each comes from in a point's summary. */
@@ -221,11 +221,10 @@ export function buildSweepMap(input: MapInput): SweepMap {
   const point_source: ('computed' | 'inferred' | null)[] = Array.from(byIndex, (r) =>
     r ? 'computed' : null,
   );
-  let inferred: Map<number, Inference> = new Map();
   if (input.refine) {
     const known = new Map<number, RefinePoint>();
     for (const r of input.records) if (r.index >= 0 && r.index < total) known.set(r.index, refinePointOf(r));
-    inferred = planRefinement(input.axes, known, input.refine, input.shard ?? null).inferred;
+    const inferred = planRefinement(input.axes, known, input.refine, input.shard ?? null).inferred;
     for (const [i, inf] of inferred) {
       if (byIndex[i]) continue;
       point_source[i] = 'inferred';
