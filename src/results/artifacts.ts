@@ -3,6 +3,8 @@
  * re-simulates). All values SI.
  */
 import type { RunSummary, StaticCurve } from './summary';
+import type { SpeedCurve } from './speed-curve';
+import { SPEED_CURVE_FILE } from './speed-curve';
 
 /** One decimated time series. Decimation keeps the min and max of each bucket, so spikes survive. */
 export interface TraceSeries {
@@ -40,6 +42,8 @@ export interface RunArtifacts {
   traces: TraceSet | null;
   spectra: SpectraSet | null;
   static_curve: StaticCurve | null;
+  /** the speed curve of the slow-drive path (docs/model.md §3.6), when that path ran */
+  speed_curve?: SpeedCurve | null;
 }
 
 /** File names inside a run folder. */
@@ -50,5 +54,6 @@ export const RUN_FILES = {
   spectra: 'spectra.json',
   spectraCsv: 'spectra.csv',
   staticCurve: 'static_curve.json',
+  speedCurve: SPEED_CURVE_FILE,
   report: 'report.html',
 } as const;

@@ -215,7 +215,7 @@ const actuator = z.strictObject({
 });
 
 const simulation = z.strictObject({
-  engine: choice(['auto', 'exact', 'fast', 'adiabatic'] as const).default('auto'),
+  engine: choice(['auto', 'exact', 'fast', 'adiabatic', 'speedcurve'] as const).default('auto'),
   settle: z.union([auto, quantity('time', positive)]).default('auto'),
   periods: integer(1, 1_000_000).default(20),
   substeps: integer(2, 64).default(2).describe('exact engine: time steps per external round trip'),

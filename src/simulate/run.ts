@@ -35,9 +35,12 @@ import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import { planEngines, EnginePlan } from './engine-choice';
 import { actuatorSheet } from '../physics/actuator';
+import type { SpeedCurve } from '../results/speed-curve';
+import { memoryTime } from './speed-curve';
+import { slowDriveRun } from './slow-drive';
 
 /** What `simulation.engine` and the commands' `--engine` may ask for. */
-export const ENGINE_CHOICES = ['auto', 'exact', 'fast', 'adiabatic'] as const;
+export const ENGINE_CHOICES = ['auto', 'exact', 'fast', 'adiabatic', 'speedcurve'] as const;
 export type EngineChoice = (typeof ENGINE_CHOICES)[number];
 
 export interface RunOptions {
@@ -47,6 +50,8 @@ export interface RunOptions {
   onProgress?: (fraction: number, label: string) => void;
   /** references computed earlier for a scenario with the same referenceKey */
   references?: References;
+  /** a speed curve computed earlier (reused and extended when its key matches) */
+  speedCurve?: SpeedCurve | null;
 }
 
 /** Free-running and static references; reusable across sweep points with the same referenceKey. */
@@ -191,11 +196,22 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const vPeak = peakSpeed(drive);
   const lambda = s.laser.wavelength;
   const tContStatic = staticSettleTime(params);
-  const plan: EnginePlan = planEngines(s, params, derived.finesse_external, tContStatic, requested);
+  const plan: EnginePlan = planEngines(
+    s,
+    params,
+    derived.finesse_external,
+    tContStatic,
+    requested,
+    memoryTime(params, free),
+  );
   const engine = plan.driven.kind;
-  const engineReason = `${plan.driven.reason}; static reference: ${refs.data.staticEngine} engine`;
+  let engineReason = `${plan.driven.reason}; static reference: ${refs.data.staticEngine} engine`;
+  let speedCurve: SpeedCurve | null = null;
   if (plan.driven.warning) warnings.push({ code: 'engine-validity', message: plan.driven.warning });
-  const dt = plan.driven.kind === 'adiabatic' ? plan.basis.exactStep_s : plan.driven.dt;
+  const dt =
+    plan.driven.kind === 'adiabatic' || plan.driven.kind === 'speedcurve'
+      ? plan.basis.exactStep_s
+      : plan.driven.dt;
 
   let driven: DrivenResult | null = null;
   let status: 'ok' | 'numerical-failure' = 'ok';
@@ -221,7 +237,8 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     const settleSteps = Math.ceil(settle_s / dt);
     const analysedSteps = Math.ceil(analysed_s / dt);
     const lanes = s.simulation.drive_offsets;
-    const laneSteps = engine === 'adiabatic' ? 0 : (settleSteps + analysedSteps) * lanes;
+    const laneSteps =
+      engine === 'adiabatic' || engine === 'speedcurve' ? 0 : (settleSteps + analysedSteps) * lanes;
     if (laneSteps > s.simulation.max_steps) {
       status = 'numerical-failure';
       message = `the driven run would take ${laneSteps.toExponential(2)} lane-steps, above simulation.max_steps = ${s.simulation.max_steps.toExponential(2)}; shorten simulation.periods, or let the engine choice (simulation.engine: auto) pick a faster engine`;
@@ -241,8 +258,32 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
         spectralSpread_Hz: spread,
         spectrumMode: specMode,
       };
-      driven =
-        engine === 'adiabatic' && stat
+      // slow-drive path (docs/model.md §3.6): its own module, same DrivenResult shape
+      const slow =
+        engine === 'speedcurve' && stat
+          ? slowDriveRun({
+              s,
+              p: params,
+              finesse: F,
+              regrowth_s: tContStatic,
+              stat,
+              free,
+              seed,
+              requested,
+              prior: opts.speedCurve ?? null,
+              laneOffsets_m: laneOffsets,
+              analysed_s,
+              common,
+              onProgress: (x) => progress(0.4 + 0.6 * x, 'slow drive'),
+            })
+          : null;
+      if (slow) {
+        speedCurve = slow.curve;
+        engineReason += slow.note;
+      }
+      driven = slow
+        ? slow.driven
+        : engine === 'adiabatic' && stat
           ? drivenAdiabatic(params, stat, {
               ...common,
               motion: createDrive(drive, seed),
@@ -253,7 +294,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
               peakSpeed_m_s: plan.basis.peakSpeed_m_s,
             })
           : drivenRun(params, {
-              engine: engine === 'adiabatic' ? 'exact' : engine,
+              engine: engine === 'adiabatic' || engine === 'speedcurve' ? 'exact' : engine,
               dt,
               motion: createDrive(drive, seed),
               laneOffsets_m: laneOffsets,
@@ -528,5 +569,6 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     traces: driven && !driven.failed ? driven.traces : null,
     spectra,
     static_curve: staticCurve,
+    speed_curve: speedCurve,
   };
 }
