@@ -55,6 +55,11 @@ export function memoryTime(p: CoupledParams, free: { intracavity_W: number }): n
   return Math.max(40 * response, MEMORY_REGROWTH_FACTOR * regrowth);
 }
 
+/** The stepping-engine request a speed curve is computed with: a named stepping engine, else the planner's choice. */
+export function steppingRequest(requested: string): string {
+  return requested === 'exact' || requested === 'fast' ? requested : 'auto';
+}
+
 /** The stepping engine (kind and step) the planner picks for a mirror moving at constant speed v. */
 export function steppingEngineFor(
   s: Scenario,
@@ -68,7 +73,7 @@ export function steppingEngineFor(
     ...s,
     drive: { ...s.drive, waveform: 'off', amplitude: 0, second_amplitude: 0, drift: v, vibration: undefined },
   };
-  const req = (requested === 'exact' || requested === 'fast' ? requested : 'auto') as 'auto';
+  const req = steppingRequest(requested) as 'auto';
   const plan = planEngines(still, p, finesse, regrowth_s, req);
   const k = plan.driven.kind as string;
   if (k === 'exact' || k === 'fast') return { kind: k, dt: plan.driven.dt };
@@ -78,7 +83,7 @@ export function steppingEngineFor(
 /** Key of a speed curve: laser, cavity, rest position, step settings, seed, engine request, band and dwell. */
 export function speedCurveKey(s: Scenario, seed: number, requested: string): string {
   const relevant = {
-    requested,
+    requested: steppingRequest(requested),
     laser: s.laser,
     external: s.external ?? null,
     offset: s.drive.offset,

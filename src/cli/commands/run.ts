@@ -4,6 +4,7 @@
  * reports/<scenario name>/), with a short table on stdout. Exit 0 when the run finished,
  * 1 on a numerical failure (the folder is still written), 2 on bad input.
  */
+import * as fs from 'node:fs';
 import * as path from 'node:path';
 import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
@@ -16,6 +17,21 @@ import { formatTable } from '../format';
 import { formatSI } from '../../scenario/units';
 import { writeRunFolder } from '../run-folder';
 import { safeFolderName } from '../../sweep/batch';
+import { SPEED_CURVE_FILE } from '../../results/speed-curve';
+import type { SpeedCurve } from '../../results/speed-curve';
+
+/**
+ * A speed curve left in the output folder by an earlier run (the run checks its key and
+ * reuses only a curve of the same laser and cavity), or null.
+ */
+function priorSpeedCurve(dir: string): SpeedCurve | null {
+  try {
+    const v = JSON.parse(fs.readFileSync(path.join(dir, SPEED_CURVE_FILE), 'utf8')) as SpeedCurve;
+    return typeof v.key === 'string' && Array.isArray(v.forward) && Array.isArray(v.backward) ? v : null;
+  } catch {
+    return null;
+  }
+}
 
 function parseSeed(text: string | undefined): number | undefined {
   if (text === undefined) return undefined;
@@ -114,7 +130,12 @@ export function registerRun(program: Command, ctx: CommandContext): void {
       const progress = createRunProgress({ label: `run ${s.name}`, quiet: o.quiet });
       let artifacts;
       try {
-        artifacts = runScenario(s, { engine: o.engine, seed, onProgress: progress.onProgress });
+        artifacts = runScenario(s, {
+          engine: o.engine,
+          seed,
+          onProgress: progress.onProgress,
+          speedCurve: priorSpeedCurve(out),
+        });
       } finally {
         progress.stop();
       }
