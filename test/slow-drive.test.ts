@@ -4,10 +4,12 @@
  * stepping of the same scenario at frequencies on both sides of the criterion.
  */
 import { describe, expect, it } from 'vitest';
-import { computeReferences, runScenario } from '../src/simulate/run';
+import { computeReferences, runScenario, staticSettleTime } from '../src/simulate/run';
+import { freeRunning } from '../src/simulate/references';
+import { createRng } from '../src/numerics/rng';
 import { deriveAll } from '../src/physics/derive';
 import { ensureSpeedCurve, memoryTime, speedCurveKey } from '../src/simulate/speed-curve';
-import { slowDriveCheck, SLOW_DRIVE_MAX_MEMORY_RATIO } from '../src/simulate/engine-choice';
+import { planEngines, slowDriveCheck, SLOW_DRIVE_MAX_MEMORY_RATIO } from '../src/simulate/engine-choice';
 import type { SpeedCurve } from '../src/results/speed-curve';
 import { laserInput, scenario } from './fixtures/engine/build';
 
@@ -88,9 +90,10 @@ describe('slow-drive criterion', () => {
 });
 
 describe('slow-drive path against direct stepping', () => {
-  it('agrees in mean gap power, laser output and in-band ripple on both sides of the criterion', () => {
+  it('agrees inside the criterion; outside it, auto steps directly and the in-band ripple of the path is off', () => {
     // The second method is direct stepping of the same scenario (mean-field engine where it
-    // is valid, else the delay line), same rest offsets, same analysed periods.
+    // is valid, else the delay line), same rest offsets, same analysed periods. One speed
+    // curve serves all three frequencies (same laser and cavity).
     let curve: SpeedCurve | null = null;
     const cases = [
       { f: '4 kHz', direct: 'fast', inside: true },
@@ -98,20 +101,38 @@ describe('slow-drive path against direct stepping', () => {
       { f: '30 kHz', direct: 'exact', inside: false },
     ];
     for (const c of cases) {
-      const auto = runScenario(mk(c.f, 'auto'), { speedCurve: curve });
-      expect(auto.summary.engine === 'speedcurve').toBe(c.inside);
+      const s = mk(c.f, 'auto');
+      const { derived, params } = deriveAll(s);
+      const free = freeRunning(params, createRng(3).fork(1));
+      const plan = planEngines(
+        s,
+        params,
+        derived.finesse_external,
+        staticSettleTime(params),
+        'auto',
+        memoryTime(params, free),
+      );
+      expect(plan.driven.kind === 'speedcurve').toBe(c.inside);
       const slow = runScenario(mk(c.f, 'speedcurve'), { speedCurve: curve });
       if (slow.speed_curve) curve = slow.speed_curve;
       const direct = runScenario(mk(c.f, c.direct)).summary.driven!;
       const d = slow.summary.driven!;
-      // Both are means over the same 4 rest offsets; their own standard errors (spread of
-      // the offsets' means / 2) are about 0.5 % here. Measured: 0.2 % at 4 kHz, 0.0 % at
-      // 8 and 30 kHz; 2 % is four times the offsets' error.
+      // Both are means over the same 4 rest offsets, whose means spread by about +-6 %, so
+      // each mean's own standard error is about 3 %; the two share the offsets, and measured
+      // differences were -0.2 % (4 kHz), -0.15 % (8 kHz), +0.1 % (30 kHz): 2 % bounds them.
       expect(Math.abs(d.external_mean_W / direct.external_mean_W - 1)).toBeLessThan(0.02);
       expect(Math.abs(d.laser_output_mean_W / direct.laser_output_mean_W - 1)).toBeLessThan(0.02);
-      // In-band ripple: peak to peak of a 100 us boxcar over 2 periods, a statistic of its
-      // extremes; measured 11 % low at 4 kHz; 35 % bounds it (the curve alone was 2x low).
-      expect(Math.abs(d.ripple_rel / direct.ripple_rel - 1)).toBeLessThan(0.35);
+      const ripple = d.ripple_rel / direct.ripple_rel - 1;
+      if (c.inside) {
+        // In-band ripple: peak to peak of a 100 us boxcar over 2 periods, a statistic of its
+        // extremes; measured -11 % (4 kHz) and -27 % (8 kHz); the curve alone was 1.4-2x low.
+        expect(Math.abs(ripple)).toBeLessThan(0.35);
+      } else {
+        // Outside (2 pi f tau_mem = 0.086): the turning points are averaged away by the
+        // detector (2 f above the band) and what is left is the seams between windows and
+        // curve: measured 3.1x the direct ripple. This is why auto steps directly here.
+        expect(ripple).toBeGreaterThan(0.35);
+      }
     }
   });
 });
