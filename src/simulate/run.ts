@@ -280,6 +280,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       if (slow) {
         speedCurve = slow.curve;
         engineReason += slow.note;
+        analysed_s = slow.analysed_s;
       }
       driven = slow
         ? slow.driven

@@ -59,7 +59,7 @@ export const WINDOW_EDGE_MIN_FRACTION = 0.02;
  * dependence on position (the turning-point dip), so that stretch is stepped too. Without
  * it the in-band ripple came out 1.4-2x low against direct stepping (docs/model.md §3.6).
  */
-export const WINDOW_BAND_HALF_WAVES = 4;
+export const WINDOW_BAND_HALF_WAVES = 3;
 /** Memory times stepped after the speed has risen back above v_w (the lag after a turning point). */
 export const WINDOW_TAIL = 3;
 /** Memory times collected before the speed falls below v_w. */
@@ -200,10 +200,17 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
   const B = o.detectionBandwidth_Hz;
   let dt_s = Math.min(1 / (100 * B), o.hopDwell_s > 0 ? o.hopDwell_s / 2 : Infinity, tau / 4);
   if (f > 0) dt_s = Math.min(dt_s, 1 / (4000 * f));
-  let samples = Math.ceil(o.analysed_s / dt_s);
+  // A sine or triangle without drift repeats exactly every period once spliced (its windows
+  // are reused), so more periods than the detector needs add nothing to the statistics.
+  const periodic =
+    (o.drive.waveform === 'sine' || o.drive.waveform === 'triangle') && o.drive.drift === 0 && f > 0;
+  const analysed_s = periodic
+    ? Math.min(o.analysed_s, Math.ceil(Math.max(2, (4 * f) / B)) / f)
+    : o.analysed_s;
+  let samples = Math.ceil(analysed_s / dt_s);
   if (samples > SLOW_MAX_SAMPLES) {
     samples = SLOW_MAX_SAMPLES;
-    dt_s = o.analysed_s / samples;
+    dt_s = analysed_s / samples;
   }
   const T = samples * dt_s;
 
@@ -228,8 +235,7 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     while (Math.abs(motion.velocity(r.t + a)) < vw && a < 0.5 / Math.max(f, 1 / T)) a += stepT;
     return { ...r, before: b + WINDOW_BEFORE * tau, after: a + WINDOW_TAIL * tau, stepped: -1 };
   });
-  const periodic =
-    (o.drive.waveform === 'sine' || o.drive.waveform === 'triangle') && o.drive.drift === 0 && f > 0;
+
   const chosen: TurningPoint[] = [];
   for (const tp of tps) {
     const same = chosen.filter((c) => c.dir === tp.dir);
@@ -519,6 +525,7 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
       window_fraction: 1 - curveSamples / samples,
       splice_mismatch_rel: splice,
       sample_step_s: dt_s,
+      analysed_s,
     },
   } as DrivenResult & { slow: SlowDriveInfo };
 }
@@ -534,6 +541,8 @@ export interface SlowDriveInfo {
   /** largest |window / curve - 1| over the tail of each window (WINDOW_TAIL memory times; a few lanes sample a position-dependent power there, so it holds their sampling error too) */
   splice_mismatch_rel: number;
   sample_step_s: number;
+  /** time the spliced series was analysed over, s (whole periods for a repeating drive) */
+  analysed_s: number;
 }
 
 function failed(message: string, steps: number, laneSteps: number): DrivenResult {
@@ -586,6 +595,8 @@ export function slowDriveRun(i: SlowDriveRunInput): {
   driven: DrivenResult;
   curve: SpeedCurve | null;
   note: string;
+  /** time the statistics cover, s */
+  analysed_s: number;
 } {
   const { s, p } = i;
   const memory_s = memoryTime(p, i.free);
@@ -607,7 +618,7 @@ export function slowDriveRun(i: SlowDriveRunInput): {
   };
   const curve = ensureSpeedCurve(i.prior, ctx, vLo, vPeak);
   if (typeof curve === 'string')
-    return { driven: failed(`speed curve: ${curve}`, 0, 0), curve: null, note: '' };
+    return { driven: failed(`speed curve: ${curve}`, 0, 0), curve: null, note: '', analysed_s: i.analysed_s };
   const driven = drivenSlow(p, {
     ...i.common,
     drive: s.drive,
@@ -625,7 +636,7 @@ export function slowDriveRun(i: SlowDriveRunInput): {
   const info = (driven as DrivenResult & { slow?: SlowDriveInfo }).slow;
   const fmt = (x: number) => x.toPrecision(3);
   const note = info
-    ? `; speed curve ${curve.forward.length} + ${curve.backward.length} speeds from ${fmt(curve.forward[0].speed_m_s)} to ${fmt(curve.forward[curve.forward.length - 1].speed_m_s)} m/s; turning points stepped directly (${info.windows} windows, ${fmt(100 * info.window_fraction)} % of the time), splice mismatch ${fmt(100 * info.splice_mismatch_rel)} %`
+    ? `; statistics over ${fmt(info.analysed_s)} s (the spliced series repeats every period); speed curve ${curve.forward.length} + ${curve.backward.length} speeds from ${fmt(curve.forward[0].speed_m_s)} to ${fmt(curve.forward[curve.forward.length - 1].speed_m_s)} m/s; turning points stepped directly (${info.windows} windows, ${fmt(100 * info.window_fraction)} % of the time), splice mismatch ${fmt(100 * info.splice_mismatch_rel)} %`
     : '';
-  return { driven, curve, note };
+  return { driven, curve, note, analysed_s: info ? info.analysed_s : i.analysed_s };
 }

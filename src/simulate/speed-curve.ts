@@ -32,7 +32,7 @@ export const SPEED_LATTICE_PER_DECADE = 8;
  * the straight line (in log speed) through its two base neighbours by more than this
  * fraction, the points between it and both neighbours are added.
  */
-export const SPEED_REFINE_BEND = 0.03;
+export const SPEED_REFINE_BEND = 0.05;
 
 /**
  * Memory time of the coupled system, s: the regrowth of a mode from the noise floor to the
