@@ -25,6 +25,7 @@ export function writeRunFolder(dir: string, a: RunArtifacts, label = 'dithercav'
     fs.writeFileSync(path.join(dir, RUN_FILES.spectraCsv), spectraSetToCsv(a.spectra));
   }
   if (a.static_curve) put(RUN_FILES.staticCurve, a.static_curve);
+  if (a.speed_curve) put(RUN_FILES.speedCurve, a.speed_curve);
   put(RUN_FILES.summary, a.summary);
   try {
     return writeRunReport(dir);

@@ -8,6 +8,7 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { runScenario } from '../simulate/run';
 import type { EngineChoice } from '../simulate/run';
 import type { Scenario } from '../scenario/schema';
+import type { SpeedCurve } from '../results/speed-curve';
 import { InputError } from '../scenario/errors';
 import type { InputProblem } from '../scenario/errors';
 
@@ -16,6 +17,8 @@ export interface RunThreadInput {
   scenario: Scenario;
   engine?: EngineChoice;
   seed?: number;
+  /** a speed curve from an earlier run in the output folder (reused if its key matches) */
+  speedCurve?: SpeedCurve | null;
 }
 
 /** What the thread posts back. */
@@ -34,6 +37,7 @@ if (parentPort) {
     const artifacts = runScenario(input.scenario, {
       engine: input.engine,
       seed: input.seed,
+      speedCurve: input.speedCurve ?? null,
       onProgress: (fraction, label) => {
         // at most ten messages a second, and every change of phase
         const now = Date.now();

@@ -3,6 +3,7 @@
  * re-simulates). All values SI.
  */
 import type { RunSummary, StaticCurve } from './summary';
+import type { SpeedCurve } from './speed-curve';
 
 /** One decimated time series. Decimation keeps the min and max of each bucket, so spikes survive. */
 export interface TraceSeries {
@@ -40,6 +41,8 @@ export interface RunArtifacts {
   traces: TraceSet | null;
   spectra: SpectraSet | null;
   static_curve: StaticCurve | null;
+  /** the speed curve of the slow-drive path (docs/model.md §3.6), when that path ran */
+  speed_curve?: SpeedCurve | null;
 }
 
 /** File names inside a run folder (./files.ts). */

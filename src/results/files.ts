@@ -15,6 +15,7 @@ export const RUN_FILES = {
   spectra: 'spectra.json',
   spectraCsv: 'spectra.csv',
   staticCurve: 'static_curve.json',
+  speedCurve: 'speed_curve.json',
   report: 'report.html',
 } as const;
 

@@ -237,9 +237,16 @@ const actuator = z.strictObject({
 });
 
 const simulation = z.strictObject({
-  engine: choice(['auto', 'roundtrip', 'modal', 'meanfield', 'adiabatic', 'exact', 'fast'] as const).default(
+  engine: choice([
     'auto',
-  ),
+    'roundtrip',
+    'modal',
+    'meanfield',
+    'adiabatic',
+    'exact',
+    'fast',
+    'speedcurve',
+  ] as const).default('auto'),
   settle: z.union([auto, quantity('time', positive)]).default('auto'),
   periods: integer(1, 1_000_000)
     .default(20)

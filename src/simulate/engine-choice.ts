@@ -15,7 +15,7 @@ import type { EngineKind } from '../physics/coupled/factory';
 import { peakSpeed } from '../physics/drive';
 import { roundTripStepFor } from '../physics/coupled/roundtrip';
 
-export type DrivenEngine = EngineKind | 'adiabatic';
+export type DrivenEngine = EngineKind | 'adiabatic' | 'speedcurve';
 
 /** The name users see for each engine kind. */
 export const ENGINE_NAMES: Record<DrivenEngine, string> = {
@@ -23,10 +23,12 @@ export const ENGINE_NAMES: Record<DrivenEngine, string> = {
   exact: 'modal',
   fast: 'meanfield',
   adiabatic: 'adiabatic',
+  speedcurve: 'speedcurve',
 };
 
 /** What a scenario or the command line may ask for; 'exact' and 'fast' are the 0.1 names, kept for one release. */
-export type EngineRequest = 'auto' | 'roundtrip' | 'modal' | 'meanfield' | 'adiabatic' | 'exact' | 'fast';
+export type EngineRequest =
+  'auto' | 'roundtrip' | 'modal' | 'meanfield' | 'adiabatic' | 'speedcurve' | 'exact' | 'fast';
 
 /** The 0.1 engine names and what they are now. */
 export const DEPRECATED_ENGINE_NAMES: Partial<Record<EngineRequest, EngineRequest>> = {
@@ -162,6 +164,8 @@ export function planEngines(
   finesse: number,
   regrowth_s: number,
   requestedIn: EngineRequest,
+  /** memory time of the coupled system (docs/model.md §3.6), s; without it the slow-drive path is not considered */
+  memory_s?: number,
 ): EnginePlan {
   const requested = DEPRECATED_ENGINE_NAMES[requestedIn] ?? requestedIn;
   const modalRequest =
@@ -171,8 +175,10 @@ export function planEngines(
         ? 'fast'
         : requested === 'adiabatic'
           ? 'adiabatic'
-          : 'auto';
-  const m = planModalEngines(s, p, finesse, regrowth_s, modalRequest);
+          : requested === 'speedcurve'
+            ? 'speedcurve'
+            : 'auto';
+  const m = planModalEngines(s, p, finesse, regrowth_s, modalRequest, memory_s);
   const rt = roundTripStepFor(p).dt;
   const X = couplingStrength(p);
   const F = Number.isFinite(finesse) && finesse > 0 ? finesse : 1;
@@ -202,13 +208,14 @@ export function planEngines(
     const w = [m.driven.warning, allowed ? null : notValid].filter((x) => x !== null).join('; ');
     return plan(m.static, { ...m.driven, warning: w === '' ? null : w });
   }
-  if (requested === 'adiabatic') return plan(allowed ? m.static : rtStatic, { ...m.driven });
+  if (requested === 'adiabatic' || requested === 'speedcurve')
+    return plan(allowed ? m.static : rtStatic, { ...m.driven });
   // auto
   if (allowed) return plan(m.static, { ...m.driven, reason: `${modalReason}; ${m.driven.reason}` });
-  if (m.driven.kind === 'adiabatic')
+  if (m.driven.kind === 'adiabatic' || m.driven.kind === 'speedcurve')
     return plan(rtStatic, {
       ...m.driven,
-      reason: `${m.driven.reason}; static curve from the round-trip engine (${modalReason})`,
+      reason: `${m.driven.reason}; static curve${m.driven.kind === 'speedcurve' ? ' and speed curve' : ''} from the round-trip engine (${modalReason})`,
     });
   return plan(rtStatic, {
     kind: 'roundtrip',
@@ -224,7 +231,8 @@ function planModalEngines(
   p: CoupledParams,
   finesse: number,
   regrowth_s: number,
-  requested: 'auto' | 'exact' | 'fast' | 'adiabatic',
+  requested: 'auto' | 'exact' | 'fast' | 'adiabatic' | 'speedcurve',
+  memory_s?: number,
 ): Pick<EnginePlan, 'static' | 'driven' | 'basis'> {
   const lambda = s.laser.wavelength;
   const exactStep = exactEngineStep(s, p);
@@ -294,6 +302,21 @@ function planModalEngines(
       basis,
     };
   }
+  // ---- slow-drive path (docs/model.md §3.6): a step of its own, before the stepping engines
+  const slow = memory_s !== undefined ? slowDriveCheck(s, memory_s) : null;
+  if (slow && (requested === 'speedcurve' || (slow.applies && p.hasExternal && !adiabaticValid))) {
+    return {
+      static: stat,
+      driven: {
+        kind: 'speedcurve',
+        dt: 0,
+        reason: requested === 'speedcurve' ? 'requested' : slow.reason,
+        warning: slow.applies ? null : `the speed-curve path was requested but ${slow.reason}`,
+      },
+      basis,
+    };
+  }
+  // ---- end of the slow-drive step
   if (moving && p.hasExternal && adiabaticValid) {
     return {
       static: stat,
@@ -325,5 +348,69 @@ function planModalEngines(
     static: stat,
     driven: { kind: 'exact', dt: exactStep, reason: `${why}${stepNote}`, warning: null },
     basis,
+  };
+}
+
+// ---- slow-drive criterion (docs/model.md §3.6) ------------------------------------------
+
+/**
+ * Largest 2 pi f tau_mem for the slow-drive path. Each turning point is stepped directly
+ * over a window of about (2 x 3 + 4) tau_mem (see simulate/slow-drive.ts), two per period:
+ * at 0.05 the windows take a sixth of the period and the speed curve starts at 0.15 of the
+ * peak speed. Measured against direct stepping: see docs/model.md §3.6.
+ */
+export const SLOW_DRIVE_MAX_MEMORY_RATIO = 0.05;
+/** Fewest half wavelengths per stroke: with one or two there is no averaged moving state. */
+export const SLOW_DRIVE_MIN_HALF_WAVES = 20;
+
+export interface SlowDriveCheck {
+  applies: boolean;
+  /** 2 pi f tau_mem with f the highest drive frequency */
+  memoryRatio: number;
+  /** peak-to-peak stroke over lambda / 2 (smallest stroke of a two-tone drive's tones) */
+  halfWaves: number;
+  reason: string;
+}
+
+/** Whether a drive is slow enough and long enough in stroke for the slow-drive path. */
+export function slowDriveCheck(s: Scenario, memory_s: number): SlowDriveCheck {
+  const d = s.drive;
+  const half = s.laser.wavelength / 2;
+  const fmt = (x: number) => x.toPrecision(3);
+  const fMax =
+    d.waveform === 'two-tone' && d.second_amplitude > 0
+      ? Math.max(d.frequency, d.second_frequency)
+      : d.frequency;
+  const stroke =
+    d.waveform === 'two-tone' && d.second_amplitude > 0
+      ? 2 * Math.max(d.amplitude, d.second_amplitude)
+      : 2 * d.amplitude;
+  const memoryRatio = 2 * Math.PI * fMax * memory_s;
+  const halfWaves = stroke / half;
+  const base = { memoryRatio, halfWaves };
+  if (d.waveform === 'off' || d.amplitude <= 0)
+    return { ...base, applies: false, reason: 'the mirror is not driven' };
+  if (d.vibration && d.vibration.rms > 0)
+    return {
+      ...base,
+      applies: false,
+      reason: 'a random vibration adds turning points the path does not place',
+    };
+  if (memoryRatio > SLOW_DRIVE_MAX_MEMORY_RATIO)
+    return {
+      ...base,
+      applies: false,
+      reason: `2 pi f tau_mem = ${fmt(memoryRatio)} > ${SLOW_DRIVE_MAX_MEMORY_RATIO} (tau_mem ${fmt(memory_s)} s): the drive is not slow against the system's memory`,
+    };
+  if (halfWaves < SLOW_DRIVE_MIN_HALF_WAVES)
+    return {
+      ...base,
+      applies: false,
+      reason: `the stroke spans ${fmt(halfWaves)} half wavelengths < ${SLOW_DRIVE_MIN_HALF_WAVES}: no averaged moving state`,
+    };
+  return {
+    ...base,
+    applies: true,
+    reason: `slow drive: 2 pi f tau_mem = ${fmt(memoryRatio)} <= ${SLOW_DRIVE_MAX_MEMORY_RATIO} (tau_mem ${fmt(memory_s)} s) and the stroke spans ${fmt(halfWaves)} half wavelengths >= ${SLOW_DRIVE_MIN_HALF_WAVES}`,
   };
 }

@@ -28,6 +28,9 @@ import {
   StaticResult,
 } from './references';
 import { combineBudgets, peakIntensityOf } from './budget';
+import type { SpeedCurve } from '../results/speed-curve';
+import { memoryTime } from './speed-curve';
+import { slowDriveRun } from './slow-drive';
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import {
@@ -48,6 +51,8 @@ export interface RunOptions {
   onProgress?: (fraction: number, label: string) => void;
   /** references computed earlier for a scenario with the same referenceKey */
   references?: References;
+  /** a speed curve computed earlier (reused and extended when its key matches) */
+  speedCurve?: SpeedCurve | null;
 }
 
 /** Free-running and static references; reusable across sweep points with the same referenceKey. */
@@ -164,6 +169,8 @@ export interface RunPlan {
   drives: boolean;
   /** failure known before stepping: the static reference failed or the step budget refuses the run */
   failure: string | null;
+  /** the slow-drive path's state (docs/model.md §3.6): its speed curve, its note for the reason */
+  slow: { curve: SpeedCurve | null; note: string; prior: SpeedCurve | null };
 }
 
 /**
@@ -184,7 +191,14 @@ export function planRun(
   const drive = s.drive;
   const f = driveMoves(drive) ? drive.frequency : null;
   const tContStatic = staticSettleTime(params);
-  const engines: EnginePlan = planEngines(s, params, derived.finesse_external, tContStatic, requested);
+  const engines: EnginePlan = planEngines(
+    s,
+    params,
+    derived.finesse_external,
+    tContStatic,
+    requested,
+    memoryTime(params, refs.data.free),
+  );
   const engine = engines.driven.kind;
   const warnings: Warning[] = [];
   if (engines.driven.warning) warnings.push({ code: 'engine-validity', message: engines.driven.warning });
@@ -206,7 +220,7 @@ export function planRun(
     engineName: engineName(engine),
     engineReason: `${engines.driven.reason}; static reference: ${engineName(refs.data.staticEngine as EngineKind)} engine`,
     warnings,
-    dt: engine === 'adiabatic' ? engines.basis.exactStep_s : engines.driven.dt,
+    dt: engine === 'adiabatic' || engine === 'speedcurve' ? engines.basis.exactStep_s : engines.driven.dt,
     settle_s: 0,
     analysed_s: 0,
     settleSteps: 0,
@@ -217,6 +231,7 @@ export function planRun(
     maxLaneSteps: s.simulation.max_steps,
     drives: false,
     failure: stat && stat.failed ? `static reference: ${stat.failed}` : null,
+    slow: { curve: null, note: '', prior: opts.speedCurve ?? null },
   };
   if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
   // the lanes start from settled static states: one drive period (both turning points) and
@@ -250,7 +265,9 @@ function offsetRng(seed: number): Rng {
 
 /** Lane-steps one batch of `lanes` offsets costs (the adiabatic path steps no fields). */
 export function batchLaneSteps(plan: RunPlan, lanes: number): number {
-  return plan.engine === 'adiabatic' ? 0 : (plan.settleSteps + plan.analysedSteps) * lanes;
+  return plan.engine === 'adiabatic' || plan.engine === 'speedcurve'
+    ? 0
+    : (plan.settleSteps + plan.analysedSteps) * lanes;
 }
 
 /** Relative standard error of the mean gap power over the offsets of a driven result (Infinity if unknown). */
@@ -392,6 +409,29 @@ export function executeRun(
     // strongest mode of the static reference (up branch at position 0), for the optical spectrum
     spectrumMode: stat ? stat.up[0].dominant : 0,
   };
+  if (plan.engine === 'speedcurve' && stat) {
+    // slow-drive path (docs/model.md §3.6): its own module, the same DrivenResult shape; the
+    // speed curve is computed once and extended by later batches
+    const slow = slowDriveRun({
+      s,
+      p: params,
+      finesse: derived.finesse_external,
+      regrowth_s: staticSettleTime(params),
+      stat,
+      free,
+      seed: plan.seed,
+      requested: s.simulation.engine,
+      prior: plan.slow.curve ?? plan.slow.prior,
+      laneOffsets_m,
+      analysed_s: plan.analysed_s,
+      common,
+      onProgress,
+    });
+    plan.slow.curve = slow.curve;
+    plan.slow.note = slow.note;
+    plan.analysed_s = slow.analysed_s;
+    return slow.driven;
+  }
   if (plan.engine === 'adiabatic' && stat) {
     return drivenAdiabatic(params, stat, {
       ...common,
@@ -404,7 +444,7 @@ export function executeRun(
     });
   }
   return drivenRun(params, {
-    engine: plan.engine === 'adiabatic' ? 'exact' : plan.engine,
+    engine: plan.engine === 'adiabatic' || plan.engine === 'speedcurve' ? 'exact' : plan.engine,
     dt: plan.dt,
     motion: createDrive(drive, plan.seed),
     laneOffsets_m,
@@ -441,6 +481,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     : null;
   const driven = converged ? converged.driven : null;
 
+  if (plan.slow.note) plan.engineReason += plan.slow.note;
   const wall = (Date.now() - wall0) / 1000;
   const { free, stat } = refs.data;
   const summary = summariseRun({
@@ -482,5 +523,6 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
     traces: ok ? ok.traces : null,
     spectra,
     static_curve: stat && !stat.failed ? staticCurveOf(stat) : null,
+    speed_curve: plan.slow.curve,
   };
 }

@@ -12,6 +12,7 @@ import type { References } from '../simulate';
 import type { RunArtifacts } from '../results/artifacts';
 import { errorPointSummary, pointSummaryOf } from '../results/points';
 import type { PointRecord } from '../results/points';
+import type { SpeedCurve } from '../results/speed-curve';
 
 /**
  * One sweep point. Points with the same `referenceKey` share their free-running and
@@ -61,6 +62,12 @@ function referencesFor(task: PointTask): References {
   return refs;
 }
 
+/**
+ * Speed curves (slow-drive path, docs/model.md §3.6) kept per thread by reference key: a
+ * run checks the curve's own key, reuses its points and extends it to the speeds it needs.
+ */
+const speedCurveCache = new Map<string, SpeedCurve>();
+
 function messageOf(err: unknown): string {
   if (err instanceof InputError) return `bad input: ${err.message}`;
   if (err instanceof Error) return err.message || err.name;
@@ -78,7 +85,16 @@ export function runPointTask(task: PointTask): PointRecord {
   const t0 = process.hrtime.bigint();
   let summary;
   try {
-    const art = runScenario(task.scenario, { references: referencesFor(task) });
+    const art = runScenario(task.scenario, {
+      references: referencesFor(task),
+      speedCurve: speedCurveCache.get(task.referenceKey) ?? null,
+    });
+    if (art.speed_curve) {
+      speedCurveCache.delete(task.referenceKey);
+      speedCurveCache.set(task.referenceKey, art.speed_curve);
+      while (speedCurveCache.size > REFERENCE_CACHE_SIZE)
+        speedCurveCache.delete(speedCurveCache.keys().next().value as string);
+    }
     summary = pointSummaryOf(art.summary);
   } catch (err) {
     summary = errorPointSummary(messageOf(err), err instanceof Error ? (err.stack ?? null) : null);

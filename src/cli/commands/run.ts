@@ -12,6 +12,8 @@ import type { CommandContext } from '../main';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
 import { runScenario } from '../../simulate/run';
+import { SPEED_CURVE_FILE } from '../../results/speed-curve';
+import type { SpeedCurve } from '../../results/speed-curve';
 import { ENGINE_CHOICES, EngineChoice } from '../../scenario/schema';
 import type { RunSummary } from '../../results/summary';
 import type { RunArtifacts } from '../../results/artifacts';
@@ -129,6 +131,19 @@ export function interruptedRunMessage(out: string, label: string | null, fractio
 }
 
 /**
+ * A speed curve left in the output folder by an earlier run (the run checks its key and
+ * reuses only a curve of the same laser and cavity), or null.
+ */
+function priorSpeedCurve(dir: string): SpeedCurve | null {
+  try {
+    const v = JSON.parse(fs.readFileSync(path.join(dir, SPEED_CURVE_FILE), 'utf8')) as SpeedCurve;
+    return typeof v.key === 'string' && Array.isArray(v.forward) && Array.isArray(v.backward) ? v : null;
+  } catch {
+    return null;
+  }
+}
+
+/**
  * Run the scenario on a worker thread (dist/cli/run-thread.js) so Ctrl-C is heard while
  * it computes: the first SIGINT/SIGTERM stops the thread, says what was kept and exits
  * 130; a second one exits at once. Without the compiled thread file (running from src/),
@@ -142,7 +157,12 @@ async function runOnThread(
 ): Promise<RunArtifacts> {
   const file = path.join(__dirname, '..', 'run-thread.js');
   if (!fs.existsSync(file))
-    return runScenario(input.scenario, { engine: input.engine, seed: input.seed, onProgress });
+    return runScenario(input.scenario, {
+      engine: input.engine,
+      seed: input.seed,
+      onProgress,
+      speedCurve: input.speedCurve ?? null,
+    });
   const worker = new Worker(file, { workerData: input });
   let label: string | null = null;
   let fraction = 0;
@@ -219,7 +239,7 @@ export function registerRun(program: Command, ctx: CommandContext): void {
         let artifacts: RunArtifacts;
         try {
           artifacts = await runOnThread(
-            { scenario: s, engine: o.engine, seed },
+            { scenario: s, engine: o.engine, seed, speedCurve: priorSpeedCurve(out) },
             out,
             progress.onProgress,
             (m) => {

@@ -1,0 +1,642 @@
+/**
+ * The slow-drive path of docs/model.md §3.6 (engine name `speedcurve`). When the drive
+ * period is long against the coupled system's memory tau_mem and each stroke spans many
+ * half wavelengths, the system at each instant is in the steady state of a mirror moving
+ * at the instantaneous speed, except near the turning points. So:
+ *
+ * - away from the turning points the gap power, laser output, mode powers and hop rate
+ *   come from the speed curve (simulate/speed-curve.ts) at the instantaneous speed and
+ *   direction, which a drive samples as its waveform dictates (a sine spends the time
+ *   (2/pi) d(arcsin(v / v_peak)) at each speed; a triangle all its time at one speed);
+ * - each turning point is stepped directly, over a short window: from where the speed
+ *   falls below v_w (windowEdge: the largest of WINDOW_EDGE a tau_mem, a the acceleration
+ *   at the turning point; a fiftieth of the peak speed; and the speed at which a detector
+ *   window spans WINDOW_BAND_HALF_WAVES half wavelengths)
+ *   to TAIL memory times after it rises above v_w again, preceded by LEAD memory times of
+ *   lead-in from the settled static state at the lane's position (the static curve at a
+ *   random rest position: the lanes keep the run's rest offsets); the lanes' fields there
+ *   are the real ones, with the true turning-point dip, the lag after it, and its hops;
+ * - both are spliced, sample by sample, into one series per lane, which goes through the
+ *   same analysis as every engine's (DrivenAnalysis): statistics, the detection-band
+ *   boxcar (so the in-band ripple comes from the stepped turning points, not from the
+ *   curve alone, which was measured 2-15x low for strokes of a few micrometres), hops,
+ *   traces and the RIN spectrum. The curve's full-band spread (the bursts at every
+ *   resonance crossing, which no sample of the curve holds) is added to the variance and
+ *   the extremes afterwards, and its hops at the rate the curve gives.
+ *
+ * Turning points of a sine or triangle without drift repeat every period: the two kinds
+ * (upper, lower) are stepped once each and reused. Otherwise (a second tone, a drift)
+ * up to MAX_WINDOWS distinct turning points are stepped and each later one reuses the
+ * stepped one of the same direction whose acceleration is closest.
+ */
+import type { DriveSpec, Scenario } from '../scenario/schema';
+import type { CoupledParams } from '../physics/coupled/params';
+import { balanceErrors } from '../physics/coupled/lane-engine';
+import { createLaneEngine } from '../physics/coupled/factory';
+import type { EngineKind } from '../physics/coupled/factory';
+import { createDrive, peakAcceleration } from '../physics/drive';
+import { createRng } from '../numerics/rng';
+import { rippleRel } from '../analysis/stats';
+import type { SpeedCurve } from '../results/speed-curve';
+import { DrivenAnalysis, DrivenOptions, DrivenResult } from './driven';
+import { externalPowerOf, laserOutputOf } from './references';
+import type { FreeRunningResult, StaticResult } from './references';
+import { curveAt, ensureSpeedCurve, memoryTime, startFromStatic, steppingEngineFor } from './speed-curve';
+import { totalPeakSpeed } from './engine-choice';
+
+/** v_w = WINDOW_EDGE x acceleration x tau_mem: below it the turning-point window is stepped. */
+export const WINDOW_EDGE = 3;
+/**
+ * The window edge is never below this fraction of the peak speed: the speed curve's cost
+ * grows as 1 / v at its slow end (many half wavelengths at each speed), while a window
+ * stepped a little longer near the turning point costs little there.
+ */
+export const WINDOW_EDGE_MIN_FRACTION = 0.02;
+/**
+ * Half wavelengths a detector window (1 / bandwidth) must span before the speed curve's
+ * position-averaged mean stands for what the detector sees: slower than
+ * WINDOW_BAND_HALF_WAVES (lambda / 2) x bandwidth, the detector resolves the power's
+ * dependence on position (the turning-point dip), so that stretch is stepped too. Without
+ * it the in-band ripple came out 1.4-2x low against direct stepping (docs/model.md §3.6).
+ */
+export const WINDOW_BAND_HALF_WAVES = 3;
+/** Memory times stepped after the speed has risen back above v_w (the lag after a turning point). */
+export const WINDOW_TAIL = 3;
+/** Memory times collected before the speed falls below v_w. */
+export const WINDOW_BEFORE = 1;
+/** Memory times of lead-in from the static state before collection starts. */
+export const WINDOW_LEAD = 3;
+/** Most distinct turning points stepped for a drive that does not repeat every period. */
+export const MAX_WINDOWS = 16;
+/** Largest number of analysis samples per lane. */
+export const SLOW_MAX_SAMPLES = 2_000_000;
+
+export interface SlowDriveOptions extends Pick<
+  DrivenOptions,
+  | 'detectionBandwidth_Hz'
+  | 'hopDwell_s'
+  | 'driveFrequency_Hz'
+  | 'drivePhase_rad'
+  | 'traceBuckets'
+  | 'spectralSpread_Hz'
+  | 'spectrumMode'
+> {
+  drive: DriveSpec;
+  seed: number;
+  /** rest offset of each lane relative to the drive's own offset, m */
+  laneOffsets_m: number[];
+  analysed_s: number;
+  halfWavelength_m: number;
+  memory_s: number;
+  /** stepping engine for the turning-point windows */
+  windowEngine: (maxSpeed_m_s: number) => { kind: EngineKind; dt: number };
+  curve: SpeedCurve;
+  stat: StaticResult;
+  free: FreeRunningResult;
+  onProgress?: (fraction: number) => void;
+}
+
+interface TurningPoint {
+  t: number;
+  /** +1: the mirror turns from moving back to moving forward (lower turning point); -1 the other way */
+  dir: 1 | -1;
+  /** |dv/dt| at the turning point, m/s^2 (Infinity for a triangle) */
+  accel: number;
+  /** window relative to t: [t - before, t + after] is taken from the stepped lanes */
+  before: number;
+  after: number;
+  /** index into the stepped windows */
+  stepped: number;
+}
+
+interface SteppedWindow {
+  /** time of the turning point this window was stepped around */
+  t: number;
+  dir: 1 | -1;
+  accel: number;
+  before: number;
+  after: number;
+  /** first sample index (k0 = round((t - before) / dt_s)) relative to round(t / dt_s) */
+  rel0: number;
+  /** per lane, per sample: gap power, laser output, intracavity, returned, dominant mode */
+  ext: Float64Array[];
+  out: Float64Array[];
+  ic: Float64Array[];
+  ret: Float64Array[];
+  dom: Int32Array[];
+  /** per lane, mode powers, sample-major (M per sample) */
+  modes: Float64Array[];
+  /** mean over lanes of the window's tail (after the speed rose above the edge) against the curve there: window / curve - 1 */
+  spliceMismatch: number;
+}
+
+/** Largest |x(t) - x(tFrom)| over [tFrom, tTo] (sampled finely), plus |x(tFrom)|, m. */
+function windowTravel(m: { position(t: number): number }, tFrom: number, tTo: number): number {
+  let mx = 0;
+  for (let i = 0; i <= 256; i++) mx = Math.max(mx, Math.abs(m.position(tFrom + ((tTo - tFrom) * i) / 256)));
+  return mx * 1.01;
+}
+
+/** Speed below which a turning point is stepped directly, m/s (see the constants above). */
+export function windowEdge(
+  accel: number,
+  vPeak: number,
+  tau: number,
+  half: number,
+  bandwidth: number,
+): number {
+  return Math.max(
+    WINDOW_EDGE * accel * tau,
+    WINDOW_EDGE_MIN_FRACTION * vPeak,
+    WINDOW_BAND_HALF_WAVES * half * bandwidth,
+  );
+}
+
+/** Turning points (sign changes of v) of the motion in [tFrom, tTo], located to dt. */
+function findTurningPoints(
+  motion: { velocity(t: number): number },
+  tFrom: number,
+  tTo: number,
+  dt: number,
+): { t: number; dir: 1 | -1; accel: number }[] {
+  const res: { t: number; dir: 1 | -1; accel: number }[] = [];
+  let tPrev = tFrom;
+  let vPrev = motion.velocity(tFrom);
+  const n = Math.ceil((tTo - tFrom) / dt);
+  for (let k = 1; k <= n; k++) {
+    const t = tFrom + k * dt;
+    const v = motion.velocity(t);
+    if ((vPrev < 0 && v >= 0) || (vPrev > 0 && v <= 0)) {
+      // bisect for the zero crossing
+      let a = tPrev;
+      let b = t;
+      for (let i = 0; i < 40; i++) {
+        const m = 0.5 * (a + b);
+        const vm = motion.velocity(m);
+        if (vm === 0 || vm > 0 === vPrev > 0) a = m;
+        else b = m;
+      }
+      const tz = 0.5 * (a + b);
+      const h = Math.max(1e-12, dt * 1e-3);
+      const slope = Math.abs(motion.velocity(tz + h) - motion.velocity(tz - h)) / (2 * h);
+      // a jump of the velocity (triangle) shows as a slope of order |v| / h
+      const jump =
+        Math.abs(v - vPrev) > 0.5 * (Math.abs(v) + Math.abs(vPrev)) && slope * h > 0.1 * Math.abs(v);
+      res.push({ t: tz, dir: v >= 0 ? 1 : -1, accel: jump ? Infinity : slope });
+    }
+    tPrev = t;
+    vPrev = v;
+  }
+  return res;
+}
+
+/** Run the slow-drive path; see the file comment. */
+export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult {
+  const L = o.laneOffsets_m.length;
+  const M = p.M;
+  const tau = o.memory_s;
+  const motion = createDrive(o.drive, o.seed);
+  const f = o.driveFrequency_Hz ?? 0;
+  const B = o.detectionBandwidth_Hz;
+  let dt_s = Math.min(1 / (100 * B), o.hopDwell_s > 0 ? o.hopDwell_s / 2 : Infinity, tau / 4);
+  if (f > 0) dt_s = Math.min(dt_s, 1 / (4000 * f));
+  // A sine or triangle without drift repeats exactly every period once spliced (its windows
+  // are reused), so more periods than the detector needs add nothing to the statistics.
+  const periodic =
+    (o.drive.waveform === 'sine' || o.drive.waveform === 'triangle') && o.drive.drift === 0 && f > 0;
+  const analysed_s = periodic
+    ? Math.min(o.analysed_s, Math.ceil(Math.max(2, (4 * f) / B)) / f)
+    : o.analysed_s;
+  let samples = Math.ceil(analysed_s / dt_s);
+  if (samples > SLOW_MAX_SAMPLES) {
+    samples = SLOW_MAX_SAMPLES;
+    dt_s = analysed_s / samples;
+  }
+  const T = samples * dt_s;
+
+  // ---- turning points and their windows
+  const vPeakLocal = (t: number) => {
+    let vp = 0;
+    const span = f > 0 ? 0.5 / f : T;
+    for (let i = 0; i <= 64; i++)
+      vp = Math.max(vp, Math.abs(motion.velocity(t - span / 2 + (span * i) / 64)));
+    return vp;
+  };
+  const pad = (WINDOW_LEAD + WINDOW_BEFORE + WINDOW_TAIL + 2 * WINDOW_EDGE + 2) * tau;
+  const raw = findTurningPoints(motion, -pad, T + pad, Math.min(dt_s, f > 0 ? 1 / (2000 * f) : dt_s));
+  const tps: TurningPoint[] = raw.map((r) => {
+    const vp = vPeakLocal(r.t);
+    const vw = Math.min(windowEdge(r.accel, vp, tau, o.halfWavelength_m, B), 0.5 * vp);
+    // walk out from the turning point until |v| >= vw on each side
+    const stepT = Math.max(dt_s, tau / 20);
+    let b = 0;
+    while (Math.abs(motion.velocity(r.t - b)) < vw && b < 0.5 / Math.max(f, 1 / T)) b += stepT;
+    let a = 0;
+    while (Math.abs(motion.velocity(r.t + a)) < vw && a < 0.5 / Math.max(f, 1 / T)) a += stepT;
+    return { ...r, before: b + WINDOW_BEFORE * tau, after: a + WINDOW_TAIL * tau, stepped: -1 };
+  });
+
+  const chosen: TurningPoint[] = [];
+  for (const tp of tps) {
+    const same = chosen.filter((c) => c.dir === tp.dir);
+    if (periodic && same.length > 0) {
+      tp.stepped = chosen.indexOf(same[0]);
+      continue;
+    }
+    if (!periodic && chosen.length < MAX_WINDOWS) {
+      tp.stepped = chosen.length;
+      chosen.push(tp);
+      continue;
+    }
+    if (periodic) {
+      tp.stepped = chosen.length;
+      chosen.push(tp);
+      continue;
+    }
+    // reuse the stepped window of the same direction with the closest acceleration
+    let best = -1;
+    for (let i = 0; i < chosen.length; i++) {
+      if (chosen[i].dir !== tp.dir) continue;
+      if (best < 0 || Math.abs(chosen[i].accel - tp.accel) < Math.abs(chosen[best].accel - tp.accel))
+        best = i;
+    }
+    tp.stepped = best >= 0 ? best : 0;
+    tp.before = chosen[tp.stepped].before;
+    tp.after = chosen[tp.stepped].after;
+  }
+
+  // ---- step the chosen windows
+  const windows: SteppedWindow[] = [];
+  let laneSteps = 0;
+  let steps = 0;
+  let worstBalance = 0;
+  let mismatch = 0;
+  const rng = createRng(o.seed).fork(7);
+  const half = o.halfWavelength_m;
+  const rest = o.drive.offset;
+  for (let w = 0; w < chosen.length; w++) {
+    const tp = chosen[w];
+    const tStart = tp.t - tp.before - WINDOW_LEAD * tau;
+    const tEnd = tp.t + tp.after;
+    let vMax = 0;
+    for (let i = 0; i <= 64; i++)
+      vMax = Math.max(vMax, Math.abs(motion.velocity(tStart + ((tEnd - tStart) * i) / 64)));
+    const eng = o.windowEngine(Math.max(vMax, 1e-12));
+    // The window runs with the motion translated by whole half wavelengths to near the rest
+    // position: the fields depend on the position modulo lambda / 2 (up to the gap length's
+    // own change, 2 A / L2, a shift of the modes' phases by under 0.1 rad for a 1 mm stroke on
+    // a 9 cm gap), the lanes start from static states settled there, and the delay line's
+    // history stays sized for a short excursion.
+    const shift = Math.round((motion.position(tp.t) - rest) / half) * half;
+    const local = {
+      position: (t: number) => motion.position(t) - shift,
+      velocity: (t: number) => motion.velocity(t),
+    };
+    const e = createLaneEngine(
+      {
+        kind: eng.kind,
+        dt: eng.dt,
+        maxExcursion_m: Math.abs(rest) + 2 * half + windowTravel(local, tStart, tEnd),
+      },
+      p,
+      L,
+      local,
+      rng.fork(w),
+    );
+    e.setLaserState(o.free.Er, o.free.Ei, o.free.N);
+    o.laneOffsets_m.forEach((x, l) => (e.offset[l] = x));
+    const x0 = local.position(tStart) - rest;
+    startFromStatic(e, o.stat, (l) => o.laneOffsets_m[l] + x0);
+    e.t = tStart;
+    const lead = Math.max(1, Math.round((tp.t - tp.before - tStart) / eng.dt));
+    if (!e.advance(lead)) return failed(e.failMessage, steps, laneSteps);
+    e.resetEnergy();
+    const k0 = Math.round((tp.t - tp.before) / dt_s) - Math.round(tp.t / dt_s);
+    const k1 = Math.round((tp.t + tp.after) / dt_s) - Math.round(tp.t / dt_s);
+    const nBins = k1 - k0;
+    const sw: SteppedWindow = {
+      t: tp.t,
+      dir: tp.dir,
+      accel: tp.accel,
+      before: tp.before,
+      after: tp.after,
+      rel0: k0,
+      ext: Array.from({ length: L }, () => new Float64Array(nBins)),
+      out: Array.from({ length: L }, () => new Float64Array(nBins)),
+      ic: Array.from({ length: L }, () => new Float64Array(nBins)),
+      ret: Array.from({ length: L }, () => new Float64Array(nBins)),
+      dom: Array.from({ length: L }, () => new Int32Array(nBins)),
+      modes: Array.from({ length: L }, () => new Float64Array(nBins * M)),
+      spliceMismatch: 0,
+    };
+    const count = new Float64Array(nBins);
+    const kTp = Math.round(tp.t / dt_s);
+    const total = Math.ceil((tp.t + tp.after - e.t) / eng.dt);
+    const ok = e.advance(total, (en) => {
+      const bin = Math.floor(en.t / dt_s + 0.5) - kTp - k0;
+      if (bin < 0 || bin >= nBins) return;
+      count[bin]++;
+      for (let l = 0; l < L; l++) {
+        sw.ext[l][bin] += externalPowerOf(en, l);
+        sw.out[l][bin] += laserOutputOf(en, l);
+        for (let m = 0; m < M; m++) {
+          const j = l * M + m;
+          const pm = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
+          sw.ic[l][bin] += pm;
+          sw.ret[l][bin] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
+          sw.modes[l][bin * M + m] += pm;
+        }
+      }
+    });
+    steps += lead + total;
+    laneSteps += (lead + total) * L;
+    if (!ok) return failed(e.failMessage, steps, laneSteps);
+    for (let l = 0; l < L; l++) {
+      const bal = balanceErrors(e, l);
+      worstBalance = Math.max(worstBalance, bal.laser, bal.external);
+      mismatch += bal.mismatch / (L * chosen.length);
+    }
+    // bins the engine's step skipped (dt_s < engine step) take the previous bin's values
+    for (let k = 0; k < nBins; k++) {
+      const c = count[k];
+      for (let l = 0; l < L; l++) {
+        if (c > 0) {
+          sw.ext[l][k] /= c;
+          sw.out[l][k] /= c;
+          sw.ic[l][k] /= c;
+          sw.ret[l][k] /= c;
+        } else if (k > 0) {
+          sw.ext[l][k] = sw.ext[l][k - 1];
+          sw.out[l][k] = sw.out[l][k - 1];
+          sw.ic[l][k] = sw.ic[l][k - 1];
+          sw.ret[l][k] = sw.ret[l][k - 1];
+        }
+      }
+      for (let l = 0; l < L; l++) {
+        const mp = sw.modes[l];
+        for (let m = 0; m < M; m++) {
+          if (c > 0) mp[k * M + m] /= c;
+          else if (k > 0) mp[k * M + m] = mp[(k - 1) * M + m];
+        }
+        // dominant mode of the bin from its mean mode powers
+        let d = 0;
+        for (let m = 1; m < M; m++) if (mp[k * M + m] > mp[k * M + d]) d = m;
+        sw.dom[l][k] = d;
+      }
+    }
+    // splice check: the window's last memory time against the curve at that speed and direction
+    const nTail = Math.max(1, Math.min(nBins, Math.round((WINDOW_TAIL * tau) / dt_s)));
+    let winMean = 0;
+    for (let l = 0; l < L; l++) for (let k = nBins - nTail; k < nBins; k++) winMean += sw.ext[l][k];
+    winMean /= L * nTail;
+    let curveMean = 0;
+    for (let k = nBins - nTail; k < nBins; k++)
+      curveMean += curveAt(o.curve, motion.velocity(tp.t + (k + k0) * dt_s)).external_W;
+    curveMean /= nTail;
+    sw.spliceMismatch = curveMean > 0 ? winMean / curveMean - 1 : 0;
+    windows.push(sw);
+    o.onProgress?.((0.8 * (w + 1)) / chosen.length);
+  }
+
+  // ---- splice and analyse
+  const an = new DrivenAnalysis(p, L, dt_s, samples, 0, { ...o, motion }, false);
+  const row = an.row;
+  const extraVar = new Float64Array(L);
+  const extraOutVar = new Float64Array(L);
+  const curveMin = new Float64Array(L).fill(Infinity);
+  const curveMax = new Float64Array(L).fill(-Infinity);
+  const curveHops = new Float64Array(L);
+  const occ = new Float64Array(L * M);
+  const heldDom = new Int32Array(L).fill(-1);
+  const bins = 24;
+  const histExtra = new Float64Array(bins);
+  let curveSamples = 0;
+  let tpIndex = 0;
+  const cv = curveAt(o.curve, 1);
+  for (let k = 0; k < samples; k++) {
+    const t = k * dt_s;
+    while (tpIndex < tps.length && tps[tpIndex].t + tps[tpIndex].after < t) tpIndex++;
+    const tp = tpIndex < tps.length && t >= tps[tpIndex].t - tps[tpIndex].before ? tps[tpIndex] : null;
+    const x = motion.position(t);
+    const v = motion.velocity(t);
+    if (tp) {
+      const sw = windows[tp.stepped];
+      let bin = k - Math.round(tp.t / dt_s) - sw.rel0;
+      bin = Math.max(0, Math.min(sw.ext[0].length - 1, bin));
+      for (let l = 0; l < L; l++) {
+        const dom = sw.dom[l][bin];
+        heldDom[l] = dom;
+        occ[l * M + dom]++;
+        an.returned2 += sw.ret[l][bin];
+        if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = sw.modes[0][bin * M + m];
+        an.push(l, sw.ext[l][bin], sw.out[l][bin], sw.ic[l][bin], dom, t, o.laneOffsets_m[0], 0, 0);
+      }
+    } else {
+      curveAt(o.curve, v, cv);
+      curveSamples++;
+      let dom = 0;
+      for (let m = 1; m < M; m++) if (cv.mode_occupation[m] > cv.mode_occupation[dom]) dom = m;
+      for (let l = 0; l < L; l++) {
+        extraVar[l] += cv.external_var_W2;
+        extraOutVar[l] += cv.laser_output_var_W2;
+        curveMin[l] = Math.min(curveMin[l], cv.external_min_W);
+        curveMax[l] = Math.max(curveMax[l], cv.external_max_W);
+        curveHops[l] += cv.hops_per_s * dt_s;
+        for (let m = 0; m < M; m++) occ[l * M + m] += cv.mode_occupation[m];
+        // hops inside the curve's stretches are counted at its rate; the detector is fed the
+        // mode held since the last window so that it adds none of its own here
+        const held = heldDom[l] >= 0 ? heldDom[l] : dom;
+        if (heldDom[l] < 0) heldDom[l] = dom;
+        an.returned2 += cv.returned_W;
+        if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = cv.mode_powers_W[m];
+        an.push(l, cv.external_W, cv.laser_output_W, cv.intracavity_W, held, t, o.laneOffsets_m[0], 0, 0);
+      }
+      if (f > 0) {
+        let ph = f * t + o.drivePhase_rad / (2 * Math.PI);
+        ph -= Math.floor(ph);
+        histExtra[Math.min(bins - 1, Math.floor(ph * bins))] += cv.hops_per_s * dt_s * L;
+      }
+    }
+    void x;
+    if (k % 65536 === 0) o.onProgress?.(0.8 + (0.2 * k) / samples);
+  }
+  const res = an.result(o.laneOffsets_m);
+  for (let l = 0; l < L; l++) {
+    const off = res.offsets[l];
+    const n = off.external.count;
+    const addE = extraVar[l] / Math.max(1, n);
+    const addO = extraOutVar[l] / Math.max(1, n);
+    const ev = off.external.variance + addE;
+    off.external = {
+      ...off.external,
+      variance: ev,
+      sampleVariance: n > 1 ? (ev * n) / (n - 1) : 0,
+      std: Math.sqrt(ev),
+      min: Math.min(off.external.min, curveMin[l]),
+      max: Math.max(off.external.max, curveMax[l]),
+    };
+    const ov = off.laserOutput.variance + addO;
+    off.laserOutput = {
+      ...off.laserOutput,
+      variance: ov,
+      sampleVariance: n > 1 ? (ov * n) / (n - 1) : 0,
+      std: Math.sqrt(ov),
+    };
+    const fb = off.band.fullBand;
+    const fbv = fb.variance + addE;
+    const fullBand = {
+      ...fb,
+      variance: fbv,
+      sampleVariance: fb.count > 1 ? (fbv * fb.count) / (fb.count - 1) : 0,
+      std: Math.sqrt(fbv),
+      min: Math.min(fb.min, curveMin[l]),
+      max: Math.max(fb.max, curveMax[l]),
+    };
+    off.band = {
+      ...off.band,
+      fullBand,
+      ripple_full_band_rel: rippleRel(fullBand.min, fullBand.max, fullBand.mean),
+    };
+    const h = off.hops;
+    const hops = h.hops + curveHops[l];
+    off.hops = {
+      ...h,
+      hops,
+      hopsPerSecond: h.duration_s > 0 ? hops / h.duration_s : 0,
+      hopsPerPeriod: f > 0 && h.duration_s > 0 ? hops / (h.duration_s * f) : h.hopsPerPeriod,
+      occupation: Array.from({ length: M }, (_, m) => occ[l * M + m] / samples),
+      phaseHistogram: h.phaseHistogram.map((c, i) => c + (histExtra[i] ?? 0) / L),
+    };
+  }
+  const splice = windows.reduce((a, w) => Math.max(a, Math.abs(w.spliceMismatch)), 0);
+  return {
+    ...res,
+    balance: {
+      laser: Math.max(worstBalance, o.stat.worstBalance),
+      external: worstBalance,
+      mismatch,
+    },
+    steps,
+    laneSteps: laneSteps + o.curve.lane_steps,
+    failed: null,
+    slow: {
+      windows: windows.length,
+      turning_points: tps.filter((t) => t.t >= 0 && t.t <= T).length,
+      window_fraction: 1 - curveSamples / samples,
+      splice_mismatch_rel: splice,
+      sample_step_s: dt_s,
+      analysed_s,
+    },
+  } as DrivenResult & { slow: SlowDriveInfo };
+}
+
+/** What the slow-drive path adds to a DrivenResult (for the summary's engine note). */
+export interface SlowDriveInfo {
+  /** turning-point windows stepped */
+  windows: number;
+  /** turning points in the analysed window */
+  turning_points: number;
+  /** fraction of the analysed time taken from stepped windows */
+  window_fraction: number;
+  /** largest |window / curve - 1| over the tail of each window (WINDOW_TAIL memory times; a few lanes sample a position-dependent power there, so it holds their sampling error too) */
+  splice_mismatch_rel: number;
+  sample_step_s: number;
+  /** time the spliced series was analysed over, s (whole periods for a repeating drive) */
+  analysed_s: number;
+}
+
+function failed(message: string, steps: number, laneSteps: number): DrivenResult {
+  return {
+    offsets: [],
+    traces: { t_s: [], series: [], drive_period_s: null },
+    rin: null,
+    optical: [],
+    balance: { laser: NaN, external: NaN, mismatch: NaN },
+    fieldRatio: NaN,
+    steps,
+    laneSteps,
+    failed: message || 'numerical failure',
+  };
+}
+
+/** Everything the run needs to dispatch to the slow-drive path. */
+export interface SlowDriveRunInput {
+  s: Scenario;
+  p: CoupledParams;
+  finesse: number;
+  regrowth_s: number;
+  stat: StaticResult;
+  free: FreeRunningResult;
+  seed: number;
+  requested: string;
+  /** a curve computed earlier (same key: reused and extended) */
+  prior: SpeedCurve | null;
+  laneOffsets_m: number[];
+  analysed_s: number;
+  common: Pick<
+    SlowDriveOptions,
+    | 'detectionBandwidth_Hz'
+    | 'hopDwell_s'
+    | 'driveFrequency_Hz'
+    | 'drivePhase_rad'
+    | 'traceBuckets'
+    | 'spectralSpread_Hz'
+    | 'spectrumMode'
+  >;
+  onProgress?: (fraction: number) => void;
+}
+
+/**
+ * The speed curve over the speeds this drive needs (from the window edge of its turning
+ * points to its peak speed), then the path itself. Returns the driven result, the curve
+ * (to be written with the results) and a note for the engine's reason.
+ */
+export function slowDriveRun(i: SlowDriveRunInput): {
+  driven: DrivenResult;
+  curve: SpeedCurve | null;
+  note: string;
+  /** time the statistics cover, s */
+  analysed_s: number;
+} {
+  const { s, p } = i;
+  const memory_s = memoryTime(p, i.free);
+  const vPeak = totalPeakSpeed(s);
+  const aPeak = peakAcceleration(s.drive);
+  const twoTone = s.drive.waveform === 'two-tone' && s.drive.second_amplitude > 0;
+  const vEdge = windowEdge(aPeak, vPeak, memory_s, s.laser.wavelength / 2, s.analysis.detection_bandwidth);
+  const vLo = Math.max(1e-9, Math.min(vPeak, vEdge) * (twoTone ? 0.5 : 1));
+  const ctx = {
+    s,
+    p,
+    finesse: i.finesse,
+    regrowth_s: i.regrowth_s,
+    stat: i.stat,
+    free: i.free,
+    seed: i.seed,
+    requested: i.requested,
+    onProgress: (x: number) => i.onProgress?.(0.6 * x),
+  };
+  const curve = ensureSpeedCurve(i.prior, ctx, vLo, vPeak);
+  if (typeof curve === 'string')
+    return { driven: failed(`speed curve: ${curve}`, 0, 0), curve: null, note: '', analysed_s: i.analysed_s };
+  const driven = drivenSlow(p, {
+    ...i.common,
+    drive: s.drive,
+    seed: i.seed,
+    laneOffsets_m: i.laneOffsets_m,
+    analysed_s: i.analysed_s,
+    halfWavelength_m: s.laser.wavelength / 2,
+    memory_s,
+    windowEngine: (v) => steppingEngineFor(s, p, i.finesse, i.regrowth_s, v, i.requested),
+    curve,
+    stat: i.stat,
+    free: i.free,
+    onProgress: (x) => i.onProgress?.(0.6 + 0.4 * x),
+  });
+  const info = (driven as DrivenResult & { slow?: SlowDriveInfo }).slow;
+  const fmt = (x: number) => x.toPrecision(3);
+  const note = info
+    ? `; statistics over ${fmt(info.analysed_s)} s (the spliced series repeats every period); speed curve ${curve.forward.length} + ${curve.backward.length} speeds from ${fmt(curve.forward[0].speed_m_s)} to ${fmt(curve.forward[curve.forward.length - 1].speed_m_s)} m/s; turning points stepped directly (${info.windows} windows, ${fmt(100 * info.window_fraction)} % of the time), splice mismatch ${fmt(100 * info.splice_mismatch_rel)} %`
+    : '';
+  return { driven, curve, note, analysed_s: info ? info.analysed_s : i.analysed_s };
+}
