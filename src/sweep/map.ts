@@ -6,6 +6,7 @@
 import type { CurvePoint, MapAxis, SweepMap } from '../results/map';
 import type { RunClass } from '../results/summary';
 import { RESULT_VERSION } from '../results/summary';
+import { TOOL_VERSION } from '../version';
 import type { Scenario } from '../scenario/schema';
 import { gridIndices } from './grid';
 import type { PointRecord } from './persist';
@@ -149,6 +150,7 @@ export function buildSweepMap(input: MapInput): SweepMap {
   const hopLimit = input.scenario?.analysis.max_hops_per_period ?? 0;
   return {
     version: RESULT_VERSION,
+    tool_version: TOOL_VERSION,
     name: input.name,
     scenario_sha256: input.scenario_sha256,
     axes: input.axes,
