@@ -78,9 +78,11 @@ export function baseLayout(extra: Record<string, unknown>): Record<string, unkno
  * unit in brackets ("(W)", "(m)", "(s)") gets SI-prefixed tick labels ("80m", "5µ").
  */
 export function axis(title: string, extra: Record<string, unknown> = {}): Record<string, unknown> {
-  const si = /\((W|m|s|m\/s|Hz|V|A)\)$/.test(title) && extra.type !== 'log';
+  const unit = /\((W|m|s|m\/s|Hz|V|A)\)$/.exec(title)?.[1];
+  const si = unit !== undefined && extra.type !== 'log';
   return {
-    ...(si ? { tickformat: '~s' } : {}),
+    // the unit after the prefix, so watts never read like metres ("120mW", not "120m")
+    ...(si ? { tickformat: '~s', ticksuffix: unit } : {}),
     title: { text: title },
     gridcolor: '#e4e7ec',
     zerolinecolor: '#c5cad3',
@@ -139,7 +141,7 @@ header.top h1 { margin: 4px 0 2px; font-size: 26px; font-weight: 650; word-break
 header.top .sub { margin: 0; opacity: .9; }
 main { max-width: 1120px; margin: 0 auto; padding: 18px 24px 40px; }
 section { background: var(--card); border: 1px solid var(--rule); border-radius: 6px; padding: 14px 20px 16px; margin: 16px 0; }
-section > h2 { font-size: 18px; margin: 0 0 10px; padding-bottom: 6px; border-bottom: 2px solid var(--accent); color: var(--accent); font-weight: 650; }
+section h2 { font-size: 18px; margin: 0 0 10px; padding-bottom: 6px; border-bottom: 2px solid var(--accent); color: var(--accent); font-weight: 650; }
 section > h3, section h3 { font-size: 15px; margin: 14px 0 6px; }
 p.note { color: var(--muted); margin: 6px 0; font-size: 13.5px; }
 table { border-collapse: collapse; margin: 6px 0 8px; font-size: 14px; }
@@ -197,8 +199,8 @@ a { color: var(--accent); }
   header.top { background: none; color: var(--ink); border-bottom: 2px solid var(--ink); padding: 0 0 6px; }
   main { max-width: none; padding: 0; }
   section { border: none; padding: 0; margin: 10px 0; break-inside: auto; }
-  figure.plot-box, table, .verdict, .caution, .keep, .headline .answer, .map-box, .glossary .term { break-inside: avoid; page-break-inside: avoid; }
-  h2, h3, .fig-title { break-after: avoid; page-break-after: avoid; }
+  figure.plot-box, table, .verdict, .caution, .keep, .figure-group, .headline .answer, .map-box, .glossary .term { break-inside: avoid; page-break-inside: avoid; }
+  h2, h3, .fig-title, h2 + p.note, h3 + p.note { break-after: avoid; page-break-after: avoid; }
   figcaption { break-before: avoid; page-break-before: avoid; }
   .grid2, .grid-pairs { display: block; }
   .plot { width: 180mm !important; max-width: 180mm; overflow: hidden; }

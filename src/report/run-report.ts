@@ -347,6 +347,7 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
     plotDiv(
       'plot-static',
       `Dashed lines: still-mirror mean (${fmtSI(sm, 'W')}) and dithered mean over rest positions (${fmtSI(d?.external_mean_W, 'W')}). A gap between the up and down curves is hysteresis.`,
+      'Gap power with the mirror held still, and the dithered mean at each rest position',
     ),
   );
   if (c && Array.isArray(c.laser_output_up_W) && c.laser_output_up_W.length === c.position_m.length) {
@@ -376,7 +377,13 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
         yaxis: axis('laser output (W)'),
       }),
     });
-    parts.push(plotDiv('plot-static-laser'));
+    parts.push(
+      plotDiv(
+        'plot-static-laser',
+        'Net laser output while the mirror is scanned slowly up and down over half a wavelength.',
+        'Laser output with the mirror held still',
+      ),
+    );
   }
   if (!c)
     parts.push(html`<p class="note">The still-mirror curve (${RUN_FILES.staticCurve}) was not saved.</p>`);
@@ -554,7 +561,13 @@ function tracesSection(tr: TraceSet | null, plots: PlotSpec[]): SafeHtml {
     });
     const boxes: HtmlValue[] = [
       html`<div>
-        ${plotDiv(id, period ? `First ${zoomPeriods} drive period${zoomPeriods === 1 ? '' : 's'}.` : 'Whole analysed window.')}
+        ${plotDiv(
+          id,
+          period
+            ? `${g.title}: the first ${zoomPeriods} drive period${zoomPeriods === 1 ? '' : 's'} as saved.`
+            : `${g.title}: the whole analysed window.`,
+          period ? `${g.title}, first ${zoomPeriods} drive period${zoomPeriods === 1 ? '' : 's'}` : g.title,
+        )}
       </div>`,
     ];
     if (period) {
@@ -609,12 +622,17 @@ function tracesSection(tr: TraceSet | null, plots: PlotSpec[]): SafeHtml {
         }),
       });
       boxes.push(
-        html`<div>${plotDiv(eid, 'Whole window: minimum to maximum and mean in each drive period.')}</div>`,
+        html`<div>
+          ${plotDiv(
+            eid,
+            `${g.title}: minimum to maximum (shaded) and mean in each drive period over the whole window.`,
+            `${g.title}, whole window`,
+          )}
+        </div>`,
       );
     }
     parts.push(
       html`<div class="figure-group">
-        <h3>${g.title}</h3>
         <div class="grid2">${boxes}</div>
         ${bandNote ? html`<p class="note">${bandNote}</p>` : ''}
       </div>`,
@@ -666,6 +684,7 @@ function rinSection(sp: SpectraSet | null, plots: PlotSpec[]): SafeHtml {
     plotDiv(
       'plot-rin',
       `One-sided, Hann window, ${fmtNum(rin.segments)} averaged segments, resolution ${fmtSI(rin.resolution_Hz, 'Hz')}. Dotted lines: drive frequency and its harmonics (up to the 20th)${harmonics.length === 0 ? ' (none inside the plotted range)' : ''}.`,
+      'Relative intensity noise (RIN) of the gap power',
     ),
   );
 }
@@ -716,6 +735,7 @@ function opticalSection(
     plotDiv(
       'plot-optical',
       `${resolved ? `The moving mirror shifts the returned light by up to the peak Doppler shift (${fmtSI(fd, 'Hz')}); with a bin width of ${fmtSI(res, 'Hz')} the sidebands, spaced at the drive frequency, are resolved.` : `Bin width ${fmtSI(res, 'Hz')}${isNum(fDrive) ? `, wider than the drive frequency (${fmtSI(fDrive, 'Hz')})` : ''}: the Doppler sidebands, spaced at the drive frequency, are not resolved in this record; the plot shows only how far the returned light spreads (up to the peak Doppler shift, ${fmtSI(fd, 'Hz')}). A longer analysed time narrows the bins.`}${zoom ? ` Shown: ±${fmtSI(half, 'Hz')}; the saved span is ${fmtSI(lo, 'Hz')} to ${fmtSI(hi, 'Hz')}, double-click the plot to see it all.` : ''}`,
+      'Returned light around each strong mode',
     ),
   );
 }
@@ -748,7 +768,7 @@ function modesSection(s: RunSummary, plots: PlotSpec[]): SafeHtml {
     });
     inner.push(
       html`<div>
-        ${plotDiv('plot-occupation', 'Share of the analysed time each mode is the strongest.')}
+        ${plotDiv('plot-occupation', 'Share of the analysed time each mode is the strongest.', 'Mode occupation')}
       </div>`,
     );
   } else inner.push(html`<div><p class="note">Mode occupation: ${NOT_COMPUTED}.</p></div>`);
@@ -783,7 +803,7 @@ function modesSection(s: RunSummary, plots: PlotSpec[]): SafeHtml {
     });
     inner.push(
       html`<div>
-        ${plotDiv('plot-hop-phase', `Where in the drive period the ${fmtNum(total)} counted hops happen (turning points at 90° and 270° for a sine starting at phase 0).`)}
+        ${plotDiv('plot-hop-phase', `Where in the drive period the ${fmtNum(total)} counted hops happen (turning points at 90° and 270° for a sine starting at phase 0).`, 'Hop phases')}
       </div>`,
     );
   } else inner.push(html`<div><p class="note">Hop phase histogram: ${NOT_COMPUTED}.</p></div>`);

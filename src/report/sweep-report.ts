@@ -162,12 +162,11 @@ export function colourBar(name: string): Record<string, unknown> {
     ...extra,
     title: { ...base.title, text },
   });
-  if (name.endsWith('_rel'))
-    return titled(`${metricStyle(name).short} (% of the mean)`, { tickformat: '~%' });
-  if (name === 'hops_per_s') return titled('mode hops per second (/s)', { tickformat: '~s' });
-  if (name === 'hops_per_period') return titled('mode hops per drive period', {});
+  if (name.endsWith('_rel')) return titled(`${metricStyle(name).short} (%)`, { tickformat: '~%' });
+  if (name === 'hops_per_s') return titled('hops per second (/s)', { tickformat: '~s' });
+  if (name === 'hops_per_period') return titled('hops per period', {});
   const unit = unitOfKey(name);
-  if (unit === '') return titled(`${metricStyle(name).short} (ratio)`, { ticksuffix: 'x' });
+  if (unit === '') return titled(`${metricStyle(name).short} (x)`, { ticksuffix: 'x' });
   return titled(`${metricStyle(name).short} (${unit})`, { tickformat: '~s', ticksuffix: unit });
 }
 
@@ -300,6 +299,26 @@ export function cellEdges(a: MapAxis): number[] {
   return log ? e.map((x) => 10 ** x) : e;
 }
 
+/**
+ * Two coordinates per cell, just inside its edges (1e-6 of the cell's width, in log
+ * space on a log axis), and the cell index of each: a contour over these has its
+ * crossings on the cell edges.
+ */
+export function edgePairs(a: MapAxis): { coords: number[]; cell: number[] } {
+  const log = a.scale === 'log' && a.values.every((v) => v > 0);
+  const e = cellEdges(a).map((v) => (log ? Math.log10(v) : v));
+  const coords: number[] = [];
+  const cell: number[] = [];
+  for (let i = 0; i + 1 < e.length; i++) {
+    const d = 1e-6 * (e[i + 1] - e[i]);
+    for (const c of [e[i] + d, e[i + 1] - d]) {
+      coords.push(log ? 10 ** c : c);
+      cell.push(i);
+    }
+  }
+  return { coords, cell };
+}
+
 /** Colours of the map overlays and the words the caption uses for them (kept together). */
 export const OVERLAY = {
   speedRule: { colour: '#111111', words: 'black dashed line' },
@@ -425,16 +444,21 @@ function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Re
     m.reachable.some(Boolean) &&
     !m.reachable.every(Boolean)
   ) {
+    // Each cell given twice, just inside its two edges, so the 0.5 contour falls on the
+    // cell edges and the shading covers whole cells out to the grid's border.
+    const ex = edgePairs(m.axes[xy.x]);
+    const ey = edgePairs(m.axes[xy.y]);
+    const z = grid(
+      m,
+      m.reachable.map((r) => (r ? 1 : 0)),
+      xy,
+    );
     out.push({
       type: 'contour',
       name: 'reachable by the actuator (shaded)',
-      x: m.axes[xy.x].values,
-      y: m.axes[xy.y].values,
-      z: grid(
-        m,
-        m.reachable.map((r) => (r ? 1 : 0)),
-        xy,
-      ),
+      x: ex.coords,
+      y: ey.coords,
+      z: ey.cell.map((iy) => ex.cell.map((ix) => z[iy][ix])),
       showscale: false,
       autocontour: false,
       contours: { start: 0.5, end: 0.5, size: 1, coloring: 'fill' },
@@ -442,7 +466,7 @@ function overlays(m: SweepMap, xy: { x: number; y: number }, drive: boolean): Re
         [0, 'rgba(0,0,0,0)'],
         [1, OVERLAY.reach.fill],
       ],
-      line: { color: OVERLAY.reach.colour, width: 2.5 },
+      line: { color: OVERLAY.reach.colour, width: 2 },
       hoverinfo: 'skip',
       showlegend: true,
     });
@@ -568,12 +592,12 @@ function mapAxis(a: MapAxis): Record<string, unknown> {
 
 function mapLayout(m: SweepMap, xy: { x: number; y: number }): Record<string, unknown> {
   return baseLayout({
-    height: 500,
+    height: 560,
     xaxis: mapAxis(m.axes[xy.x]),
     yaxis: mapAxis(m.axes[xy.y]),
-    legend: { orientation: 'h', x: 0, y: -0.16, yanchor: 'top', bgcolor: '#eef0f3' },
+    legend: { orientation: 'h', x: 0, y: -0.2, yanchor: 'top', bgcolor: '#eef0f3' },
     // room above the plot area for the plot tool bar, so it covers no cell
-    margin: { l: 90, r: 20, t: 40, b: 70 },
+    margin: { l: 90, r: 20, t: 40, b: 150 },
   });
 }
 
@@ -641,7 +665,7 @@ function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
   });
   parts.push(
     html`<div class="map-box">
-      ${plotDiv('map-class', undefined, 'Class of each point')}${classLegend()}
+      ${plotDiv('map-class', 'Class of each point; the lines and shading are explained above the map.', 'Class of each point')}${classLegend()}
     </div>`,
   );
   const primary = primaryMetrics(m);
@@ -671,11 +695,12 @@ function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
       ],
       layout,
     });
-    if (isPrimary) parts.push(plotDiv(id, undefined, st.label));
+    if (isPrimary)
+      parts.push(plotDiv(id, `Colour: ${st.label}. Lines and shading as on the class map.`, st.label));
     else
       extra.push(
         html`<div>
-          ${plotDiv(id, undefined, `${st.label}${unitOfKey(name) && unitOfKey(name) !== '%' ? ` (${unitOfKey(name)})` : ''}`)}
+          ${plotDiv(id, `Colour: ${st.label}.`, `${st.label}${unitOfKey(name) && unitOfKey(name) !== '%' ? ` (${unitOfKey(name)})` : ''}`)}
         </div>`,
       );
   });
@@ -722,7 +747,7 @@ function oneAxisPlots(m: SweepMap, plots: PlotSpec[]): SafeHtml {
         showlegend: false,
       }),
     });
-    parts.push(plotDiv(id, undefined, st.label));
+    parts.push(plotDiv(id, `${st.label} along ${keyWords(a.key)}.`, st.label));
   });
   const classes = a.values.map((_, k) => m.classes[k] ?? null);
   plots.push({
@@ -752,7 +777,7 @@ function oneAxisPlots(m: SweepMap, plots: PlotSpec[]): SafeHtml {
   });
   parts.push(
     html`<div class="map-box">
-      ${plotDiv('line-class', undefined, 'Class along the axis')}${classLegend()}
+      ${plotDiv('line-class', `Class of each point along ${keyWords(a.key)}.`, 'Class along the axis')}${classLegend()}
     </div>`,
   );
   return html`<section id="lines">
@@ -887,13 +912,16 @@ function bestSection(m: SweepMap): SafeHtml {
         <p class="note">None: ${m.recommended_reason || 'no reason recorded'}.</p>
       </div>`;
   return html`<section id="best">
-    <h2>Best decoupled points${withMask ? ' the actuator can reach' : ''}</h2>
-    <p class="note">
-      Decoupled points${withMask ? ' within the actuator’s ratings' : ''} ranked by gain over the mirror held
-      still (the ${BEST_POINTS}
-      highest)${r && !best.includes(r.index) && rows.includes(r.index) ? ', and the recommended point below them' : ''}.
-    </p>
-    ${table}${further}${rec}
+    <div class="keep">
+      <h2>Best decoupled points${withMask ? ' the actuator can reach' : ''}</h2>
+      <p class="note">
+        Decoupled points${withMask ? ' within the actuator’s ratings' : ''} ranked by gain over the mirror
+        held still (the ${BEST_POINTS}
+        highest)${r && !best.includes(r.index) && rows.includes(r.index) ? ', and the recommended point below them' : ''}.
+      </p>
+      ${table}
+    </div>
+    ${further}${rec}
   </section>`;
 }
 
