@@ -21,6 +21,7 @@ import { createExecutor, ExecutorStopped } from './pool';
 import { runSweep, withEngine } from './run-sweep';
 import type { SweepOutcome } from './run-sweep';
 import type { PointRecord } from './persist';
+import { TOOL_VERSION } from '../version';
 
 /** The file endings a batch picks up. */
 export const SCENARIO_EXTENSIONS = ['.yaml', '.yml', '.json'] as const;
@@ -151,6 +152,10 @@ function entryBase(file: string): BatchEntry {
     points: null,
     folder: null,
     wall_s: 0,
+    tool_version: TOOL_VERSION,
+    external_mean_W: null,
+    external_mean_stderr_W: null,
+    drive: null,
   };
 }
 
@@ -163,13 +168,24 @@ function fillFromRun(e: BatchEntry, s: RunSummary): void {
   e.gain_over_static = finiteOrNull(s.driven?.gain_over_static);
   e.ripple_rel = finiteOrNull(s.driven?.ripple_rel);
   e.hops_per_s = finiteOrNull(s.driven?.hops_per_s);
+  e.external_mean_W = finiteOrNull(s.driven?.external_mean_W);
+  e.external_mean_stderr_W = finiteOrNull(
+    (s.driven as unknown as Record<string, unknown> | null)?.external_mean_stderr_W,
+  );
+  e.drive = s.drive
+    ? {
+        waveform: typeof s.drive.waveform === 'string' ? s.drive.waveform : null,
+        amplitude_m: finiteOrNull(s.drive.amplitude_m),
+        frequency_Hz: finiteOrNull(s.drive.frequency_Hz),
+      }
+    : null;
 }
 
 /**
  * The figures of a sweep entry: at the recommended operating point if the map has one,
  * else at the finished point with the highest gain over static.
  */
-function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
+function fillFromSweep(e: BatchEntry, out: SweepOutcome, base: Scenario): void {
   const m = out.map;
   const classes: Record<string, number> = {};
   for (const c of m.classes) if (c) classes[c] = (classes[c] ?? 0) + 1;
@@ -192,6 +208,19 @@ function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
     e.gain_over_static = m.metrics.gain_over_static?.[at] ?? null;
     e.ripple_rel = m.metrics.ripple_rel?.[at] ?? null;
     e.hops_per_s = m.metrics.hops_per_s?.[at] ?? null;
+    e.external_mean_W = m.metrics.external_mean_W?.[at] ?? null;
+    e.external_mean_stderr_W = m.metrics.external_mean_stderr_W?.[at] ?? null;
+    const idx = at;
+    const axisValue = (key: string): number | null => {
+      const st = m.axes.map((_, k) => m.axes.slice(k + 1).reduce((n, a) => n * a.values.length, 1));
+      const k = m.axes.findIndex((a) => a.key === key);
+      return k < 0 ? null : m.axes[k].values[Math.floor(idx / st[k]) % m.axes[k].values.length];
+    };
+    e.drive = {
+      waveform: base.drive.waveform,
+      amplitude_m: axisValue('drive.amplitude') ?? finiteOrNull(base.drive.amplitude),
+      frequency_Hz: axisValue('drive.frequency') ?? finiteOrNull(base.drive.frequency),
+    };
   }
   if (out.interrupted) {
     e.status = 'failed';
@@ -318,7 +347,7 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
           onWarning: warn,
           onProgress: (d, t, rec) => opts.onSweepProgress?.(scenario.name, d, t, rec),
         });
-        fillFromSweep(e, out);
+        fillFromSweep(e, out, scenario);
         if (!out.interrupted) {
           try {
             opts.hooks.afterSweep?.(dir);

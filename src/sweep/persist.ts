@@ -26,6 +26,8 @@ export const SWEEP_FILES = {
   points: 'points.ndjson',
   header: 'sweep.json',
   map: 'map.json',
+  /** map.json flattened, one row per point (analysis/csv.ts, mapToCsv) */
+  mapCsv: 'map.csv',
   report: 'report.html',
 } as const;
 

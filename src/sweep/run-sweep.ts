@@ -6,6 +6,8 @@
  * stopped early, over the points finished so far).
  */
 import * as fs from 'node:fs';
+import { mapToCsv } from '../analysis/csv';
+import { keyUnit } from '../scenario/kinds';
 import * as path from 'node:path';
 import type { Scenario } from '../scenario/schema';
 import { InputError } from '../scenario/errors';
@@ -275,6 +277,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     s,
   );
   fs.writeFileSync(path.join(dir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
+  fs.writeFileSync(path.join(dir, SWEEP_FILES.mapCsv), mapToCsv(map, keyUnit));
   const finishedHere = records.filter((r) => plannedSet.has(r.index)).length;
   return {
     dir,
