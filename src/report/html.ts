@@ -18,7 +18,7 @@ export interface PageSpec {
   /** document title (escaped) */
   title: string;
   /** what the page is, for the header line and the `data-report-kind` attribute */
-  kind: 'run' | 'sweep' | 'batch';
+  kind: 'run' | 'sweep' | 'batch' | 'compare';
   /** main heading (escaped), usually the scenario name */
   heading: string;
   /** one line under the heading (escaped) */
@@ -264,7 +264,15 @@ export function renderPage(spec: PageSpec): string {
         <header class="top">
           <p class="what">
             dithercav ·
-            ${spec.kind === 'run' ? 'single run' : spec.kind === 'sweep' ? 'parameter map' : 'batch overview'}
+            ${
+              spec.kind === 'run'
+                ? 'single run'
+                : spec.kind === 'sweep'
+                  ? 'parameter map'
+                  : spec.kind === 'compare'
+                    ? 'waveform comparison'
+                    : 'batch overview'
+            }
           </p>
           <h1>${spec.heading}</h1>
           <p class="sub">${spec.subheading}</p>

@@ -11,13 +11,15 @@ import { writeBatchIndexHtml } from './batch-index';
 import { readJsonFile } from './read-results';
 import { writeRunReport } from './run-report';
 import { SWEEP_MAP_FILE, writeSweepReport } from './sweep-report';
+import { COMPARE_FILES, writeCompareReport } from './compare-report';
 
-export type ResultFolderKind = 'run' | 'sweep' | 'batch';
+export type ResultFolderKind = 'run' | 'sweep' | 'batch' | 'compare';
 
-/** What a folder holds: summary.json -> run, map.json -> sweep, index.json -> batch; null for none. */
+/** What a folder holds: summary.json -> run, map.json -> sweep, compare.json -> compare, index.json -> batch; null for none. */
 export function detectResultFolder(dir: string): ResultFolderKind | null {
   if (existsSync(join(dir, RUN_FILES.summary))) return 'run';
   if (existsSync(join(dir, SWEEP_MAP_FILE))) return 'sweep';
+  if (existsSync(join(dir, COMPARE_FILES.json))) return 'compare';
   if (existsSync(join(dir, BATCH_FILES.index))) return 'batch';
   return null;
 }
@@ -60,7 +62,8 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: 'expected a result folder (with summary.json, map.json or index.json), found no such folder',
+        message:
+          'expected a result folder (with summary.json, map.json, compare.json or index.json), found no such folder',
       },
     ]);
   }
@@ -69,12 +72,13 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_MAP_FILE}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
+        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_MAP_FILE}), a comparison folder (${COMPARE_FILES.json}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
       },
     ]);
   }
   if (kind === 'run') return { kind, written: [writeRunReport(dir)] };
   if (kind === 'sweep') return { kind, written: [writeSweepReport(dir)] };
+  if (kind === 'compare') return { kind, written: [writeCompareReport(dir)] };
   const index = readBatchIndex(join(dir, BATCH_FILES.index));
   const written = [writeBatchIndexHtml(dir, index)];
   for (const e of index) {
