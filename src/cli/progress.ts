@@ -121,7 +121,11 @@ export function createProgress(opts: ProgressOptions): ProgressReporter {
     let started = false;
     const payload = () => {
       const r = rate();
-      return { rate: formatRate(r), eta_text: r > 0 ? formatDuration((total - done) / r) : '?' };
+      return {
+        rate: formatRate(r),
+        // nothing finished yet (the references run first): no pace to extrapolate
+        eta_text: r > 0 ? formatDuration((total - done) / r) : 'estimating',
+      };
     };
     return {
       update(d, t) {
@@ -206,7 +210,7 @@ export function createRunProgress(opts: {
   const t0 = now();
   const eta = (f: number) => {
     const dt = (now() - t0) / 1000;
-    return f > 0 && f < 1 ? formatDuration((dt * (1 - f)) / f) : '?';
+    return f > 0 && f < 1 ? formatDuration((dt * (1 - f)) / f) : 'estimating';
   };
   let stopped = false;
   if (!opts.plain && interactive(stream)) {
@@ -217,7 +221,7 @@ export function createRunProgress(opts: {
       clearOnComplete: false,
       fps: 5,
     });
-    bar.start(1000, 0, { what: '', eta_text: '?' });
+    bar.start(1000, 0, { what: '', eta_text: 'estimating' });
     return {
       onProgress(f, what) {
         if (!stopped) bar.update(Math.round(Math.min(1, Math.max(0, f)) * 1000), { what, eta_text: eta(f) });
