@@ -397,8 +397,14 @@ function measuredCurve(
       marker: { symbol, size: 9, color: colour, line: { color: '#111111', width: 1 } },
     });
   };
-  edgeMarks(sp.below, e[0], 'triangle-down', 'below the grid');
-  edgeMarks(sp.beyond, e[e.length - 1], 'triangle-up', 'beyond the grid');
+  // inside the outermost cells, half way to the grid's edge (geometric on a log axis)
+  const v = ampAxis.values;
+  const log = ampAxis.scale === 'log' && v.every((x) => x > 0);
+  const mid = (a: number, b: number) => (log ? Math.sqrt(a * b) : (a + b) / 2);
+  const lowest = Math.min(...v);
+  const highest = Math.max(...v);
+  edgeMarks(sp.below, mid(lowest, Math.min(...e)), 'triangle-down', 'below the grid');
+  edgeMarks(sp.beyond, mid(highest, Math.max(...e)), 'triangle-up', 'beyond the grid');
   return out;
 }
 
