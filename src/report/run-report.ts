@@ -247,7 +247,7 @@ function comparison(s: RunSummary): SafeHtml {
   ];
   return section(
     'compare',
-    'Three ways to run it: no return mirror, mirror still, mirror dithered',
+    'Three ways to run it: no return mirror, mirror held still, mirror dithered',
     html`<table class="compare">
       <thead>
         <tr>
@@ -298,7 +298,7 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
     data.push({
       type: 'scatter',
       mode: 'lines',
-      name: 'still, scanning up',
+      name: 'held still, scanning up',
       x: c.position_m,
       y: c.external_up_W,
       line: { color: TRACE_COLOURS[0], width: 2 },
@@ -306,7 +306,7 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
     data.push({
       type: 'scatter',
       mode: 'lines',
-      name: 'still, scanning down',
+      name: 'held still, scanning down',
       x: c.position_m,
       y: c.external_down_W,
       line: { color: TRACE_COLOURS[1], width: 1.5, dash: 'dot' },
