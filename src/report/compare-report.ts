@@ -235,7 +235,7 @@ function waveformSection(c: ComparisonLike, plots: PlotSpec[]): SafeHtml {
       <div>
         ${plotDiv(
           'compare-position',
-          `Mirror motion each voltage waveform gives through the actuator's response, over ${PERIODS} periods of the drive (the triangle from its odd harmonics, two tones drawn starting in phase).`,
+          `Mirror motion each voltage waveform gives through the actuator's response, over ${PERIODS} periods of the drive, two tones drawn starting in phase. The triangle is drawn as the actuator delivers it (its odd harmonics to the 9th through the response), which can differ from the ideal triangle of the table's amplitude that the run used; the notes above say by how much.`,
           'Mirror position',
         )}
       </div>
