@@ -365,23 +365,32 @@ describe('recommended operating point', () => {
     expect(p.reason).toMatch(/smallest stroke/);
   });
 
-  it('no decoupled point, or none with a margin, gives null and a reason', () => {
+  it('no decoupled point gives null and a reason; none with a margin gives the fallback, marked', () => {
     const none = recommendOperatingPoint(
       synthMap([AMP, FREQ], () => 'hopping'),
       scenario(ACT),
     );
     expect(none.recommended).toBeNull();
     expect(none.recommended_reason).toMatch(/none of the 289 map points is decoupled/);
+    // a sweep stopped after 3 points: the reason counts the finished points, not the grid
+    const stopped = synthMap([AMP, FREQ], () => 'hopping');
+    stopped.classes = stopped.classes.map((c, i) => (i < 3 ? c : null));
+    expect(recommendOperatingPoint(stopped, scenario(ACT)).recommended_reason).toMatch(
+      /none of the 3 finished point\(s\) \(of 289 on the map\) is decoupled/,
+    );
     const lone = AMP.values[8];
     const f0 = FREQ.values[8];
-    const isolated = recommendOperatingPoint(
-      synthMap([AMP, FREQ], (v) =>
-        v['drive.amplitude'] === lone && v['drive.frequency'] === f0 ? 'decoupled' : 'modulated',
-      ),
-      scenario(ACT),
+    const isolatedMap = synthMap([AMP, FREQ], (v) =>
+      v['drive.amplitude'] === lone && v['drive.frequency'] === f0 ? 'decoupled' : 'modulated',
     );
-    expect(isolated.recommended).toBeNull();
-    expect(isolated.recommended_reason).toMatch(/no margin/);
+    // without an actuator every point is reachable: the lone decoupled point is the fallback
+    const isolated = recommendOperatingPoint(isolatedMap, scenario());
+    expect(isolated.recommended).not.toBeNull();
+    expect([isolated.recommended!.amplitude_m, isolated.recommended!.frequency_Hz]).toEqual([lone, f0]);
+    expect(isolated.recommended!.margin).toBe(false);
+    expect(isolated.recommended_reason).toMatch(/^no margin on this grid/);
+    // a point with decoupled neighbours is marked as having its margin
+    expect(recommendOperatingPoint(synthMap([AMP, FREQ], rule), scenario()).recommended!.margin).toBe(true);
     const noAxes = recommendOperatingPoint(synthMap([AMP], rule), scenario(ACT));
     expect(noAxes.recommended).toBeNull();
     expect(noAxes.recommended_reason).toMatch(/drive\.frequency/);

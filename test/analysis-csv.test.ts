@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { spectraSetToCsv, traceSetToCsv } from '../src/analysis';
+import { mapToCsv, spectraSetToCsv, traceSetToCsv } from '../src/analysis';
+import type { SweepMap } from '../src/results/map';
 import type { SpectraSet, TraceSet } from '../src/results/artifacts';
 
 // Layout per RFC 4180 (Y. Shafranovich, 2005): comma separator, CRLF, quoted cells with
@@ -53,7 +54,7 @@ describe('CSV of traces and spectra', () => {
     );
   });
 
-  it('spectra: column pairs per spectrum, shorter columns padded with empty cells', () => {
+  it('spectra: long format, one row per bin, so spectra of different lengths never share a row', () => {
     const ss: SpectraSet = {
       rin: {
         f_Hz: [10, 20, 30],
@@ -66,17 +67,73 @@ describe('CSV of traces and spectra', () => {
       drive_harmonics_Hz: [140e3, 280e3],
     };
     const rows = parse(spectraSetToCsv(ss));
-    expect(rows[0]).toEqual([
-      'RIN frequency (Hz)',
-      'RIN (dB/Hz)',
-      'mode 2 optical offset (Hz)',
-      'mode 2 optical (dB)',
-      'drive harmonic (Hz)',
-    ]);
-    expect(rows.length).toBe(5);
-    expect(rows[4]).toEqual(['', '', '10', '-60', '']);
-    expect(rows[2]).toEqual(['20', '-125.5', '0', '0', '280000']);
+    expect(rows[0]).toEqual(['spectrum', 'mode', 'frequency (Hz)', 'value', 'unit']);
+    // 3 RIN bins + 4 optical bins + 2 harmonics, plus the header
+    expect(rows.length).toBe(1 + 3 + 4 + 2);
+    expect(rows[2]).toEqual(['rin', '', '20', '-125.5', 'dB/Hz']);
+    expect(rows[7]).toEqual(['optical', '2', '10', '-60', 'dB']);
+    expect(rows[9]).toEqual(['drive harmonic', '', '280000', '', '']);
     const noRin = parse(spectraSetToCsv({ ...ss, rin: null, optical: [] }));
-    expect(noRin[0]).toEqual(['drive harmonic (Hz)']);
+    expect(noRin.map((r) => r[0])).toEqual(['spectrum', 'drive harmonic', 'drive harmonic']);
+  });
+
+  it('map: one row per point in index order, axes with units, computed or not, metrics with their standard errors', () => {
+    const map = {
+      version: 1,
+      name: 'csv',
+      scenario_sha256: '0',
+      axes: [
+        { key: 'drive.amplitude', values: [1e-7, 2e-7], scale: 'linear' as const },
+        { key: 'drive.frequency', values: [1e3, 2e3, 3e3], scale: 'linear' as const },
+      ],
+      total_points: 6,
+      finished_points: 5,
+      failed_points: 0,
+      metrics: {
+        external_mean_W: [0.1, 0.2, 0.3, 0.4, 0.5, null],
+        external_mean_stderr_W: [0.01, 0.02, 0.03, 0.04, 0.05, null],
+        ripple_rel: [0.5, 0.4, 0.3, 0.2, 0.1, null],
+      },
+      classes: ['hopping', 'hopping', 'decoupled', 'no-gain', 'decoupled', null],
+      class_reasons: ['a, b', 'r', 'r', 'r', 'r', null],
+      amplitude_key: null,
+      frequency_key: null,
+      onset_curve: null,
+      decoupling_boundary: null,
+      critical_curve: null,
+      reachable: [true, true, true, false, false, false],
+      recommended: null,
+      recommended_reason: '',
+      inferred: [false, false, false, false, true, false],
+    } as SweepMap & { inferred: boolean[] };
+    const rows = parse(mapToCsv(map, (k) => (k === 'drive.amplitude' ? 'm' : 'Hz')));
+    expect(rows[0]).toEqual([
+      'index',
+      'drive.amplitude (m)',
+      'drive.frequency (Hz)',
+      'computed',
+      'class',
+      'external_mean_W',
+      'external_mean_stderr_W',
+      'ripple_rel',
+      'reachable',
+      'class reason',
+    ]);
+    expect(rows.length).toBe(7);
+    // index 4 = second amplitude (row-major, last axis fastest), second frequency
+    expect(rows[5]).toEqual(['4', '2e-7', '2000', 'inferred', 'decoupled', '0.5', '0.05', '0.1', 'no', 'r']);
+    expect(rows[1]).toEqual([
+      '0',
+      '1e-7',
+      '1000',
+      'computed',
+      'hopping',
+      '0.1',
+      '0.01',
+      '0.5',
+      'yes',
+      'a, b',
+    ]);
+    expect(rows[6]).toEqual(['5', '2e-7', '3000', 'not run', '', '', '', '', 'no', '']);
   });
 });

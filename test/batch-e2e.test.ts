@@ -58,8 +58,27 @@ describe('batch command end to end', () => {
     expect(sweep.points).toMatchObject({ finished: 2, failed: 0, total: 2 });
     for (const f of ['summary.json', 'report.html'])
       expect(existsSync(join(out, 'tiny-run', f)), f).toBe(true);
-    for (const f of ['points.ndjson', 'map.json', 'sweep.json'])
+    for (const f of ['points.ndjson', 'map.json', 'map.csv', 'sweep.json'])
       expect(existsSync(join(out, 'tiny-batch-sweep', f)), f).toBe(true);
+    // index.json carries the gap power and the drive of each entry, copied from its own results
+    const runSummary = JSON.parse(readFileSync(join(out, 'tiny-run', 'summary.json'), 'utf8'));
+    expect(run.external_mean_W).toBe(runSummary.driven.external_mean_W);
+    expect(run.drive).toEqual({
+      waveform: runSummary.drive.waveform,
+      amplitude_m: runSummary.drive.amplitude_m,
+      frequency_Hz: runSummary.drive.frequency_Hz,
+    });
+    expect('external_mean_stderr_W' in run).toBe(true);
+    const version = JSON.parse(readFileSync(join(__dirname, '..', 'package.json'), 'utf8')).version;
+    expect(run.tool_version).toBe(version);
+    expect(runSummary.tool_version).toBe(version);
+    const map = JSON.parse(readFileSync(join(out, 'tiny-batch-sweep', 'map.json'), 'utf8'));
+    expect(map.tool_version).toBe(version);
+    // map.csv: a header and one row per grid point
+    const csv = readFileSync(join(out, 'tiny-batch-sweep', 'map.csv'), 'utf8')
+      .trim()
+      .split('\r\n');
+    expect(csv.length).toBe(1 + map.total_points);
     expect(existsSync(join(out, 'index.html'))).toBe(true);
     // The run's folder holds the run of that very file: its hash is the one `check --json` gives for it.
     const summary = JSON.parse(readFileSync(join(out, 'tiny-run', 'summary.json'), 'utf8'));

@@ -2,7 +2,7 @@
 // in the run summary. The CLI part runs the real binary: needs `npm run build` first (npm
 // test does it). Fixture: test/fixtures/compare/tiny-compare.yaml (invented numbers, a few
 // seconds per comparison).
-import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { scratchDir } from './fixtures/scratch';
@@ -19,7 +19,7 @@ import {
 } from '../src/simulate/compare';
 import { runScenario } from '../src/simulate/run';
 import { actuatorSheet } from '../src/physics/actuator';
-import { buildRunReportHtml } from '../src/report';
+import { buildRunReportHtml, waveformMotion } from '../src/report';
 import { fmtSI } from '../src/report/format';
 
 const FIXTURE = join(ROOT, 'test', 'fixtures', 'compare', 'tiny-compare.yaml');
@@ -288,6 +288,34 @@ describe('dithercav compare', () => {
     const j = JSON.parse(readFileSync(file, 'utf8')) as WaveformComparison;
     expect(j.rows.map((x) => x.waveform)).toEqual(['sine', 'triangle', 'two-tone']);
     expect(j.basis).toBe('equal peak voltage');
+    // report.html beside it, rebuilt by `dithercav report` from compare.json alone
+    const page = join(out, 'report.html');
+    expect(existsSync(page)).toBe(true);
+    rmSync(page);
+    const rebuilt = cli('report', out);
+    expect(rebuilt.code, rebuilt.err).toBe(0);
+    const text = readFileSync(page, 'utf8');
+    expect(text).toContain('data-report-kind="compare"');
+    expect(text).toContain('The waveforms side by side');
+  });
+
+  it('draws each waveform from its saved parts: a sine part gives A sin(wt + phi) and speed A w cos(wt + phi)', () => {
+    // closed form of one sinusoid, checked at a quarter period
+    const A = 2e-7;
+    const f = 1e5;
+    const m = waveformMotion([{ frequency_Hz: f, amplitude_m: A, response_phase_rad: 0 }], f, 1, 4);
+    expect(m.t).toHaveLength(5);
+    expect(m.x[1]).toBeCloseTo(A, 18); // sin(pi/2) = 1; tolerance: double round-off at 1e-7 scale
+    expect(m.v[0]).toBeCloseTo(2 * Math.PI * f * A, 9); // cos(0) = 1
+    // two parts add: the peak of the sum at t = 0 with phases pi/2 is A1 + A2
+    const two = waveformMotion(
+      [
+        { frequency_Hz: f, amplitude_m: A, response_phase_rad: Math.PI / 2 },
+        { frequency_Hz: 3 * f, amplitude_m: A / 3, response_phase_rad: Math.PI / 2 },
+      ],
+      f,
+    );
+    expect(two.x[0]).toBeCloseTo(A + A / 3, 18);
   });
 
   it('bad input exits 2 with the file and the key', () => {

@@ -49,7 +49,7 @@ describe('report folder detection and rebuild', () => {
   it('a folder with none of the result files is bad input naming the folder and what was expected', () => {
     expect(() => rebuildReport(emptyDir)).toThrow(InputError);
     expect(() => rebuildReport(emptyDir)).toThrow(
-      `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json), found none of these files`,
+      `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json), a comparison folder (compare.json) or a batch folder (index.json), found none of these files`,
     );
     expect(() => rebuildReport(join(root, 'missing'))).toThrow(
       /missing: expected a result folder .*found no such folder/,
@@ -95,7 +95,7 @@ describe.skipIf(!built && process.env.CI !== 'true')('dithercav report (binary)'
     const r = run(emptyDir);
     expect(r.code).toBe(2);
     expect(r.err).toContain(
-      `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json) or a batch folder (index.json)`,
+      `${emptyDir}: expected a run folder (summary.json), a sweep folder (map.json), a comparison folder (compare.json) or a batch folder (index.json)`,
     );
     expect(r.err).not.toMatch(/\n\s+at /); // no stack trace
   });

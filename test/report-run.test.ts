@@ -9,6 +9,8 @@ import {
   scenarioRows,
   writeRunReport,
   INTERFACE_MISMATCH_LIMIT,
+  envelope,
+  ZOOM_PERIODS,
 } from '../src/report';
 import { InputError } from '../src/scenario/errors';
 import { formatSI } from '../src/scenario/units';
@@ -21,8 +23,9 @@ const root = scratchDir('report-run');
 
 type Plot = { id: string; data: Record<string, unknown>[]; layout: Record<string, unknown> };
 
+/** The page without the plotting bundle, white space between tags removed (the source layout is Prettier's). */
 function own(page: string): string {
-  return page.replace(plotlyBundle(), '');
+  return page.replace(plotlyBundle(), '').replace(/>\s+</g, '><');
 }
 function plotsOf(page: string): Plot[] {
   const m = /<script type="application\/json" id="report-data">([^<]*)<\/script>/.exec(page);
@@ -73,17 +76,43 @@ describe('run report', () => {
     expect(p.data[2].y).toEqual(a.summary.driven!.external_mean_by_offset_W.values);
   });
 
-  it('draws every saved trace series once, on the saved time axis, with a mark at each drive period', () => {
-    const tracePlots = plots.filter((x) => x.id.startsWith('plot-trace-'));
-    const drawn = tracePlots.flatMap((p) => p.data.map((d) => d.y));
-    expect(drawn).toHaveLength(a.traces!.series.length);
-    for (const s of a.traces!.series) expect(drawn).toContainEqual(s.values);
+  it('draws every saved trace series once as a zoom of the first drive periods, with a mark at each period', () => {
+    const zoomPlots = plots.filter((x) => /^plot-trace-\d+$/.test(x.id));
     const t = a.traces!.t_s;
     const T = a.traces!.drive_period_s!;
-    // independent count: multiples of T inside [t0, t_end]
+    const end = t[0] + Math.min(ZOOM_PERIODS, Math.floor((t[t.length - 1] - t[0]) / T)) * T;
+    const keep = t.map((x, i) => (x <= end ? i : -1)).filter((i) => i >= 0);
+    const drawn = zoomPlots.flatMap((p) => p.data.map((d) => d.y));
+    expect(drawn).toHaveLength(a.traces!.series.length);
+    for (const s of a.traces!.series) expect(drawn).toContainEqual(keep.map((i) => s.values[i]));
+    for (const p of zoomPlots) expect(p.data[0].x).toEqual(keep.map((i) => t[i]));
+    // independent count: multiples of T inside [t0, end of the zoom]
     let expected = 0;
-    for (let k = 0; k * T <= t[t.length - 1] + 1e-18; k++) if (k * T >= t[0]) expected++;
-    expect((tracePlots[0].layout.shapes as unknown[]).length).toBe(expected);
+    for (let k = 0; k * T <= end + 1e-18; k++) if (k * T >= t[0]) expected++;
+    expect((zoomPlots[0].layout.shapes as unknown[]).length).toBe(expected);
+  });
+
+  it('draws the whole window as an envelope per drive period: min, max and mean of each period', () => {
+    const envPlots = plots.filter((x) => x.id.startsWith('plot-trace-env-'));
+    expect(envPlots.length).toBe(groupSeries(a.traces!.series).length);
+    const t = a.traces!.t_s;
+    const T = a.traces!.drive_period_s!;
+    const s = a.traces!.series[0];
+    const env = envPlots[0].data;
+    // the first period checked by a plain filter over the saved samples
+    const first = s.values.filter((_, i) => t[i] - t[0] < T) as number[];
+    expect((env[0].y as number[])[0]).toBe(Math.max(...first));
+    expect((env[1].y as number[])[0]).toBe(Math.min(...first));
+    // mean of the same samples; tolerance: summation order only
+    expect((env[2].y as number[])[0]).toBeCloseTo(first.reduce((x, y) => x + y, 0) / first.length, 12);
+    expect(env[1].fill).toBe('tonexty');
+  });
+
+  it('envelope: a window with no finite value is null, not 0', () => {
+    const e = envelope([0, 1, 2, 3], [null, null, 5, 7], 2);
+    expect(e.min).toEqual([null, 5]);
+    expect(e.max).toEqual([null, 7]);
+    expect(e.mean).toEqual([null, 6]);
   });
 
   it('keeps positions, speeds, gap power, laser output and per-mode powers on separate plots', () => {
@@ -117,7 +146,7 @@ describe('run report', () => {
 
   it(`highlights an interface mismatch above ${INTERFACE_MISMATCH_LIMIT * 100} % and lists the warnings`, () => {
     expect(text).toMatch(
-      /<tr class="flag"><th>mismatch at the output coupler[^<]*<\/th><td class="num">8 %<\/td>/,
+      /<tr class="flag"><th>interface mismatch at the output coupler[^<]*<\/th><td class="num">8 %<\/td>/,
     );
     expect(text).toContain('<code>layout-fixture</code>');
   });
@@ -136,7 +165,9 @@ describe('run report with values not computed', () => {
   const text = own(page);
 
   it('shows a null as "not computed", never as 0', () => {
-    expect(rowValue(text, 'gain over the mirror held still')).toBe('not computed');
+    expect(rowValue(text, 'gain over the mirror held still (mean over the same rest positions)')).toBe(
+      'not computed',
+    );
     expect(rowValue(text, 'critical speed (locking rule)')).toBe('not computed');
     expect(rowValue(text, 'beam radius at the return mirror')).toBe('not computed');
   });

@@ -3,8 +3,10 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { scratchDir } from './fixtures/scratch';
 import {
+  axisSpacing,
   bestPoints,
   buildSweepReportHtml,
+  logTicks,
   grid,
   mapAxes,
   plotlyBundle,
@@ -87,44 +89,78 @@ describe('sweep report, amplitude x frequency', () => {
     expect(classMap.data[0].z.flat().filter((v: unknown) => v === null).length).toBe(m.failed_points);
   });
 
-  it('draws the speed rule A = v_c/(2 pi f), the onset, the boundary, the reachable outline and the recommended point on every map', () => {
+  it('draws the speed rule A = v_c/(2 pi f), the onset, the boundary, the shaded reachable region and the recommended point on every map', () => {
+    const amps = m.axes.find((a) => a.key === 'drive.amplitude')!.values;
+    const lowest = Math.min(...amps);
     for (const p of plots) {
       const names = p.data.map((d) => d.name);
       expect(names).toEqual(
         expect.arrayContaining([
-          'speed rule A = v_c/(2πf)',
-          'hopping onset (measured)',
+          'speed rule A = v_c/(2πf) (first-order estimate)',
           'decoupling boundary (measured)',
-          'reachable by the actuator',
+          'reachable by the actuator (shaded)',
           'recommended operating point',
         ]),
       );
-      const rule = p.data.find((d) => d.name === 'speed rule A = v_c/(2πf)')!;
+      const rule = p.data.find((d) => d.name === 'speed rule A = v_c/(2πf) (first-order estimate)')!;
       expect(rule.x).toEqual(m.critical_curve!.map((c) => c.frequency_Hz));
       expect(rule.y).toEqual(m.critical_curve!.map((c) => c.amplitude_m));
-      const boundary = p.data.find((d) => d.name === 'decoupling boundary (measured)')!;
-      expect(boundary.y).toEqual(m.decoupling_boundary!.map((c) => c.amplitude_m)); // nulls kept as gaps
+      // each measured curve: a line only where the boundary lies between two grid amplitudes;
+      // at the lowest amplitude it is marked "below the grid", absent it is "beyond the grid"
+      for (const [curve, name] of [
+        [m.decoupling_boundary!, 'decoupling boundary'],
+        [m.onset_curve!, 'hop onset'],
+      ] as const) {
+        const line = p.data.find((d) => d.name === `${name} (measured)`);
+        const below = p.data.find((d) => d.name === `${name}: below the grid`);
+        const beyond = p.data.find((d) => d.name === `${name}: beyond the grid`);
+        const expLine = curve.map((c) =>
+          c.amplitude_m === null || c.amplitude_m <= lowest ? null : c.amplitude_m,
+        );
+        if (expLine.some((v) => v !== null)) expect(line!.y).toEqual(expLine);
+        else expect(line).toBeUndefined();
+        const expBelow = curve
+          .filter((c) => c.amplitude_m !== null && c.amplitude_m <= lowest)
+          .map((c) => c.frequency_Hz);
+        const expBeyond = curve.filter((c) => c.amplitude_m === null).map((c) => c.frequency_Hz);
+        expect(below ? below.x : []).toEqual(expBelow);
+        expect(beyond ? beyond.x : []).toEqual(expBeyond);
+      }
       const star = p.data.find((d) => d.name === 'recommended operating point')!;
       expect([star.x[0], star.y[0]]).toEqual([m.recommended!.frequency_Hz, m.recommended!.amplitude_m]);
-      const reach = p.data.find((d) => d.name === 'reachable by the actuator')!;
+      expect(star.text[0]).toContain('recommended operating point');
+      const reach = p.data.find((d) => d.name === 'reachable by the actuator (shaded)')!;
       expect(reach.type).toBe('contour');
-      expect(reach.z.flat().filter((v: number) => v === 1).length).toBe(m.reachable!.filter(Boolean).length);
+      expect(reach.contours.coloring).toBe('fill');
+      // every cell appears as 2 x 2 contour nodes just inside its edges
+      expect(reach.z.flat().filter((v: number) => v === 1).length).toBe(
+        4 * m.reachable!.filter(Boolean).length,
+      );
     }
   });
 
+  it('titles every colour bar with what it shows and its unit, and the axes in words', () => {
+    for (const p of plots.filter((x) => x.id.startsWith('map-metric-'))) {
+      const title = p.data[0].colorbar.title.text as string;
+      expect(title.length).toBeGreaterThan(3);
+    }
+    expect(classMap.layout.xaxis.title.text).toBe('drive frequency (Hz)');
+    expect(classMap.layout.yaxis.title.text).toBe('drive amplitude (m)');
+  });
+
   it('puts the four main metrics first, full size, and further metrics of the map after them', () => {
-    const main = page.indexOf('<h3>mode hops per second</h3>');
+    const main = page.indexOf('<h3 class="fig-title">mode hops per second</h3>');
     const further = page.indexOf('Further metrics saved in the map');
     expect(main).toBeGreaterThan(0);
     expect(further).toBeGreaterThan(main);
-    expect(page.indexOf('<h3>peak speed (m/s)</h3>')).toBeGreaterThan(further);
+    expect(page.indexOf('<h3 class="fig-title">peak mirror speed (m/s)</h3>')).toBeGreaterThan(further);
   });
 
   it('says so when the actuator reaches every point, and draws no outline then', () => {
     const all = makeSweepMap({ nA: 4, nF: 3 });
     all.reachable = all.reachable!.map(() => true);
     const p = buildSweepReportHtml(all);
-    expect(p).toContain('the actuator can reach every point of the map');
+    expect(p).toContain('The actuator can reach every point of the map');
     expect(plotsOf(p).every((x) => x.data.every((d) => d.type !== 'contour'))).toBe(true);
   });
 
@@ -132,13 +168,53 @@ describe('sweep report, amplitude x frequency', () => {
     for (const c of RUN_CLASSES) expect(page).toContain(`<b>${c}</b> — `);
   });
 
-  it('ranks the best points: decoupled only, highest gain over static first (checked against a plain sort)', () => {
+  it('ranks the best points: decoupled and reachable only, highest gain over static first (checked against a plain sort)', () => {
     const best = bestPoints(m, 10);
     const g = m.metrics.gain_over_static;
-    const all = m.classes.map((_c, i) => i).filter((i) => m.classes[i] === 'decoupled' && g[i] !== null);
+    const all = m.classes
+      .map((_c, i) => i)
+      .filter((i) => m.classes[i] === 'decoupled' && g[i] !== null && m.reachable![i]);
     const expected = [...all].sort((a, b) => g[b]! - g[a]! || a - b).slice(0, 10);
     expect(best).toEqual(expected);
     expect(best.length).toBeGreaterThan(0);
+    // the recommended point is in the table, marked, with its class and figures
+    const own = page
+      .replace(plotlyBundle(), '')
+      .replace(/>\s+</g, '><')
+      .replace(/>\s+/g, '>')
+      .replace(/\s+</g, '<');
+    expect(own).toContain('★ recommended');
+    expect(own).toMatch(/<th>gain over the mirror held still<\/th><td class="num">[^<]*x<\/td>/);
+    expect(own).toMatch(/<th>class there<\/th><td><span class="badge"/);
+  });
+
+  it('marks a fallback recommendation "no margin on this grid" on the map and in the table', () => {
+    const fb = makeSweepMap({});
+    expect(fb.recommended).not.toBeNull();
+    fb.recommended = { ...fb.recommended!, margin: false, reason: 'no margin on this grid: test' };
+    const p = buildSweepReportHtml(fb);
+    expect(p).toContain('Recommended operating point (no margin on this grid)');
+    const star = plotsOf(p)[0].data.find((d) => d.name === 'recommended point (no margin on this grid)');
+    expect(star).toBeDefined();
+  });
+
+  it('describes explicitly listed axis values as listed, not as linear steps', () => {
+    expect(axisSpacing({ key: 'drive.frequency', values: [1e3, 2e3, 3e3], scale: 'linear' })).toBe(
+      'linear steps',
+    );
+    expect(axisSpacing({ key: 'drive.frequency', values: [1e3, 1e4, 1e5], scale: 'log' })).toBe('log steps');
+    expect(axisSpacing({ key: 'drive.frequency', values: [1e3, 2e3, 7e3], scale: 'linear' })).toMatch(
+      /^listed values/,
+    );
+  });
+
+  it('labels log ticks with SI prefixes and the unit, decades only when 1-2-5 steps would crowd', () => {
+    const wide = logTicks(1e-9, 1e-3, 'm');
+    expect(wide.tickvals).toEqual([1e-9, 1e-8, 1e-7, 1e-6, 1e-5, 1e-4, 1e-3]);
+    expect(wide.ticktext.slice(0, 4)).toEqual(['1 nm', '10 nm', '100 nm', '1 µm']);
+    const many = logTicks(1e3, 1e4, 'Hz');
+    expect(many.tickvals).toEqual([1e3, 2e3, 5e3, 1e4]);
+    expect(many.ticktext[0]).toBe('1 kHz');
   });
 });
 

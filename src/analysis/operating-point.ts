@@ -108,17 +108,19 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
     if (ok) withMargin.push(i);
   }
   if (decoupledCount === 0) {
+    const finished = map.classes.filter((c) => c !== null && c !== undefined).length;
     return {
       recommended: null,
-      recommended_reason: `no operating point: none of the ${n} map points is decoupled`,
+      recommended_reason:
+        finished < n
+          ? `no operating point: none of the ${finished} finished point(s) (of ${n} on the map) is decoupled`
+          : `no operating point: none of the ${n} map points is decoupled`,
     };
   }
-  if (withMargin.length === 0) {
-    return {
-      recommended: null,
-      recommended_reason: `no operating point: ${decoupledCount} point(s) are decoupled but none has decoupled neighbours in both amplitude and frequency (no margin)`,
-    };
-  }
+  // Without a point whose neighbours are decoupled too, the cheapest decoupled point is
+  // still offered, marked: it may sit on the edge of the decoupled region.
+  const margin = withMargin.length > 0;
+  const candidates = margin ? withMargin : [...Array(n).keys()].filter(isDecoupled);
 
   const hasActuator = scenario.actuator !== undefined;
   const byUtilisation =
@@ -128,7 +130,7 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   let bestCost: Cost | null = null;
   let reachableCount = 0;
   const refusals = new Map<string, number>();
-  for (const i of withMargin) {
+  for (const i of candidates) {
     const values = axisValuesAt(map.axes, i);
     const s = withOverrides(scenario, values);
     let cost: Cost;
@@ -168,7 +170,9 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
     const why = [...refusals.entries()].map(([k, c]) => `${c} exceed ${k}`).join(', ');
     return {
       recommended: null,
-      recommended_reason: `no operating point: ${withMargin.length} point(s) are decoupled with a margin but the actuator reaches none of them (${why})`,
+      recommended_reason: margin
+        ? `no operating point: ${withMargin.length} point(s) are decoupled with a margin but the actuator reaches none of them (${why})`
+        : `no operating point: ${decoupledCount} point(s) are decoupled, none with decoupled neighbours in both amplitude and frequency, and the actuator reaches none of them (${why})`,
     };
   }
 
@@ -191,11 +195,15 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
   } else {
     cheapest = `smallest stroke (${formatSI(stroke, 'm', 3)} peak to peak; no actuator described) at ${where}`;
   }
-  let reason =
-    `${cheapest}, ` +
-    `among ${reachableCount} point(s) that are decoupled with decoupled neighbours in amplitude and frequency` +
-    (hasActuator ? ' and that the actuator can reach' : '') +
-    ` (${decoupledCount} of ${n} points decoupled, ${withMargin.length} with a margin)`;
+  let reason = margin
+    ? `${cheapest}, ` +
+      `among ${reachableCount} point(s) that are decoupled with decoupled neighbours in amplitude and frequency` +
+      (hasActuator ? ' and that the actuator can reach' : '') +
+      ` (${decoupledCount} of ${n} points decoupled, ${withMargin.length} with a margin)`
+    : `no margin on this grid: no decoupled point has decoupled neighbours in both amplitude and frequency, so this is the ${cheapest}, ` +
+      `among ${reachableCount} decoupled point(s)` +
+      (hasActuator ? ' that the actuator can reach' : '') +
+      ` (${decoupledCount} of ${n} points decoupled); it may sit on the edge of the decoupled region: refine the grid around it before relying on it`;
   if (others.length > 0) {
     reason += `; best over the other axes: ${others.map((a) => `${a.key} = ${values[a.key]}`).join(', ')}`;
   }
@@ -211,6 +219,7 @@ export function recommendOperatingPoint(map: SweepMap, scenario: Scenario): Oper
       limiting_key: bestCost.limitingKey,
       stroke_m: stroke,
       reason,
+      margin,
     },
     recommended_reason: reason,
   };

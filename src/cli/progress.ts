@@ -63,7 +63,8 @@ export function formatProgressLine(
  * the plan may still grow to `upper` (a refining map), so the ETA never claims more than known.
  */
 export function etaText(done: number, total: number, ratePerS: number, upper?: number): string {
-  if (!(ratePerS > 0)) return '?';
+  // nothing finished yet (the references run first): no pace to extrapolate
+  if (!(ratePerS > 0)) return 'estimating';
   const low = formatDuration(Math.max(0, total - done) / ratePerS);
   if (upper === undefined || upper <= total) return low;
   return `${low} to ${formatDuration((upper - done) / ratePerS)}`;
@@ -228,7 +229,7 @@ export function createRunProgress(opts: {
   const t0 = now();
   const eta = (f: number) => {
     const dt = (now() - t0) / 1000;
-    return f > 0 && f < 1 ? formatDuration((dt * (1 - f)) / f) : '?';
+    return f > 0 && f < 1 ? formatDuration((dt * (1 - f)) / f) : 'estimating';
   };
   let stopped = false;
   if (!opts.plain && interactive(stream)) {
@@ -239,7 +240,7 @@ export function createRunProgress(opts: {
       clearOnComplete: false,
       fps: 5,
     });
-    bar.start(1000, 0, { what: '', eta_text: '?' });
+    bar.start(1000, 0, { what: '', eta_text: 'estimating' });
     return {
       onProgress(f, what) {
         if (!stopped) bar.update(Math.round(Math.min(1, Math.max(0, f)) * 1000), { what, eta_text: eta(f) });

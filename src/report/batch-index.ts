@@ -8,7 +8,8 @@ import { BATCH_FILES, BatchIndexEntry } from '../results/batch';
 import { RUN_FILES } from '../results/artifacts';
 import { TOOL_VERSION } from '../version';
 import { classBadge, classLegend } from './class-style';
-import { fmtNum, fmtPercent, fmtRatio, NOT_COMPUTED } from './format';
+import { fmtNum, fmtPercent, fmtRatio, fmtSI, isNum, NOT_COMPUTED } from './format';
+import { glossarySection } from './glossary';
 import { renderPage } from './html';
 import { html, SafeHtml } from './safe-html';
 
@@ -53,7 +54,15 @@ export function buildBatchIndexHtml(index: BatchIndexEntry[], generatedAt: Date 
       <td>${e.kind}</td>
       ${status}
       <td>${cls}</td>
-      ${numCell(fmtRatio(e.enhancement))}${numCell(fmtRatio(e.gain_over_static))}${numCell(fmtPercent(e.ripple_rel))}${numCell(fmtNum(e.hops_per_s))}
+      ${numCell(
+        isNum(e.external_mean_W)
+          ? `${fmtSI(e.external_mean_W, 'W')}${isNum(e.external_mean_stderr_W) ? ` ± ${fmtSI(e.external_mean_stderr_W, 'W', 2)}` : ''}`
+          : NOT_COMPUTED,
+      )}${numCell(
+        e.drive && isNum(e.drive.amplitude_m)
+          ? `${fmtSI(e.drive.amplitude_m, 'm')} at ${fmtSI(e.drive.frequency_Hz, 'Hz')}${e.drive.waveform ? ` (${e.drive.waveform})` : ''}`
+          : NOT_COMPUTED,
+      )}${numCell(fmtRatio(e.enhancement))}${numCell(fmtRatio(e.gain_over_static))}${numCell(fmtPercent(e.ripple_rel))}${numCell(fmtNum(e.hops_per_s))}
     </tr>`;
   });
   const failures = entries.filter((e) => e.status !== 'ok');
@@ -71,6 +80,8 @@ export function buildBatchIndexHtml(index: BatchIndexEntry[], generatedAt: Date 
             <th>kind</th>
             <th>status</th>
             <th>class</th>
+            <th class="num">gap power</th>
+            <th class="num">drive</th>
             <th class="num">enhancement</th>
             <th class="num">gain over still</th>
             <th class="num">in-band ripple</th>
@@ -83,6 +94,7 @@ export function buildBatchIndexHtml(index: BatchIndexEntry[], generatedAt: Date 
       </table>
       ${classLegend()}
     </section>
+    ${glossarySection(['gap', 'standard error', 'enhancement', 'gain over the mirror held still', 'ripple', 'mode hop', 'recommended operating point'])}
     <section id="failures">
       <h2>What went wrong</h2>
       ${

@@ -15,8 +15,18 @@ export function isNum(v: unknown): v is number {
 export function fmtSI(v: unknown, unit: string, digits = 4): string {
   if (!isNum(v)) return NOT_COMPUTED;
   if (unit === '/s') return `${fmtNum(v, digits)} /s`;
+  // a prefix goes on the gram, not the kilogram: 2e-5 kg is 20 mg, never "20 ukg"
+  if (unit === 'kg') return fmtSI(v * 1e3, 'g', digits);
   // formatSI writes the micro prefix as "u"; the page can show the proper sign.
   return formatSI(v, unit, digits).replace(/ u(?=\S)/, ' \u00b5');
+}
+
+/**
+ * A position that is zero up to floating-point round-off (|v| below 1e-12 of the
+ * `scale` it was computed from, e.g. a waist position of 2.8e-17 m in a 5 cm gap) as 0.
+ */
+export function snapRoundOff(v: unknown, scale: number): unknown {
+  return isNum(v) && Math.abs(v) < 1e-12 * Math.abs(scale) ? 0 : v;
 }
 
 /** Plain number with `digits` significant digits (exponent form outside 1e-3..1e6), or "not computed". */

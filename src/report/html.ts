@@ -18,7 +18,7 @@ export interface PageSpec {
   /** document title (escaped) */
   title: string;
   /** what the page is, for the header line and the `data-report-kind` attribute */
-  kind: 'run' | 'sweep' | 'batch' | 'yield' | 'comparison';
+  kind: 'run' | 'sweep' | 'batch' | 'yield' | 'comparison' | 'compare';
   /** main heading (escaped), usually the scenario name */
   heading: string;
   /** one line under the heading (escaped) */
@@ -78,9 +78,11 @@ export function baseLayout(extra: Record<string, unknown>): Record<string, unkno
  * unit in brackets ("(W)", "(m)", "(s)") gets SI-prefixed tick labels ("80m", "5µ").
  */
 export function axis(title: string, extra: Record<string, unknown> = {}): Record<string, unknown> {
-  const si = /\((W|m|s|m\/s|Hz|V|A)\)$/.test(title) && extra.type !== 'log';
+  const unit = /\((W|m|s|m\/s|Hz|V|A)\)$/.exec(title)?.[1];
+  const si = unit !== undefined && extra.type !== 'log';
   return {
-    ...(si ? { tickformat: '~s' } : {}),
+    // the unit after the prefix, so watts never read like metres ("120mW", not "120m")
+    ...(si ? { tickformat: '~s', ticksuffix: unit } : {}),
     title: { text: title },
     gridcolor: '#e4e7ec',
     zerolinecolor: '#c5cad3',
@@ -92,9 +94,14 @@ export function axis(title: string, extra: Record<string, unknown> = {}): Record
   };
 }
 
-/** The div a plot is drawn into; `caption` (escaped) is shown under it. */
-export function plotDiv(id: string, caption?: string): SafeHtml {
+/**
+ * The div a plot is drawn into, inside one <figure> with its `title` (escaped, shown
+ * above as a heading) and its `caption` (escaped, shown under it), so that print keeps
+ * title, plot and caption on one page.
+ */
+export function plotDiv(id: string, caption?: string, title?: string): SafeHtml {
   return html`<figure class="plot-box">
+    ${title ? html`<h3 class="fig-title">${title}</h3>` : ''}
     <div class="plot" id="${id}"></div>
     ${caption ? html`<figcaption>${caption}</figcaption>` : ''}
   </figure>`;
@@ -134,7 +141,7 @@ header.top h1 { margin: 4px 0 2px; font-size: 26px; font-weight: 650; word-break
 header.top .sub { margin: 0; opacity: .9; }
 main { max-width: 1120px; margin: 0 auto; padding: 18px 24px 40px; }
 section { background: var(--card); border: 1px solid var(--rule); border-radius: 6px; padding: 14px 20px 16px; margin: 16px 0; }
-section > h2 { font-size: 18px; margin: 0 0 10px; padding-bottom: 6px; border-bottom: 2px solid var(--accent); color: var(--accent); font-weight: 650; }
+section h2 { font-size: 18px; margin: 0 0 10px; padding-bottom: 6px; border-bottom: 2px solid var(--accent); color: var(--accent); font-weight: 650; }
 section > h3, section h3 { font-size: 15px; margin: 14px 0 6px; }
 p.note { color: var(--muted); margin: 6px 0; font-size: 13.5px; }
 table { border-collapse: collapse; margin: 6px 0 8px; font-size: 14px; }
@@ -165,6 +172,26 @@ figcaption { color: var(--muted); font-size: 13px; margin-top: 2px; }
 .legend-words .sw { display: inline-block; width: 14px; height: 14px; border-radius: 3px; vertical-align: -2px; margin-right: 6px; border: 1px solid rgba(0,0,0,.2); }
 .plot-error { color: #8a1c1c; background: #fbe9e9; padding: 8px; }
 footer { color: var(--muted); font-size: 12.5px; text-align: center; padding: 12px; }
+.headline { display: grid; grid-template-columns: 1fr; gap: 6px; margin: 4px 0 12px; }
+.headline .answer { border-left: 6px solid #b9bec8; background: #f7f8fa; padding: 6px 12px; }
+.headline .answer.good { border-left-color: #1f7a5c; }
+.headline .answer.bad { border-left-color: #b23a5b; background: #fbeef1; }
+.headline .q { margin: 0; font-size: 13px; color: var(--muted); font-weight: 600; }
+.headline .q .n { display: inline-block; min-width: 1.4em; color: var(--accent); }
+.headline .a { margin: 1px 0 0; font-size: 17px; font-weight: 650; }
+.headline .d { margin: 2px 0 0; font-size: 12.5px; color: var(--muted); }
+h3.fig-title { font-size: 15px; margin: 12px 0 4px; }
+table.scenario td { white-space: normal; overflow-wrap: anywhere; }
+table.scenario th { white-space: nowrap; }
+.scenario-groups > .wide { grid-column: 1 / -1; }
+.scenario-groups > div { min-width: 0; }
+.glossary dl { margin: 0; display: grid; grid-template-columns: repeat(auto-fit, minmax(420px, 1fr)); gap: 4px 28px; }
+.glossary .term { break-inside: avoid; }
+.glossary dt { font-weight: 650; display: inline; }
+.glossary dt::after { content: ': '; }
+.glossary dd { display: inline; margin: 0; color: var(--ink); font-size: 13.5px; }
+.figure-group { margin: 4px 0 10px; }
+.legend-words { break-inside: avoid; }
 a { color: var(--accent); }
 @media print {
   @page { size: A4 portrait; margin: 14mm 15mm; }
@@ -172,9 +199,12 @@ a { color: var(--accent); }
   header.top { background: none; color: var(--ink); border-bottom: 2px solid var(--ink); padding: 0 0 6px; }
   main { max-width: none; padding: 0; }
   section { border: none; padding: 0; margin: 10px 0; break-inside: auto; }
-  figure.plot-box, table, .verdict, .caution { break-inside: avoid; }
-  section > h2 { break-after: avoid; }
-  .plot { width: 180mm !important; }
+  figure.plot-box, table, .verdict, .caution, .keep, .figure-group, .headline .answer, .map-box, .glossary .term { break-inside: avoid; page-break-inside: avoid; }
+  h2, h3, .fig-title, h2 + p.note, h3 + p.note { break-after: avoid; page-break-after: avoid; }
+  figcaption { break-before: avoid; page-break-before: avoid; }
+  .grid2, .grid-pairs { display: block; }
+  .plot { width: 180mm !important; max-width: 180mm; overflow: hidden; }
+  .glossary dl { display: block; }
   .modebar, .modebar-container, .no-print { display: none !important; }
   .caution { background: #fff; }
   a { color: var(--ink); text-decoration: none; }
@@ -234,7 +264,15 @@ export function renderPage(spec: PageSpec): string {
         <header class="top">
           <p class="what">
             dithercav ·
-            ${spec.kind === 'run' ? 'single run' : spec.kind === 'sweep' ? 'parameter map' : 'batch overview'}
+            ${
+              spec.kind === 'run'
+                ? 'single run'
+                : spec.kind === 'sweep'
+                  ? 'parameter map'
+                  : spec.kind === 'compare'
+                    ? 'waveform comparison'
+                    : 'batch overview'
+            }
           </p>
           <h1>${spec.heading}</h1>
           <p class="sub">${spec.subheading}</p>

@@ -8,3 +8,6 @@ export * from './run-report';
 export * from './sweep-report';
 export * from './batch-index';
 export * from './rebuild';
+export * from './compare-report';
+export * from './headline';
+export * from './glossary';

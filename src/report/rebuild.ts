@@ -11,17 +11,22 @@ import { writeBatchIndexHtml } from './batch-index';
 import { readBatchIndex } from '../results/read';
 import { writeRunReport } from './run-report';
 import { writeSweepReport } from './sweep-report';
-import { SWEEP_FILES } from '../results/files';
+import { COMPARE_FILES, SWEEP_FILES } from '../results/files';
 import { YIELD_FILES } from '../results/yield';
 import { writeYieldReport } from './yield-report';
+import { writeCompareReport } from './compare-report';
 
-export type ResultFolderKind = 'run' | 'sweep' | 'batch' | 'yield';
+export type ResultFolderKind = 'run' | 'sweep' | 'batch' | 'yield' | 'compare';
 
-/** What a folder holds: summary.json -> run, yield.json -> yield, map.json -> sweep, index.json -> batch; null for none. */
+/**
+ * What a folder holds: summary.json -> run, yield.json -> yield, map.json -> sweep,
+ * compare.json -> waveform comparison, index.json -> batch; null for none.
+ */
 export function detectResultFolder(dir: string): ResultFolderKind | null {
   if (existsSync(join(dir, RUN_FILES.summary))) return 'run';
   if (existsSync(join(dir, YIELD_FILES.summary))) return 'yield';
   if (existsSync(join(dir, SWEEP_FILES.map))) return 'sweep';
+  if (existsSync(join(dir, COMPARE_FILES.comparison))) return 'compare';
   if (existsSync(join(dir, BATCH_FILES.index))) return 'batch';
   return null;
 }
@@ -43,7 +48,7 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: `expected a result folder (with ${RUN_FILES.summary}, ${SWEEP_FILES.map} or ${BATCH_FILES.index}), found no such folder`,
+        message: `expected a result folder (with ${RUN_FILES.summary}, ${SWEEP_FILES.map}, ${COMPARE_FILES.comparison} or ${BATCH_FILES.index}), found no such folder`,
       },
     ]);
   }
@@ -52,13 +57,14 @@ export function rebuildReport(dir: string): RebuildResult {
     throw new InputError(dir, [
       {
         path: '',
-        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_FILES.map}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
+        message: `expected a run folder (${RUN_FILES.summary}), a sweep folder (${SWEEP_FILES.map}), a comparison folder (${COMPARE_FILES.comparison}) or a batch folder (${BATCH_FILES.index}), found none of these files`,
       },
     ]);
   }
   if (kind === 'run') return { kind, written: [writeRunReport(dir)] };
   if (kind === 'sweep') return { kind, written: [writeSweepReport(dir)] };
   if (kind === 'yield') return { kind, written: [writeYieldReport(dir)] };
+  if (kind === 'compare') return { kind, written: [writeCompareReport(dir)] };
   const index = readBatchIndex(dir);
   const written = [writeBatchIndexHtml(dir, index)];
   for (const e of index) {

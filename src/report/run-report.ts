@@ -8,12 +8,38 @@ import { join } from 'node:path';
 import { RUN_FILES, RunArtifacts, TraceSeries, TraceSet, SpectraSet } from '../results/artifacts';
 import type { RunSummary, StaticCurve } from '../results/summary';
 import { classBadge, classColour, CLASS_STYLE } from './class-style';
-import { fmtByKey, fmtNum, fmtPercent, fmtRatio, fmtSI, isNum, NOT_COMPUTED } from './format';
+import { fmtByKey, fmtNum, fmtPercent, fmtRatio, fmtSI, isNum, NOT_COMPUTED, snapRoundOff } from './format';
 import { axis, baseLayout, plotDiv, PlotSpec, renderPage, TRACE_COLOURS } from './html';
 import { readRunArtifacts } from './read-results';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
 import { scenarioRows } from './scenario-table';
 import { budgetSection, intensityNote } from './budget-section';
+import { runHeadline, stderrOf, withStderr } from './headline';
+import { glossarySection } from './glossary';
+import { TOOL_VERSION } from '../version';
+
+/** The glossary terms a run report uses, in reading order. */
+export const RUN_TERMS = [
+  'gap',
+  "laser's own output",
+  'standard error',
+  'detection band',
+  'ripple',
+  'mode hop',
+  'free-running',
+  'mirror held still',
+  'gain over the mirror held still',
+  'gain over the still-mirror curve at the same positions',
+  'phase-averaged level',
+  'incoherent fraction',
+  'enhancement',
+  'laser output (net)',
+  'rest position',
+  'critical speed',
+  'power balance error',
+  'interface mismatch',
+  'mode-steps per second',
+] as const;
 
 /** Interface mismatch above this is highlighted: the same limit the run warns at (results/limits.ts). */
 import { INTERFACE_MISMATCH_LIMIT } from '../results/limits';
@@ -63,6 +89,23 @@ function scenarioAnalysis(s: RunSummary, key: string): unknown {
   return get(s.scenario, 'analysis', key);
 }
 
+function headlineBlock(s: RunSummary): SafeHtml {
+  const items = runHeadline(s);
+  return html`<div class="headline">
+    ${items.map(
+      (it, k) =>
+        html`<div
+          class="answer ${it.ok === true ? 'good' : it.ok === false ? 'bad' : ''}"
+          data-answer="${it.id}"
+        >
+          <p class="q"><span class="n">${k + 1}</span> ${it.question}</p>
+          <p class="a">${it.answer}</p>
+          ${it.detail ? html`<p class="d">${it.detail}</p>` : ''}
+        </div>`,
+    )}
+  </div>`;
+}
+
 function verdict(s: RunSummary): SafeHtml {
   const d = s.driven;
   const cls = d?.class ?? (s.status === 'numerical-failure' ? 'numerical-failure' : null);
@@ -73,12 +116,32 @@ function verdict(s: RunSummary): SafeHtml {
   const minGain = scenarioAnalysis(s, 'min_gain_over_static');
   const minIncoherent = scenarioAnalysis(s, 'min_incoherent_fraction');
   const bandwidth = scenarioAnalysis(s, 'detection_bandwidth');
+  const se = (key: string, v: unknown, f: (x: unknown) => string): string => {
+    const e = stderrOf(d, key);
+    return isNum(v) && e !== null ? `${f(v)} ± ${f(e)}` : f(v);
+  };
   const rows: Row[] = [
-    ['enhancement (gap power / free-running intracavity power)', fmtRatio(d?.enhancement)],
-    ['gain over the mirror held still', fmtRatio(d?.gain_over_static)],
+    [
+      'gain over the mirror held still (mean over the same rest positions)',
+      se('gain_over_static', d?.gain_over_static, (x) => fmtRatio(x)),
+    ],
+    [
+      'gain over the still-mirror curve at the same positions (used by the class)',
+      se('gain_over_quasi_static', d?.gain_over_quasi_static, (x) => fmtRatio(x)),
+    ],
     ['gain over the worst still position', fmtRatio(d?.gain_over_worst_static)],
-    ['gap power over the phase-averaged (decoupled) level', fmtRatio(d?.incoherent_fraction)],
-    [`ripple in the detection band (${fmtSI(bandwidth, 'Hz')})`, fmtPercent(d?.ripple_rel)],
+    [
+      'incoherent fraction (gap power over the phase-averaged level)',
+      se('incoherent_fraction', d?.incoherent_fraction, (x) => fmtRatio(x)),
+    ],
+    [
+      'enhancement (gap power over the free-running intracavity power)',
+      se('enhancement', d?.enhancement, (x) => fmtRatio(x)),
+    ],
+    [
+      `ripple in the detection band (${fmtSI(bandwidth, 'Hz')})`,
+      se('ripple_rel', d?.ripple_rel, (x) => fmtPercent(x)),
+    ],
     ['ripple at full bandwidth', fmtPercent(d?.ripple_full_band_rel)],
     [
       'mode hops',
@@ -90,12 +153,13 @@ function verdict(s: RunSummary): SafeHtml {
   const thresholds: Row[] = [
     ['ripple limit', fmtPercent(rippleLimit)],
     ['hops allowed per period', fmtNum(maxHops)],
-    ['least gain over static', fmtRatio(minGain)],
-    ['least fraction of the phase-averaged level', fmtRatio(minIncoherent)],
+    ['least gain over the mirror held still', fmtRatio(minGain)],
+    ['least incoherent fraction', fmtRatio(minIncoherent)],
   ];
   return section(
     'verdict',
-    'Verdict',
+    'The answer',
+    headlineBlock(s),
     html`<div class="verdict" style="border-left-color:${classColour(cls)}">
       <p class="cls">${classBadge(cls)} ${meaning}</p>
       <p class="why"><b>Why:</b> ${reason}</p>
@@ -106,11 +170,11 @@ function verdict(s: RunSummary): SafeHtml {
         </ul>`
       : '',
     html`<div class="grid2">
-      <div>
+      <div class="keep">
         <h3>Key figures</h3>
         ${table(rows)}
       </div>
-      <div>
+      <div class="keep">
         <h3>Thresholds used for the class (from the scenario)</h3>
         ${table(thresholds)}
       </div>
@@ -130,10 +194,12 @@ function comparison(s: RunSummary): SafeHtml {
       'gap power, one way: mean (min … max)',
       '— (no gap)',
       range(st?.external_W?.mean, st?.external_W?.min, st?.external_W?.max),
-      range(d?.external_mean_W, d?.external_min_W, d?.external_max_W),
+      isNum(d?.external_mean_W)
+        ? `${withStderr(d.external_mean_W, stderrOf(d, 'external_mean_W'), 'W')}; ${fmtSI(d.external_min_W, 'W')} … ${fmtSI(d.external_max_W, 'W')}`
+        : NOT_COMPUTED,
     ],
     [
-      'laser output: mean (min … max)',
+      'laser output, net: mean (min … max)',
       fmtSI(fr?.output_W, 'W'),
       range(st?.laser_output_W?.mean, st?.laser_output_W?.min, st?.laser_output_W?.max),
       range(d?.laser_output_mean_W, d?.laser_output_min_W, d?.laser_output_max_W),
@@ -182,11 +248,16 @@ function comparison(s: RunSummary): SafeHtml {
         ? `± ${fmtSI(d.external_mean_stderr_W, 'W')} (${fmtPercent(d.external_mean_stderr_W / d.external_mean_W)})${d?.stopped_by === 'budget' ? ', above the target: the step budget stopped the run' : ''}`
         : NOT_COMPUTED,
     ],
-    ['gap power std. deviation', '', '', fmtSI(d?.external_std_W, 'W')],
+    [
+      'gap power standard deviation over time (not the error of the mean)',
+      '',
+      '',
+      fmtSI(d?.external_std_W, 'W'),
+    ],
   ];
   return section(
     'compare',
-    'Three ways to run it: no return mirror, mirror still, mirror dithered',
+    'Three ways to run it: no return mirror, mirror held still, mirror dithered',
     html`<table class="compare">
       <thead>
         <tr>
@@ -206,6 +277,10 @@ function comparison(s: RunSummary): SafeHtml {
         )}
       </tbody>
     </table>`,
+    html`<p class="note">
+      Laser output is the net power through the output coupler: light leaving the laser minus light the gap
+      returns into it. Its minimum can be below 0: for moments more light comes back than leaves.
+    </p>`,
     s.static === null ? html`<p class="note">The still-mirror reference was not computed.</p>` : '',
     s.driven === null ? html`<p class="note">The driven run was not computed.</p>` : '',
   );
@@ -233,7 +308,7 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
     data.push({
       type: 'scatter',
       mode: 'lines',
-      name: 'still, scanning up',
+      name: 'held still, scanning up',
       x: c.position_m,
       y: c.external_up_W,
       line: { color: TRACE_COLOURS[0], width: 2 },
@@ -241,7 +316,7 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
     data.push({
       type: 'scatter',
       mode: 'lines',
-      name: 'still, scanning down',
+      name: 'held still, scanning down',
       x: c.position_m,
       y: c.external_down_W,
       line: { color: TRACE_COLOURS[1], width: 1.5, dash: 'dot' },
@@ -282,6 +357,7 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
     plotDiv(
       'plot-static',
       `Dashed lines: still-mirror mean (${fmtSI(sm, 'W')}) and dithered mean over rest positions (${fmtSI(d?.external_mean_W, 'W')}). A gap between the up and down curves is hysteresis.`,
+      'Gap power with the mirror held still, and the dithered mean at each rest position',
     ),
   );
   if (c && Array.isArray(c.laser_output_up_W) && c.laser_output_up_W.length === c.position_m.length) {
@@ -311,7 +387,13 @@ function staticSection(a: RunArtifacts, plots: PlotSpec[]): SafeHtml {
         yaxis: axis('laser output (W)'),
       }),
     });
-    parts.push(plotDiv('plot-static-laser'));
+    parts.push(
+      plotDiv(
+        'plot-static-laser',
+        'Net laser output while the mirror is scanned slowly up and down over half a wavelength.',
+        'Laser output with the mirror held still',
+      ),
+    );
   }
   if (!c)
     parts.push(html`<p class="note">The still-mirror curve (${RUN_FILES.staticCurve}) was not saved.</p>`);
@@ -368,6 +450,57 @@ function periodMarks(t: number[], period: number | null): Record<string, unknown
   return out;
 }
 
+/** Drive periods shown in the zoom of a trace. */
+export const ZOOM_PERIODS = 3;
+
+/**
+ * The envelope of a decimated series over windows of `width` seconds (one drive period):
+ * per window its time centre, minimum, maximum and mean of the finite values (null where
+ * a window has none, e.g. before a moving average has filled).
+ */
+export function envelope(
+  t: readonly number[],
+  v: readonly (number | null)[],
+  width: number,
+): { t: number[]; min: (number | null)[]; max: (number | null)[]; mean: (number | null)[] } {
+  const out = {
+    t: [] as number[],
+    min: [] as (number | null)[],
+    max: [] as (number | null)[],
+    mean: [] as (number | null)[],
+  };
+  if (t.length === 0 || !(width > 0)) return out;
+  const t0 = t[0];
+  let k = 0;
+  while (k < t.length) {
+    const w = Math.floor((t[k] - t0) / width);
+    let lo = Infinity;
+    let hi = -Infinity;
+    let sum = 0;
+    let n = 0;
+    let j = k;
+    for (; j < t.length && Math.floor((t[j] - t0) / width) === w; j++) {
+      const x = v[j];
+      if (x === null || x === undefined || !Number.isFinite(x)) continue;
+      lo = Math.min(lo, x);
+      hi = Math.max(hi, x);
+      sum += x;
+      n++;
+    }
+    out.t.push(t0 + (w + 0.5) * width);
+    out.min.push(n > 0 ? lo : null);
+    out.max.push(n > 0 ? hi : null);
+    out.mean.push(n > 0 ? sum / n : null);
+    k = j;
+  }
+  return out;
+}
+
+function hexToRgba(hex: string, alpha: number): string {
+  const n = parseInt(hex.slice(1), 16);
+  return `rgba(${(n >> 16) & 255},${(n >> 8) & 255},${n & 255},${alpha})`;
+}
+
 function tracesSection(tr: TraceSet | null, plots: PlotSpec[]): SafeHtml {
   const title = 'Time record of the dithered run';
   if (!tr || !Array.isArray(tr.t_s) || !Array.isArray(tr.series) || tr.series.length === 0) {
@@ -377,40 +510,143 @@ function tracesSection(tr: TraceSet | null, plots: PlotSpec[]): SafeHtml {
       html`<p class="note">No time traces were saved (${RUN_FILES.traces}).</p>`,
     );
   }
+  const t = tr.t_s;
+  const period = isNum(tr.drive_period_s) && tr.drive_period_s > 0 ? tr.drive_period_s : null;
+  const span = t.length > 1 ? t[t.length - 1] - t[0] : 0;
+  const periods = period ? span / period : 0;
+  const zoomPeriods = period ? Math.min(ZOOM_PERIODS, Math.max(1, Math.floor(periods))) : 0;
+  const zoomEnd = period ? t[0] + zoomPeriods * period : Infinity;
+  const zoomIdx = t.map((x, i) => (x <= zoomEnd ? i : -1)).filter((i) => i >= 0);
+  const perPeriod = period && periods > 0 ? t.length / periods : null;
   const parts: HtmlValue[] = [
     html`<p class="note">
-      First rest position, analysed window. Traces are decimated keeping each bucket's minimum and maximum, so
-      short spikes survive.
+      First rest position, analysed window of
+      ${fmtSI(span, 's')}${period ? ` (${fmtNum(periods, 3)} drive periods of ${fmtSI(period, 's')})` : ''}.
       ${
-        isNum(tr.drive_period_s)
-          ? `Dotted vertical lines mark drive periods (${fmtSI(tr.drive_period_s, 's')}).`
-          : 'The mirror is still: no drive period.'
+        period
+          ? `Left: the first ${zoomPeriods} drive period${zoomPeriods === 1 ? '' : 's'}, dotted lines at each period. Right: the whole window as an envelope per drive period (shaded from minimum to maximum, line at the mean), so fast swings do not draw as a solid band.`
+          : 'The mirror is still: no drive period, the whole window is drawn.'
       }
+      The saved traces are decimated keeping each bucket's minimum and maximum (about
+      ${perPeriod ? fmtNum(perPeriod, 2) : fmtNum(t.length, 4)} samples
+      ${perPeriod ? 'per drive period' : 'in all'}), so short spikes survive but the shape within a period is
+      coarse.
     </p>`,
   ];
-  const marks = periodMarks(tr.t_s, tr.drive_period_s);
+  const marks = period
+    ? periodMarks(
+        t.filter((x) => x <= zoomEnd),
+        period,
+      )
+    : [];
   groupSeries(tr.series).forEach((g, i) => {
     const id = `plot-trace-${i}`;
+    const multi = g.series.length > 1;
+    const ytitle = plotText(`${g.title} (${g.unit})`);
+    const band = g.series.find((s) => s.key === 'external_band');
+    let bandNote = '';
+    if (band) {
+      const first = band.values.findIndex((v) => v !== null && Number.isFinite(v as number));
+      if (first > 0)
+        bandNote = `The detection-band trace starts at ${fmtSI(t[first] - t[0], 's')}: a moving average over 1 / detection bandwidth has no value until its window is full.`;
+    }
     plots.push({
       id,
       data: g.series.map((s, j) => ({
         type: 'scatter',
         mode: 'lines',
         name: plotText(s.label || s.key),
-        x: tr.t_s,
-        y: s.values,
+        x: period ? zoomIdx.map((k) => t[k]) : t,
+        y: period ? zoomIdx.map((k) => s.values[k]) : s.values,
         line: { width: j === 0 ? 1.6 : 1.2, color: TRACE_COLOURS[j % TRACE_COLOURS.length] },
       })),
       layout: baseLayout({
-        height: g.series.length > 1 ? 270 : 240,
-        margin: { l: 70, r: 24, t: g.series.length > 1 ? 36 : 12, b: 48 },
+        height: multi ? 280 : 240,
+        margin: { l: 70, r: 16, t: multi ? 40 : 12, b: 48 },
         xaxis: axis('time in the analysed window (s)'),
-        yaxis: axis(plotText(`${g.title} (${g.unit})`)),
+        yaxis: axis(ytitle),
         shapes: marks,
-        showlegend: g.series.length > 1,
+        showlegend: multi,
       }),
     });
-    parts.push(html`<h3>${g.title}</h3>`, plotDiv(id));
+    const boxes: HtmlValue[] = [
+      html`<div>
+        ${plotDiv(
+          id,
+          period
+            ? `${g.title}: the first ${zoomPeriods} drive period${zoomPeriods === 1 ? '' : 's'} as saved.`
+            : `${g.title}: the whole analysed window.`,
+          period ? `${g.title}, first ${zoomPeriods} drive period${zoomPeriods === 1 ? '' : 's'}` : g.title,
+        )}
+      </div>`,
+    ];
+    if (period) {
+      const eid = `plot-trace-env-${i}`;
+      const data: Record<string, unknown>[] = [];
+      g.series.forEach((s, j) => {
+        const e = envelope(t, s.values, period);
+        const c = TRACE_COLOURS[j % TRACE_COLOURS.length];
+        const name = plotText(s.label || s.key);
+        data.push(
+          {
+            type: 'scatter',
+            mode: 'lines',
+            name: `${name}, max`,
+            x: e.t,
+            y: e.max,
+            line: { width: 0.5, color: c },
+            showlegend: false,
+            hoverinfo: 'skip',
+          },
+          {
+            type: 'scatter',
+            mode: 'lines',
+            name: `${name}, min`,
+            x: e.t,
+            y: e.min,
+            line: { width: 0.5, color: c },
+            fill: 'tonexty',
+            fillcolor: hexToRgba(c, 0.22),
+            showlegend: false,
+            hoverinfo: 'skip',
+          },
+          {
+            type: 'scatter',
+            mode: 'lines',
+            name: `${name}, mean per period`,
+            x: e.t,
+            y: e.mean,
+            line: { width: 1.6, color: c },
+          },
+        );
+      });
+      plots.push({
+        id: eid,
+        data,
+        layout: baseLayout({
+          height: multi ? 280 : 240,
+          margin: { l: 70, r: 16, t: multi ? 40 : 12, b: 48 },
+          xaxis: axis('time in the analysed window (s)'),
+          yaxis: axis(ytitle),
+          showlegend: multi,
+        }),
+      });
+      boxes.push(
+        html`<div>
+          ${plotDiv(
+            eid,
+            `${g.title}: minimum to maximum (shaded) and mean in each drive period over the whole window.`,
+            `${g.title}, whole window`,
+          )}
+        </div>`,
+      );
+    }
+    parts.push(
+      html`<div class="figure-group">
+        <div class="grid2">${boxes}</div>
+        ${bandNote ? html`<p class="note">${bandNote}</p>` : ''}
+      </div>`,
+    );
   });
   return section('traces', title, parts);
 }
@@ -458,6 +694,7 @@ function rinSection(sp: SpectraSet | null, plots: PlotSpec[]): SafeHtml {
     plotDiv(
       'plot-rin',
       `One-sided, Hann window, ${fmtNum(rin.segments)} averaged segments, resolution ${fmtSI(rin.resolution_Hz, 'Hz')}. Dotted lines: drive frequency and its harmonics (up to the 20th)${harmonics.length === 0 ? ' (none inside the plotted range)' : ''}.`,
+      'Relative intensity noise (RIN) of the gap power',
     ),
   );
 }
@@ -480,6 +717,10 @@ function opticalSection(
   const lo = Math.min(...opt.map((o) => o.f_Hz[0]));
   const hi = Math.max(...opt.map((o) => o.f_Hz[o.f_Hz.length - 1]));
   const zoom = !absolute && half !== null && half < (hi - lo) / 2 ? [-half, half] : undefined;
+  const bins = opt.map((o) => (o.f_Hz.length > 1 ? Math.abs(o.f_Hz[1] - o.f_Hz[0]) : NaN)).filter(isNum);
+  const res = bins.length ? Math.max(...bins) : null;
+  // sidebands at multiples of the drive frequency need at least two bins between them
+  const resolved = isNum(res) && isNum(fDrive) && res <= fDrive / 2;
   plots.push({
     id: 'plot-optical',
     data: opt.map((o, i) => ({
@@ -503,7 +744,8 @@ function opticalSection(
     title,
     plotDiv(
       'plot-optical',
-      `The Doppler shift of the moving mirror shows as sidebands around each strong mode.${zoom ? ` Shown: ±${fmtSI(half, 'Hz')} (three peak Doppler shifts); the saved span is ${fmtSI(lo, 'Hz')} to ${fmtSI(hi, 'Hz')}, double-click the plot to see it all.` : ''}`,
+      `${resolved ? `The moving mirror shifts the returned light by up to the peak Doppler shift (${fmtSI(fd, 'Hz')}); with a bin width of ${fmtSI(res, 'Hz')} the sidebands, spaced at the drive frequency, are resolved.` : `Bin width ${fmtSI(res, 'Hz')}${isNum(fDrive) ? `, wider than the drive frequency (${fmtSI(fDrive, 'Hz')})` : ''}: the Doppler sidebands, spaced at the drive frequency, are not resolved in this record; the plot shows only how far the returned light spreads (up to the peak Doppler shift, ${fmtSI(fd, 'Hz')}). A longer analysed time narrows the bins.`}${zoom ? ` Shown: ±${fmtSI(half, 'Hz')}; the saved span is ${fmtSI(lo, 'Hz')} to ${fmtSI(hi, 'Hz')}, double-click the plot to see it all.` : ''}`,
+      'Returned light around each strong mode',
     ),
   );
 }
@@ -536,7 +778,7 @@ function modesSection(s: RunSummary, plots: PlotSpec[]): SafeHtml {
     });
     inner.push(
       html`<div>
-        ${plotDiv('plot-occupation', 'Share of the analysed time each mode is the strongest.')}
+        ${plotDiv('plot-occupation', 'Share of the analysed time each mode is the strongest.', 'Mode occupation')}
       </div>`,
     );
   } else inner.push(html`<div><p class="note">Mode occupation: ${NOT_COMPUTED}.</p></div>`);
@@ -571,12 +813,35 @@ function modesSection(s: RunSummary, plots: PlotSpec[]): SafeHtml {
     });
     inner.push(
       html`<div>
-        ${plotDiv('plot-hop-phase', `Where in the drive period the ${fmtNum(total)} counted hops happen (turning points at 90° and 270° for a sine starting at phase 0).`)}
+        ${plotDiv('plot-hop-phase', `Where in the drive period the ${fmtNum(total)} counted hops happen (turning points at 90° and 270° for a sine starting at phase 0).`, 'Hop phases')}
       </div>`,
     );
   } else inner.push(html`<div><p class="note">Hop phase histogram: ${NOT_COMPUTED}.</p></div>`);
   parts.push(html`<div class="grid2">${inner}</div>`);
   return section('modes', title, parts);
+}
+
+/** A sentence reconciling the speed rule with the simulated class when they disagree. */
+function ruleVersusClass(s: RunSummary): SafeHtml | string {
+  const frac = s.drive?.fraction_below_critical;
+  const cls = s.driven?.class;
+  if (!isNum(frac) || !cls) return '';
+  const ruleSaysCoupled = frac > 0.5;
+  if (ruleSaysCoupled && cls === 'decoupled')
+    return html`<p class="note rule-vs-class">
+      <b>Rule and simulation disagree here:</b> the mirror spends ${fmtPercent(frac)} of the time below the
+      critical speed, so the rule alone would expect the laser to follow the mirror, yet the simulation finds
+      it decoupled. The rule compares speeds only; it leaves out how strongly the returned light couples and
+      how fast the laser can follow it, which the simulation includes. Trust the simulated class and read the
+      rule as a first guess.
+    </p>`;
+  if (!ruleSaysCoupled && (cls === 'hopping' || cls === 'no-gain'))
+    return html`<p class="note rule-vs-class">
+      <b>Rule and simulation disagree here:</b> the mirror spends only ${fmtPercent(frac)} of the time below
+      the critical speed, yet the simulation finds the class ${cls}: the rule is a first-order estimate and
+      misses what the simulation sees.
+    </p>`;
+  return '';
 }
 
 function driveSection(s: RunSummary): SafeHtml {
@@ -599,9 +864,12 @@ function driveSection(s: RunSummary): SafeHtml {
     'The drive and the speed rule',
     table(rows),
     html`<p class="note">
-      Feedback is taken as decoupled while the Doppler shift 2|v|/λ exceeds the locking half width; a sine
-      passes through v = 0 twice per period and spends the fraction (2/π) arcsin(v_c / v_peak) below v_c.
+      The speed rule is a first-order estimate (docs/model.md §4.4): feedback is taken as decoupled while the
+      Doppler shift 2|v|/λ exceeds the locking half width; a sine passes through v = 0 twice per period and
+      spends the fraction (2/π) arcsin(v_c / v_peak) below v_c. The class comes from the simulation, not from
+      this rule.
     </p>`,
+    ruleVersusClass(s),
   );
 }
 
@@ -823,7 +1091,7 @@ function balanceSection(s: RunSummary): SafeHtml {
     ['integration error, worst subsystem', pb?.relative_error, false],
     ['integration error, laser', pb?.laser_relative_error, false],
     ['integration error, external cavity', pb?.external_relative_error, false],
-    ['mismatch at the output coupler (laser vs cavity bookkeeping)', mismatch, high],
+    ['interface mismatch at the output coupler (laser vs gap bookkeeping)', mismatch, high],
   ];
   const warnings = Array.isArray(s.warnings) ? s.warnings : [];
   return section(
@@ -881,6 +1149,12 @@ const BEAM_LABELS: Record<string, string> = {
   peak_intensity_per_W_m2: 'peak intensity at the waist per watt circulating',
 };
 
+/** A length scale of the gap for round-off snapping: the gap length, else 1 m. */
+function gapScale(s: RunSummary): number {
+  const L = get(s.scenario, 'external', 'length');
+  return isNum(L) && L > 0 ? L : 1;
+}
+
 function derivedSection(s: RunSummary): SafeHtml {
   const d = s.derived as unknown as Record<string, unknown> | null;
   if (!d)
@@ -910,7 +1184,10 @@ function derivedSection(s: RunSummary): SafeHtml {
   const beamRows: Row[] = beams
     ? Object.entries(beams)
         .filter(([k, v]) => k !== 'notes' && (v === null || typeof v !== 'object'))
-        .map(([k, v]) => [BEAM_LABELS[k] ?? k.replace(/_/g, ' '), fmtByKey(k, v)])
+        .map(([k, v]) => [
+          BEAM_LABELS[k] ?? k.replace(/_/g, ' '),
+          fmtByKey(k, k.endsWith('_position_m') ? snapRoundOff(v, gapScale(s)) : v),
+        ])
     : [];
   const notes = Array.isArray(beams?.notes) ? (beams?.notes as unknown[]).map(String) : [];
   return section(
@@ -960,10 +1237,10 @@ function scenarioSection(s: RunSummary): SafeHtml {
     </p>`,
     rows.length === 0
       ? html`<p class="note">The scenario was not saved in the summary.</p>`
-      : html`<div class="grid2">
+      : html`<div class="grid2 scenario-groups">
           ${groupRows(rows).map(
             ([head, rs]) =>
-              html`<div>
+              html`<div class="${head === 'general' ? 'wide' : ''}">
                 <h3>${head}</h3>
                 <table class="scenario">
                   ${rs.map(
@@ -1004,7 +1281,7 @@ function engineSection(s: RunSummary): SafeHtml {
     ['wall-clock time', fmtSI(t?.wall_s, 's')],
     ['time steps of the driven run', isNum(t?.steps) ? String(t?.steps) : NOT_COMPUTED],
     ['time steps per second', fmtNum(t?.engine_steps_per_s, 3)],
-    ['time steps x modes per second', fmtNum(t?.mode_steps_per_s, 3)],
+    ['mode-steps per second (time steps x laser modes)', fmtNum(t?.mode_steps_per_s, 3)],
     ['tool version', s.tool_version ?? NOT_COMPUTED],
     ['result format version', isNum(s.version) ? String(s.version) : NOT_COMPUTED],
   ];
@@ -1021,7 +1298,7 @@ function engineSection(s: RunSummary): SafeHtml {
 export function buildRunReportHtml(a: RunArtifacts, generatedAt: Date = new Date()): string {
   const s = a.summary;
   const plots: PlotSpec[] = [];
-  const body = html`${intensityNote(s)}${verdict(s)}${comparison(s)}${staticSection(a, plots)}${tracesSection(a.traces, plots)}${rinSection(a.spectra, plots)}${opticalSection(a.spectra, s.drive, plots)}${modesSection(s, plots)}${driveSection(s)}${actuatorSection(s)}${budgetSection(s)}${balanceSection(s)}${derivedSection(s)}${scenarioSection(s)}${engineSection(s)}`;
+  const body = html`${intensityNote(s)}${verdict(s)}${comparison(s)}${staticSection(a, plots)}${tracesSection(a.traces, plots)}${rinSection(a.spectra, plots)}${opticalSection(a.spectra, s.drive, plots)}${modesSection(s, plots)}${driveSection(s)}${actuatorSection(s)}${budgetSection(s)}${balanceSection(s)}${derivedSection(s)}${scenarioSection(s)}${engineSection(s)}${glossarySection(RUN_TERMS)}`;
   const name = typeof s.name === 'string' ? s.name : 'unnamed run';
   const drive = s.drive;
   return renderPage({
@@ -1031,7 +1308,7 @@ export function buildRunReportHtml(a: RunArtifacts, generatedAt: Date = new Date
     subheading: `class: ${s.driven?.class ?? (s.status === 'numerical-failure' ? 'numerical-failure' : NOT_COMPUTED)} · drive ${fmtSI(drive?.amplitude_m, 'm')} at ${fmtSI(drive?.frequency_Hz, 'Hz')} · engine ${s.engine ?? NOT_COMPUTED}`,
     body,
     plots,
-    footer: `Written by dithercav ${s.tool_version ?? ''} from the saved results on ${generatedAt.toISOString()}; nothing was re-simulated.`,
+    footer: `Results written by dithercav ${s.tool_version ?? '(version not recorded)'}; this page written by dithercav ${TOOL_VERSION} from the saved results on ${generatedAt.toISOString()}; nothing was re-simulated.`,
   });
 }
 

@@ -21,6 +21,13 @@ export interface BatchIndexEntry {
   hops_per_s?: number | null;
   /** the entry's result folder, relative to the batch folder */
   folder?: string | null;
+  /** the dithercav version that wrote the entry (absent in indexes written before 0.2) */
+  tool_version?: string;
+  /** mean one-way gap power, W, and its standard error, W (null when not computed) */
+  external_mean_W?: number | null;
+  external_mean_stderr_W?: number | null;
+  /** the drive of the run, or of the sweep point the figures are from */
+  drive?: { waveform: string | null; amplitude_m: number | null; frequency_Hz: number | null } | null;
 }
 
 /** The whole index.json: an array of entries in the order the files were taken. */

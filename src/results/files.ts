@@ -25,6 +25,8 @@ export const SWEEP_FILES = {
   header: 'sweep.json',
   map: 'map.json',
   report: 'report.html',
+  /** map.json flattened, one row per point (analysis/csv.ts, mapToCsv) */
+  mapCsv: 'map.csv',
 } as const;
 
 /** Files inside a batch folder. */
@@ -36,6 +38,7 @@ export const BATCH_FILES = {
 /** Files inside a compare folder. */
 export const COMPARE_FILES = {
   comparison: 'compare.json',
+  report: 'report.html',
 } as const;
 
 /** The file `npm run bench` writes, relative to the package root. */

@@ -36,10 +36,18 @@ export interface OperatingPoint {
   limiting_key: string | null;
   stroke_m: number;
   reason: string;
+  /**
+   * true when the point and its grid neighbours in amplitude and frequency are all
+   * decoupled; false for the fallback taken when no decoupled point has such neighbours
+   * ("no margin on this grid"). Absent in maps written before 0.2 (read as true).
+   */
+  margin?: boolean;
 }
 
 export interface SweepMap {
   version: number;
+  /** the dithercav version that wrote the map (absent in maps written before 0.2) */
+  tool_version?: string;
   name: string;
   scenario_sha256: string;
   axes: MapAxis[];

@@ -9,3 +9,4 @@ export { loadScenarioFile, parseScenarioText } from './load';
 export type { LoadedScenario } from './load';
 export { withOverrides, validateScenario, axisKeyProblem } from './validate';
 export type { ValidationResult } from './validate';
+export * from './kinds';

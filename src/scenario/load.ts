@@ -10,6 +10,7 @@ import { formatKeyPath, parseKeyPath, PathSegment } from './keypath';
 import { issuesToProblems } from './issues';
 import { axisKeyProblem, validateScenario } from './validate';
 import { scenarioSha256 } from './canonical';
+import { keyUnit } from './kinds';
 
 export { normaliseScenarioForJson, scenarioSha256 } from './canonical';
 
@@ -87,6 +88,38 @@ function withPosition(problem: { path: string; message: string }, where: Positio
   return where ? { ...problem, line: where.line, column: where.column } : problem;
 }
 
+/**
+ * For a YAML error about an unclosed flow collection or quoted string, the offset of the
+ * opening bracket or quote before `at` that is never closed; null for other errors.
+ */
+export function unclosedOpening(
+  text: string,
+  message: string,
+  at: number | undefined,
+): { offset: number; what: string; closer: string } | null {
+  if (at === undefined) return null;
+  const m = /end with a ([\]}])/.exec(message);
+  if (m) {
+    const [open, close] = m[1] === ']' ? ['[', ']'] : ['{', '}'];
+    let depth = 0;
+    for (let i = Math.min(at, text.length) - 1; i >= 0; i--) {
+      if (text[i] === close) depth++;
+      else if (text[i] === open) {
+        if (depth === 0)
+          return { offset: i, what: open === '[' ? "'[' (a list)" : "'{' (a mapping)", closer: close };
+        depth--;
+      }
+    }
+    return null;
+  }
+  const q = /Missing closing (["'])quote/.exec(message);
+  if (q) {
+    const i = text.lastIndexOf(q[1], Math.min(at, text.length) - 1);
+    return i >= 0 ? { offset: i, what: `${q[1]} (a quoted text)`, closer: q[1] } : null;
+  }
+  return null;
+}
+
 /** "Implicit keys need to be on a single line at line 3, column 1:\n..." -> its first clause. */
 function yamlMessage(message: string): string {
   const first = message.split('\n')[0];
@@ -105,6 +138,19 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
   const problems: InputProblem[] = [];
   for (const e of doc.errors) {
     const at = e.linePos?.[0];
+    // An unclosed bracket or quote is noticed where the parser gives up, often lines later
+    // (past blank and comment lines); the mistake is at the opening, so point there.
+    const opening = unclosedOpening(text, e.message, e.pos?.[0]);
+    if (opening !== null) {
+      const o = pos(lc, opening.offset);
+      problems.push({
+        path: '',
+        message: `YAML syntax: this ${opening.what} is never closed (the parser noticed at line ${at?.line ?? '?'}); add the closing ${opening.closer}`,
+        line: o.line,
+        column: o.column,
+      });
+      continue;
+    }
     problems.push({
       path: '',
       message: `YAML syntax: ${yamlMessage(e.message)}`,
@@ -146,7 +192,10 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
   if (!parsed.success) {
     for (const p of issuesToProblems(parsed.error.issues)) {
       problems.push(
-        withPosition({ path: formatKeyPath(p.path), message: p.message }, locate(doc, lc, p.path, p.atKey)),
+        withPosition(
+          bareNumberHint({ path: formatKeyPath(p.path), message: p.message }, raw),
+          locate(doc, lc, p.path, p.atKey),
+        ),
       );
     }
     // Axis keys are checked now too, so one pass shows every problem a reader can fix.
@@ -164,7 +213,7 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
   const checks = validateScenario(parsed.data);
   const place = (p: InputProblem): InputProblem => {
     const path = parseKeyPath(p.path);
-    return path ? withPosition(p, locate(doc, lc, path, false)) : p;
+    return path ? withPosition(bareNumberHint(p, raw), locate(doc, lc, path, false)) : p;
   };
   if (checks.errors.length > 0) throw new InputError(fileLabel, sortProblems(checks.errors.map(place)));
   return {
@@ -173,6 +222,24 @@ export function parseScenarioText(text: string, fileLabel: string): LoadedScenar
     text,
     sha256: scenarioSha256(parsed.data),
     warnings: checks.warnings.map(place),
+  };
+}
+
+/**
+ * A problem about a quantity written as a bare number gets a hint that bare numbers are
+ * SI ("amplitude: 600" is 600 m, not 600 nm), with the value written with a unit.
+ */
+function bareNumberHint(p: InputProblem, raw: unknown): InputProblem {
+  const path = parseKeyPath(p.path);
+  if (!path) return p;
+  let v: unknown = raw;
+  for (const k of path)
+    v = v !== null && typeof v === 'object' ? (v as Record<string | number, unknown>)[k] : undefined;
+  const unit = keyUnit(p.path.replace(/\[\d+\]/g, '[]'));
+  if (typeof v !== 'number' || unit === '' || v === 0) return p;
+  return {
+    ...p,
+    message: `${p.message} (a number without a unit is taken in SI units: ${v} means ${v} ${unit}; to mean another unit write it, e.g. '${v} ${unit === 'm' ? 'nm' : unit === 's' ? 'us' : unit === 'Hz' ? 'kHz' : `m${unit}`}')`,
   };
 }
 

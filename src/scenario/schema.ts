@@ -5,7 +5,7 @@
  * Every quantity is SI after parsing; strings with units are converted here, once.
  */
 import { z } from 'zod';
-import { describeFound, describeKind, parseQuantity, QuantityKind } from './units';
+import { describeFound, describeKind, parseQuantity, percentFix, QuantityKind } from './units';
 
 /** Metadata key under which each quantity records its kind (used for sweep axes and docs). */
 export const KIND_META = 'dithercavKind';
@@ -47,7 +47,12 @@ function bounded(min: number, max: number, opts: { minOpen?: boolean; maxOpen?: 
   const hi = opts.maxOpen ? `< ${max}` : `<= ${max}`;
   const expected = `a number ${lo} and ${hi}`;
   return z
-    .number({ error: (iss) => `expected ${expected}, found ${describeFound(iss.input)}` })
+    .number({
+      error: (iss) => {
+        const fix = percentFix(iss.input);
+        return `expected ${expected}, found ${describeFound(iss.input)}${fix ? ` (${fix})` : ''}`;
+      },
+    })
     .refine((v) => (opts.minOpen ? v > min : v >= min) && (opts.maxOpen ? v < max : v <= max), {
       error: (iss) => `expected ${expected}, found ${String(iss.input)}`,
     })

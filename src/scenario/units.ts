@@ -77,7 +77,7 @@ export function parseQuantity(input: unknown, kind: QuantityKind): ParsedQuantit
   } catch {
     return {
       ok: false,
-      message: `expected ${EXAMPLES[kind]}, found '${input}' (not a number with a known unit)`,
+      message: `expected ${EXAMPLES[kind]}, found '${input}' (${unitFix(text, kind) ?? 'not a number with a known unit'})`,
     };
   }
   const si = QUANTITY_KINDS[kind];
@@ -86,11 +86,75 @@ export function parseQuantity(input: unknown, kind: QuantityKind): ParsedQuantit
     return { ok: true, value: q.scalar };
   }
   if (si === '' || !q.isCompatible(si)) {
-    return { ok: false, message: `expected ${EXAMPLES[kind]}, found '${input}' (unit of another kind)` };
+    const fix = si === '' ? percentFix(input) : null;
+    return {
+      ok: false,
+      message: `expected ${EXAMPLES[kind]}, found '${input}' (${fix ?? 'unit of another kind'})`,
+    };
   }
   const value = q.to(si).scalar;
   if (!Number.isFinite(value)) return { ok: false, message: `expected ${EXAMPLES[kind]}, found '${input}'` };
   return { ok: true, value };
+}
+
+const PREFIXES = ['p', 'n', 'u', 'm', '', 'k', 'M', 'G', 'T'];
+const PREFIX_WORDS: Record<string, string> = {
+  p: 'pico',
+  n: 'nano',
+  u: 'micro',
+  m: 'milli',
+  '': '',
+  k: 'kilo',
+  M: 'mega',
+  G: 'giga',
+  T: 'tera',
+};
+/** Unit symbols of each kind a scenario is likely to use, for the case-repair hint. */
+const SYMBOLS: Partial<Record<QuantityKind, string[]>> = {
+  length: ['m'],
+  time: ['s'],
+  frequency: ['Hz'],
+  power: ['W'],
+  voltage: ['V'],
+  current: ['A'],
+  capacitance: ['F'],
+  mass: ['g'],
+  force: ['N'],
+};
+
+/**
+ * When "200 khz" fails only because of letter case, the spelling(s) meant, as a fix to
+ * print: unit symbols are case-sensitive (m is milli, M is mega), so the tool does not
+ * guess; it names the one reading ("write '200 kHz'") or both ("'200 MHz' (mega) or
+ * '200 mHz' (milli)"). Null when no case change gives a unit of this kind.
+ */
+export function unitFix(text: string, kind: QuantityKind): string | null {
+  const m = /^([-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?)\s*([A-Za-z]+)$/i.exec(text.trim());
+  if (!m) return null;
+  const [, num, unit] = m;
+  const found: [string, string][] = [];
+  for (const sym of SYMBOLS[kind] ?? [])
+    for (const p of PREFIXES) {
+      const cand = `${p}${sym}`;
+      if (cand.toLowerCase() === unit.toLowerCase() && cand !== unit) found.push([cand, p]);
+    }
+  if (found.length === 0) return null;
+  if (found.length === 1) return `unit symbols are case-sensitive: write '${num} ${found[0][0]}'`;
+  return `unit symbols are case-sensitive: write ${found
+    .map(([c, p]) => `'${num} ${c}' (${PREFIX_WORDS[p] || 'no prefix'})`)
+    .join(' or ')}`;
+}
+
+/**
+ * A fraction written as a percentage ("99 %") where a plain number is expected: the fix,
+ * "write 0.99", or null for any other text.
+ */
+export function percentFix(input: unknown): string | null {
+  if (typeof input !== 'string') return null;
+  const m = /^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?)\s*%\s*$/i.exec(input);
+  if (!m) return null;
+  const v = Number(m[1]) / 100;
+  return `fractions are plain numbers here: write ${Number(v.toPrecision(12))} for ${m[1]} %`;
 }
 
 /** Format a SI value with an engineering prefix: formatSI(2.2e-1, 'm') -> "220 mm". */

@@ -25,6 +25,7 @@ import { runSweep, withEngine } from './run-sweep';
 import { computedOnly } from './map';
 import type { SweepOutcome } from './run-sweep';
 import type { PointRecord } from '../results/points';
+import { TOOL_VERSION } from '../version';
 
 /** The file endings a batch picks up. */
 export const SCENARIO_EXTENSIONS = ['.yaml', '.yml', '.json'] as const;
@@ -216,6 +217,10 @@ function entryBase(file: string): BatchEntry {
     points: null,
     folder: null,
     wall_s: 0,
+    tool_version: TOOL_VERSION,
+    external_mean_W: null,
+    external_mean_stderr_W: null,
+    drive: null,
   };
 }
 
@@ -228,13 +233,24 @@ function fillFromRun(e: BatchEntry, s: RunSummary): void {
   e.gain_over_static = finiteOrNull(s.driven?.gain_over_static);
   e.ripple_rel = finiteOrNull(s.driven?.ripple_rel);
   e.hops_per_s = finiteOrNull(s.driven?.hops_per_s);
+  e.external_mean_W = finiteOrNull(s.driven?.external_mean_W);
+  e.external_mean_stderr_W = finiteOrNull(
+    (s.driven as unknown as Record<string, unknown> | null)?.external_mean_stderr_W,
+  );
+  e.drive = s.drive
+    ? {
+        waveform: typeof s.drive.waveform === 'string' ? s.drive.waveform : null,
+        amplitude_m: finiteOrNull(s.drive.amplitude_m),
+        frequency_Hz: finiteOrNull(s.drive.frequency_Hz),
+      }
+    : null;
 }
 
 /**
  * The figures of a sweep entry: at the recommended operating point if the map has one,
  * else at the finished point with the highest gain over static.
  */
-function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
+function fillFromSweep(e: BatchEntry, out: SweepOutcome, base: Scenario): void {
   // computed points only: an inferred point of a refined map is never quoted as a result
   const m = computedOnly(out.map);
   const classes: Record<string, number> = {};
@@ -258,6 +274,19 @@ function fillFromSweep(e: BatchEntry, out: SweepOutcome): void {
     e.gain_over_static = m.metrics.gain_over_static?.[at] ?? null;
     e.ripple_rel = m.metrics.ripple_rel?.[at] ?? null;
     e.hops_per_s = m.metrics.hops_per_s?.[at] ?? null;
+    e.external_mean_W = m.metrics.external_mean_W?.[at] ?? null;
+    e.external_mean_stderr_W = m.metrics.external_mean_stderr_W?.[at] ?? null;
+    const idx = at;
+    const axisValue = (key: string): number | null => {
+      const st = m.axes.map((_, k) => m.axes.slice(k + 1).reduce((n, a) => n * a.values.length, 1));
+      const k = m.axes.findIndex((a) => a.key === key);
+      return k < 0 ? null : m.axes[k].values[Math.floor(idx / st[k]) % m.axes[k].values.length];
+    };
+    e.drive = {
+      waveform: base.drive.waveform,
+      amplitude_m: axisValue('drive.amplitude') ?? finiteOrNull(base.drive.amplitude),
+      frequency_Hz: axisValue('drive.frequency') ?? finiteOrNull(base.drive.frequency),
+    };
   }
   if (out.interrupted) {
     e.status = 'failed';
@@ -398,7 +427,7 @@ export async function runBatch(paths: readonly string[], opts: BatchOptions): Pr
           onWarning: warn,
           onProgress: (d, t, rec) => opts.onSweepProgress?.(scenario.name, d, t, rec),
         });
-        fillFromSweep(e, out);
+        fillFromSweep(e, out, scenario);
         if (!out.interrupted) {
           try {
             opts.hooks.afterSweep?.(dir);

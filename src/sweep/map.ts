@@ -6,6 +6,7 @@
 import type { CurvePoint, MapAxis, SweepMap } from '../results/map';
 import type { RunClass } from '../results/summary';
 import { RESULT_VERSION } from '../results/summary';
+import { TOOL_VERSION } from '../version';
 import type { Scenario } from '../scenario/schema';
 import { axisIndices, pointCount } from '../results/grid-index';
 import type { PointRecord } from '../results/points';
@@ -243,6 +244,7 @@ export function buildSweepMap(input: MapInput): SweepMap {
   const inferredCount = point_source.filter((p) => p === 'inferred').length;
   return {
     version: RESULT_VERSION,
+    tool_version: TOOL_VERSION,
     name: input.name,
     scenario_sha256: input.scenario_sha256,
     axes: input.axes,

@@ -4,6 +4,8 @@
  * refused; a point found in two shards must be the same in both.
  */
 import * as fs from 'node:fs';
+import { mapToCsv } from '../analysis/csv';
+import { keyUnit } from '../scenario/kinds';
 import * as path from 'node:path';
 import { InputError } from '../scenario/errors';
 import type { InputProblem } from '../scenario/errors';
@@ -186,6 +188,7 @@ export function mergeShards(dirs: readonly string[], opts: MergeOptions = {}): M
     scenario,
   );
   fs.writeFileSync(path.join(outDir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
+  fs.writeFileSync(path.join(outDir, SWEEP_FILES.mapCsv), mapToCsv(map, keyUnit));
   return {
     dir: outDir,
     header,

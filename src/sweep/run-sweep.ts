@@ -9,6 +9,8 @@
  * (each thread computes a key's references once and reuses them), the longest first.
  */
 import * as fs from 'node:fs';
+import { mapToCsv } from '../analysis/csv';
+import { keyUnit } from '../scenario/kinds';
 import * as path from 'node:path';
 import type { Scenario } from '../scenario/schema';
 import { errorText, InputError } from '../scenario/errors';
@@ -431,6 +433,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
     s,
   );
   fs.writeFileSync(path.join(dir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
+  fs.writeFileSync(path.join(dir, SWEEP_FILES.mapCsv), mapToCsv(map, keyUnit));
   const finishedHere = records.filter((r) => regionSet.has(r.index)).length;
   const finalPlan = plan as RefinePlan | null;
   const opPending =

@@ -11,11 +11,85 @@ import type { Derived } from '../../results/summary';
 import { planDraws } from '../../sweep/yield';
 import { deriveAll } from '../../physics/derive';
 import { bold, colourAllowed, formatNumber, formatQuantity, formatTable } from '../format';
+import { expandGrid, pointScenario } from '../../sweep/grid';
+import { defaultJobs } from '../../sweep/pool';
+import { estimateDrivenTime, type RunTimeEstimate } from '../../simulate/estimate';
+import { referenceKey } from '../../simulate/run';
+import { formatDuration } from '../progress';
+
+/** Points whose step plan is worked out exactly; a larger grid is estimated from an even sample of them. */
+export const ESTIMATE_SAMPLE = 400;
+
+/** What `check` says about a sweep: its size and an estimate of its run time. */
+export interface SweepPlanInfo {
+  points: number;
+  /** distinct free-running/still-mirror reference settings over the grid */
+  reference_settings: number;
+  jobs: number;
+  estimate: RunTimeEstimate;
+  /** points whose step plan was worked out (all, or an even sample) */
+  sampled: number;
+  /** estimated wall time of the driven runs, s, over `jobs` worker threads */
+  estimated_wall_s: number;
+}
+
+/**
+ * The sweep's size and an ESTIMATE of its driven runs' wall time: the step plan of every
+ * point (or of ESTIMATE_SAMPLE evenly spread points, scaled to the grid), at the lane-step
+ * rate of each engine measured by a short calibration run on this machine, divided over
+ * `jobs` worker threads. The references are not included.
+ */
+export function sweepPlanInfo(loaded: LoadedScenario, jobs = defaultJobs()): SweepPlanInfo | null {
+  if (!loaded.scenario.sweep) return null;
+  const grid = expandGrid(loaded.scenario);
+  const step = Math.max(1, Math.ceil(grid.total / ESTIMATE_SAMPLE));
+  const picks: number[] = [];
+  for (let i = 0; i < grid.total; i += step) picks.push(i);
+  const scenarios = picks.map((i) => pointScenario(grid, i));
+  const keys = new Set(scenarios.map((p) => referenceKey(p)));
+  const estimate = estimateDrivenTime(scenarios);
+  const scale = grid.total / picks.length;
+  const effective = Math.min(jobs, grid.total);
+  return {
+    points: grid.total,
+    reference_settings: step === 1 ? keys.size : Math.round(keys.size * scale),
+    jobs: effective,
+    estimate,
+    sampled: picks.length,
+    estimated_wall_s: (estimate.driven_s * scale) / effective,
+  };
+}
+
+function formatSweepPlan(info: SweepPlanInfo): string[] {
+  const lines = [
+    `  points                 ${info.points}`,
+    `  estimated run time     about ${formatDuration(info.estimated_wall_s)} for the driven runs on ${info.jobs} worker thread${info.jobs === 1 ? '' : 's'} (an ESTIMATE)`,
+    `  references             free-running and mirror held still, for ${info.reference_settings} distinct laser/cavity setting${info.reference_settings === 1 ? '' : 's'}: not included in the estimate (their step count is adaptive)`,
+  ];
+  for (const e of info.estimate.engines) {
+    if (e.engine === 'none') continue;
+    lines.push(
+      `  ${e.engine.padEnd(22)} ${e.runs} run${e.runs === 1 ? '' : 's'}${info.sampled < info.points ? ' (of the sample)' : ''}, ${e.lane_steps.toExponential(2)} lane-steps${e.lane_steps_per_s !== null ? ` at ${e.lane_steps_per_s.toExponential(2)} lane-steps per CPU second measured here` : ''}`,
+    );
+  }
+  lines.push(
+    `  how                    step plan of ${info.sampled === info.points ? 'every point' : `${info.sampled} evenly spread points, scaled to the grid`}; engine speed from a ${formatDuration(info.estimate.calibration_s)} calibration run on this machine (CPU time, so it assumes a free core per worker; other load makes the sweep slower)`,
+  );
+  return lines;
+}
 
 /** The `--json` output: which file, its scenario hash, the derived quantities, the warnings. */
 export interface CheckJson {
   file: string;
   scenario_sha256: string;
+  /** a sweep's size and estimated run time (driven runs only; an estimate) */
+  sweep?: {
+    points: number;
+    estimated_wall_s: number;
+    estimate_is: string;
+    jobs: number;
+    reference_settings: number;
+  };
   derived: Derived;
   warnings: { path: string; message: string; line?: number }[];
 }
@@ -28,9 +102,16 @@ function source(s: 'geometry' | 'scenario', basis: string | undefined): string {
 
 /**
  * The readable report of `check`: sections of aligned "quantity  value  note" rows and
- * the mode table. Pure (no I/O) so it can be tested without a terminal.
+ * the mode table, and for a sweep its size and estimated run time (sweepPlanInfo, passed
+ * in). Pure (no I/O) so it can be tested without a terminal.
  */
-export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, colour: boolean): string {
+export function formatCheck(
+  file: string,
+  loaded: LoadedScenario,
+  d: Derived,
+  colour: boolean,
+  sweep: SweepPlanInfo | null = null,
+): string {
   const s = loaded.scenario;
   const q = formatQuantity;
   const out: string[] = [];
@@ -169,6 +250,10 @@ export function formatCheck(file: string, loaded: LoadedScenario, d: Derived, co
     ),
   );
 
+  if (sweep) {
+    out.push('', bold('Sweep', colour), ...formatSweepPlan(sweep));
+  }
+
   if (loaded.warnings.length > 0) {
     out.push('', bold('Warnings', colour));
     out.push(
@@ -195,10 +280,22 @@ export function registerCheck(program: Command, ctx: CommandContext): void {
       // the tolerances section's keys and spreads are checked here too (docs/model.md §7)
       if (loaded.scenario.tolerances) planDraws(loaded.scenario, 1, file);
       const { derived } = deriveAll(loaded.scenario);
+      const sweep = sweepPlanInfo(loaded);
       if (opts.json) {
         const body: CheckJson = {
           file,
           scenario_sha256: loaded.sha256,
+          ...(sweep
+            ? {
+                sweep: {
+                  points: sweep.points,
+                  estimated_wall_s: sweep.estimated_wall_s,
+                  estimate_is: 'an estimate of the driven runs only, from a short calibration run',
+                  jobs: sweep.jobs,
+                  reference_settings: sweep.reference_settings,
+                },
+              }
+            : {}),
           derived,
           warnings: loaded.warnings.map((w) => ({
             path: w.path,
@@ -208,7 +305,7 @@ export function registerCheck(program: Command, ctx: CommandContext): void {
         };
         process.stdout.write(`${JSON.stringify(body, null, 2)}\n`);
       } else {
-        process.stdout.write(formatCheck(file, loaded, derived, colourAllowed(process.stdout)));
+        process.stdout.write(formatCheck(file, loaded, derived, colourAllowed(process.stdout), sweep));
       }
       ctx.setExit(0);
     });

@@ -2,7 +2,7 @@
  * `dithercav compare FILE [--out DIR] [--json] [--quiet]`: sine, triangle and two-tone
  * drives at equal peak actuator voltage (equal stroke without an actuator section), each
  * run against the same references, tabulated with a recommendation (src/simulate/compare.ts).
- * Writes DIR/compare.json (default reports/<scenario name>-compare/). Exit 0 when every
+ * Writes DIR/compare.json and DIR/report.html (default reports/<scenario name>-compare/). Exit 0 when every
  * run finished, 1 when one failed numerically (compare.json is still written), 2 on bad input.
  */
 import { mkdirSync, writeFileSync } from 'node:fs';
@@ -18,6 +18,10 @@ import { createRunProgress } from '../progress';
 import { safeFolderName } from '../../sweep/batch';
 import { COMPARE_FILES } from '../../results/files';
 import { FORCE_HELP, openResultFolder } from '../result-folder';
+import { writeCompareReport } from '../../report/compare-report';
+
+/** File name of the comparison inside the output folder (report.html beside it). */
+export const COMPARE_FILE = COMPARE_FILES.comparison;
 
 const nc = 'not computed';
 const si = (v: number | null | undefined, unit: string) =>
@@ -134,11 +138,20 @@ export function registerCompare(program: Command, ctx: CommandContext): void {
       mkdirSync(out, { recursive: true });
       const target = path.join(out, COMPARE_FILES.comparison);
       writeFileSync(target, `${JSON.stringify(result, null, 1)}\n`);
+      let report: string | null = null;
+      try {
+        report = writeCompareReport(out);
+      } catch (err) {
+        // compare.json is saved; the page can be rebuilt with `dithercav report`
+        process.stderr.write(
+          `dithercav compare: report.html could not be written: ${(err as Error).message}\n`,
+        );
+      }
       lock.release();
       process.stdout.write(
         o.json
           ? `${JSON.stringify(result, null, 2)}\n`
-          : `${formatComparison(result)}\n\nresults in ${target}\n`,
+          : `${formatComparison(result)}\n\nresults in ${target}${report ? ` (report: ${report})` : ''}\n`,
       );
       if (result.rows.some((r) => r.status !== 'ok')) ctx.setExit(1);
     });

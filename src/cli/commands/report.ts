@@ -1,9 +1,9 @@
 /**
- * `dithercav report DIR`: rebuild report.html (run, sweep, yield) or index.html (batch)
- * from the saved result files, with no simulation. `dithercav report DIR_A DIR_B [--out
- * FILE]`: one page comparing two run folders or two sweep folders (default
- * reports/comparison.html). A folder holding none of summary.json, map.json, index.json
- * is bad input (exit 2).
+ * `dithercav report DIR`: rebuild report.html (run, sweep, yield, waveform comparison) or
+ * index.html (batch) from the saved result files, with no simulation. `dithercav report
+ * DIR_A DIR_B [--out FILE]`: one page comparing two run folders or two sweep folders
+ * (default reports/comparison.html). A folder holding none of summary.json, map.json,
+ * yield.json, compare.json, index.json is bad input (exit 2).
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
@@ -16,9 +16,12 @@ export function registerReport(program: Command, ctx: CommandContext): void {
   program
     .command('report')
     .description(
-      'rebuild the HTML report of a run, sweep, yield or batch folder from its saved results, or compare two designs (no simulation)',
+      'rebuild the HTML report of a run, sweep, yield, waveform comparison or batch folder from its saved results, or compare two designs (no simulation)',
     )
-    .argument('<dir>', 'result folder: a run (summary.json), a sweep (map.json) or a batch (index.json)')
+    .argument(
+      '<dir>',
+      'result folder: a run (summary.json), a sweep (map.json), a yield (yield.json), a waveform comparison (compare.json) or a batch (index.json)',
+    )
     .argument('[other]', 'a second run or sweep folder: write one page comparing the two designs')
     .option('--out <file>', `comparison page to write (default reports/${COMPARISON_FILE})`)
     .action((dir: string, other: string | undefined, opts: { out?: string }) => {

@@ -9,6 +9,7 @@ import * as path from 'node:path';
 import { Worker } from 'node:worker_threads';
 import { Command, Option } from 'commander';
 import type { CommandContext } from '../main';
+import { runHeadline } from '../../report/headline';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
 import { runScenario } from '../../simulate/run';
@@ -44,49 +45,59 @@ const num = (v: number | null | undefined, digits = 3) =>
 
 /** The short table printed after a run. */
 export function formatRunTable(s: RunSummary): string {
-  const rows: string[][] = [['', 'gap (external) power', 'laser output', 'laser intracavity']];
+  const head = runHeadline(s).map((h, k) => [`${k + 1}. ${h.question}`, h.answer]);
+  const rows: string[][] = [['', 'gap power', 'laser output (net)', 'laser intracavity']];
   rows.push(['free-running', '-', w(s.free_running.output_W), w(s.free_running.intracavity_W)]);
   if (s.static) {
     rows.push([
-      'static mean',
+      'mirror held still, mean',
       w(s.static.external_W.mean),
       w(s.static.laser_output_W.mean),
       w(s.static.intracavity_W.mean),
     ]);
-    rows.push(['static min / max', `${w(s.static.external_W.min)} / ${w(s.static.external_W.max)}`, '', '']);
+    rows.push([
+      'mirror held still, min / max',
+      `${w(s.static.external_W.min)} / ${w(s.static.external_W.max)}`,
+      '',
+      '',
+    ]);
   }
   if (s.driven) {
     rows.push([
-      'driven mean',
+      'dithered, mean',
       w(s.driven.external_mean_W),
       w(s.driven.laser_output_mean_W),
       w(s.driven.laser_intracavity_mean_W),
     ]);
     rows.push([
-      'driven standard error',
+      'dithered, standard error',
       s.driven.external_mean_stderr_W === null ? '-' : w(s.driven.external_mean_stderr_W),
       s.driven.laser_output_mean_stderr_W === null ? '-' : w(s.driven.laser_output_mean_stderr_W),
       s.driven.laser_intracavity_mean_stderr_W === null ? '-' : w(s.driven.laser_intracavity_mean_stderr_W),
     ]);
     rows.push([
-      'driven spread over offsets',
+      'dithered, spread over rest positions',
       `${w(s.driven.external_mean_by_offset_W.min)} .. ${w(s.driven.external_mean_by_offset_W.max)}`,
       '',
       '',
     ]);
   }
-  const lines = [formatTable(rows)];
+  const lines = [formatTable(head), '', formatTable(rows)];
   if (s.driven) {
     lines.push('');
     lines.push(
       formatTable([
         ['class', `${s.driven.class} (${s.driven.class_reason})`],
         [
-          'gain over static (over the curve at the same offsets)',
-          `${num(s.driven.gain_over_static)} (${num(s.driven.gain_over_quasi_static)})`,
+          'gain over the mirror held still (mean over the same rest positions)',
+          num(s.driven.gain_over_static),
         ],
-        ['enhancement (gap / free-running intracavity)', num(s.driven.enhancement)],
-        ['gap power / phase-averaged (decoupled) level', num(s.driven.incoherent_fraction)],
+        [
+          'gain over the still-mirror curve at the same positions (used by the class)',
+          num(s.driven.gain_over_quasi_static),
+        ],
+        ['enhancement (gap power over the free-running intracavity power)', num(s.driven.enhancement)],
+        ['incoherent fraction (gap power over the phase-averaged level)', num(s.driven.incoherent_fraction)],
         ['ripple in band / full band', `${num(s.driven.ripple_rel)} / ${num(s.driven.ripple_full_band_rel)}`],
         ['hops per second / per period', `${num(s.driven.hops_per_s)} / ${num(s.driven.hops_per_period)}`],
         [
@@ -94,7 +105,7 @@ export function formatRunTable(s: RunSummary): string {
           `${num(s.drive.peak_speed_m_s)} m/s / ${num(s.drive.critical_speed_m_s)} m/s`,
         ],
         [
-          'power balance error / interface mismatch',
+          'power balance error / interface mismatch at the output coupler',
           `${num(s.power_balance?.relative_error, 2)} / ${num(s.power_balance?.interface_mismatch_rel, 2)}`,
         ],
         [
@@ -102,7 +113,10 @@ export function formatRunTable(s: RunSummary): string {
           `${s.driven.offsets_used} rest offsets x ${s.driven.periods_used ?? '-'} periods, relative standard error ${s.driven.external_mean_stderr_W === null ? '-' : num(s.driven.external_mean_stderr_W / s.driven.external_mean_W, 2)}, stopped by the ${s.driven.stopped_by === 'target' ? 'target error' : 'step budget'}`,
         ],
         ['engine', `${s.engine} (${s.engine_reason})`],
-        ['time', `${s.timing.wall_s.toFixed(1)} s, ${formatSI(s.timing.mode_steps_per_s, 'mode-steps/s')}`],
+        [
+          'time',
+          `${s.timing.wall_s.toFixed(1)} s wall-clock, ${Number.isFinite(s.timing.mode_steps_per_s) ? s.timing.mode_steps_per_s.toExponential(2) : 'not computed'} mode-steps per second (time steps x laser modes)`,
+        ],
       ]),
     );
   }
