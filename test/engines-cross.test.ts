@@ -49,8 +49,10 @@ interface Case {
 const CASES: Case[] = [
   {
     // 2.6 nm stroke at 1 MHz: peak speed 0.0082 m/s, the speed of the demo's 10 kHz x 130 nm below
-    name: "the demo's laser and cavity, 1 MHz x 1.3 nm",
-    s: () => demoWith({ amplitude: '1.3 nm', frequency: '1 MHz' }),
+    // the feedback ignored: with it, the demo's coupling (X = 14) is far outside where any
+    // modal engine is used (docs/model.md §3.7), and the round-trip engine is the reference
+    name: "the demo's laser and cavity, feedback ignored, 1 MHz x 1.3 nm",
+    s: () => demoWith({ amplitude: '1.3 nm', frequency: '1 MHz' }, {}, {}, { return_to_laser: false }),
   },
   {
     // the gap swept through two resonances per stroke, slowly (0.019 m/s peak)
@@ -125,7 +127,7 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
     });
   }
 
-  it("the demo's strongly coupled laser at 10 kHz x 130 nm agrees within 2 %", () => {
+  it("the demo's laser with the feedback ignored at 10 kHz x 130 nm agrees within 3 %", () => {
     // eta_fb 0.99: the feedback pulls the lasing frequency by up to ~0.5 rad per external
     // round trip (tens of resonance widths). Measured: -1.5 % (plain mean field in the
     // driven run, static reference at the pulled frequency, at 200 nm and the old finesse
@@ -135,10 +137,14 @@ describe('exact and mean-field engines agree where the mean field is valid', () 
     // 130 nm, and there the mean field measured -2.6 %: on this strongly coupled laser the
     // 2 % claim of the fraction limit no longer holds (the modal form's own error, docs/model.md
     // §3.1), so this case is held to 3 % and the engine choice must not rely on the limit alone.
+    // 0.2: the demo's coupling strength X = 14 is far beyond where auto uses a modal engine
+    // (X <= 0.08, docs/model.md §3.7); this case stays as a record of the modal family's own
+    // consistency on it, at the tolerance measured before the stratified offsets
     const s = demoWith(
       { amplitude: '130 nm', frequency: '10 kHz' },
       { settle: '100 us', drive_offsets: 4, periods: 2 },
       { detection_bandwidth: '100 kHz' },
+      { return_to_laser: false },
     );
     const plan = planOf(s);
     expect(phaseFraction(plan)).toBeLessThanOrEqual(FAST_VALID_FRACTION);
@@ -202,7 +208,11 @@ describe('the adiabatic path against the mean-field engine', () => {
     // stepping, as MODEL.md 3.4 asks ("check it against time stepping where both apply").
     const s = ownCase({
       drive: { waveform: 'sine', amplitude: '1 nm', frequency: '1 kHz' },
-      simulation: { drive_offsets: 8, static_positions: 512 },
+      simulation: { drive_offsets: 8, static_positions: 2048 },
+      // the feedback ignored, so both paths use the modal engines' static curve (with the
+      // feedback this laser's coupling sends the static curve to the round-trip engine,
+      // docs/model.md §3.7) and the random rest offsets fall between positions 0.15 nm apart
+      returnToLaser: false,
       analysis: { detection_bandwidth: '10 kHz' },
     });
     const plan = planOf(s);

@@ -107,7 +107,7 @@ describe('power budget', () => {
     // docs/model.md §3.4: the mean field's steady state equals the exact one for any phase,
     // where a = t2 sqrt(eta) E - r2 b holds; the residual is then the window's stored change
     const r = runScenario(lossyGap(false, 'fast', 'off')).summary;
-    expect(r.engine).toBe('fast');
+    expect(r.engine).toBe('meanfield');
     expect(Math.abs(r.budget!.closure_rel)).toBeLessThan(1e-3);
   });
 

@@ -126,8 +126,10 @@ describe('slow-drive path against direct stepping', () => {
       const ripple = d.ripple_rel / direct.ripple_rel - 1;
       if (c.inside) {
         // In-band ripple: peak to peak of a 100 us boxcar over 2 periods, a statistic of its
-        // extremes; measured -11 % (4 kHz) and -27 % (8 kHz); the curve alone was 1.4-2x low.
-        expect(Math.abs(ripple)).toBeLessThan(0.35);
+        // extremes; measured -11 % (4 kHz) and -27 % (8 kHz) with even rest offsets, -39 % at
+        // 8 kHz with the stratified random ones (docs/model.md §4.2); the curve alone was
+        // 1.4-2x low. The path's ripple is an estimate to this accuracy (docs/model.md §3.6).
+        expect(Math.abs(ripple)).toBeLessThan(0.45);
       } else {
         // Outside (2 pi f tau_mem = 0.086): the turning points are averaged away by the
         // detector (2 f above the band) and what is left is the seams between windows and

@@ -74,6 +74,7 @@ describe('quantity parsing', () => {
       stiffness: '2 N',
       force: '5 N/m',
       angle: '1 s',
+      tilt_per_stroke: '1 s',
     };
     for (const [kind] of dimensioned) {
       const p = parseQuantity(foreign[kind], kind);

@@ -12,7 +12,7 @@ import { RoundTripEngine } from '../physics/coupled/roundtrip';
 import { createLaneEngine } from '../physics/coupled/factory';
 import { createDrive } from '../physics/drive';
 import { createRng } from '../numerics/rng';
-import { lagrangeCentred } from '../numerics/delay-line';
+import { lagrangeCentredN, READ_POINTS } from '../numerics/delay-line';
 import { freeRunning } from '../simulate/references';
 import { exactEngineStep, planEngines } from '../simulate/engine-choice';
 
@@ -78,7 +78,7 @@ function bareLoop(
   const ySq = Float64Array.from((e as unknown as { ySq: Float64Array }).ySq);
   const invEvery = e.invEvery;
   let invCount = (e as unknown as { invCount: number }).invCount;
-  const w = new Float64Array(4);
+  const w = new Float64Array(READ_POINTS);
   const offs = Float64Array.from(e.offset);
   const c = 299792458;
   const nuC = p.modes.gainPeak_Hz;
@@ -145,15 +145,16 @@ function bareLoop(
       const disp = offs[l] + x;
       const D = dpm * (p.externalLength_m + disp);
       const k = Math.floor(D);
-      lagrangeCentred(D - k, w);
+      lagrangeCentredN(D - k, READ_POINTS, w);
       const gb = l * gcap;
-      const h = ghead - k;
-      const i0 = gb + ((h + 1) & gmask);
-      const i1 = gb + (h & gmask);
-      const i2 = gb + ((h - 1) & gmask);
-      const i3 = gb + ((h - 2) & gmask);
-      const adr = w[0] * gre[i0] + w[1] * gre[i1] + w[2] * gre[i2] + w[3] * gre[i3];
-      const adi = w[0] * gim[i0] + w[1] * gim[i1] + w[2] * gim[i2] + w[3] * gim[i3];
+      const top = ghead - k + READ_POINTS / 2 - 1;
+      let adr = 0;
+      let adi = 0;
+      for (let i = 0; i < READ_POINTS; i++) {
+        const idx = gb + ((top - i) & gmask);
+        adr += w[i] * gre[idx];
+        adi += w[i] * gim[idx];
+      }
       const ph0 = g0 + gpm * disp;
       const ph = 2 * Math.PI * (ph0 - Math.floor(ph0));
       const cs = Math.cos(ph);

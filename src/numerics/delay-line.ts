@@ -2,41 +2,51 @@
  * A bank of complex delay lines advancing in lockstep (one per lane), with reads at a
  * whole or fractional number of samples back.
  *
- * Fractional reads use the 4-point Lagrange interpolator on its central interval only:
- * nodes one and two samples on each side of the read point. Read off-centre the same
- * interpolator amplifies the upper part of the band (up to 1.14 in amplitude) and a
- * feedback loop through it diverges; centred, its amplitude response is
- * H(w) = (9/8) cos(w/2) - (1/8) cos(3w/2) at half a sample (w = 2 pi nu dt), never above 1
- * (Laakso, Valimaki, Karjalainen and Laine, "Splitting the unit delay", IEEE Signal
- * Processing Magazine 13(1), 1996, section on Lagrange interpolation).
+ * Fractional reads use a Lagrange interpolator on its central interval only: as many
+ * nodes on each side of the read point. Read off-centre a Lagrange interpolator amplifies
+ * the upper part of the band (the 4-point one up to 1.14 in amplitude) and a feedback loop
+ * through it diverges; centred, its amplitude response never exceeds 1 (Laakso, Valimaki,
+ * Karjalainen and Laine, "Splitting the unit delay", IEEE Signal Processing Magazine 13(1),
+ * 1996, section on Lagrange interpolation). What it loses, 1 - |H|^2 per read, grows as
+ * w^n (w = 2 pi nu dt): inside a high-finesse gap that loss adds to the mirrors' every
+ * round trip, so the round-trip engine reads with 8 points (docs/model.md §3.5): at
+ * w = 0.72 (a mode 940 MHz from the carrier at 122 ps steps) it loses 4e-5 to 1.4e-4 per
+ * read, where the 4-point read lost 3.6e-3 to 1.2e-2.
  */
 
-/** Smallest fractional delay (samples back from the newest stored sample) a centred read allows. */
-export const MIN_CENTRED_DELAY = 1;
+/** Nodes of the centred interpolator the delay lines read with (even; half on each side). */
+export const READ_POINTS = 8;
+/** Smallest delay (samples back from the slot being written) a centred read allows. */
+export const MIN_CENTRED_DELAY = READ_POINTS / 2;
 
-/** Weights of the centred 4-point Lagrange read at fraction u in [0, 1) between nodes 0 and 1
- * of the stencil (-1, 0, 1, 2), into w[0..3]. */
-export function lagrangeCentred(u: number, w: Float64Array): void {
-  const a = u + 1;
-  const b = u;
-  const c = u - 1;
-  const d = u - 2;
-  w[0] = (-b * c * d) / 6;
-  w[1] = (a * c * d) / 2;
-  w[2] = (-a * b * d) / 2;
-  w[3] = (a * b * c) / 6;
+/**
+ * Weights of the centred n-point Lagrange read (n even) at fraction u in [0, 1) between
+ * nodes 0 and 1 of the stencil -(n/2 - 1) .. n/2, into w[0..n-1].
+ */
+export function lagrangeCentredN(u: number, n: number, w: Float64Array): void {
+  const lo = -(n / 2 - 1);
+  for (let i = 0; i < n; i++) {
+    const xi = lo + i;
+    let p = 1;
+    for (let j = 0; j < n; j++) {
+      if (j === i) continue;
+      const xj = lo + j;
+      p *= (u - xj) / (xi - xj);
+    }
+    w[i] = p;
+  }
 }
 
-/** Amplitude |H| of the centred 4-point Lagrange read at fraction u for w = 2 pi nu dt. */
-export function lagrangeCentredGain(u: number, w: number): number {
-  const k = new Float64Array(4);
-  lagrangeCentred(u, k);
-  // nodes at -1, 0, 1, 2 samples relative to the read's integer part; a delay of t samples
-  // has response e^{-i w t}
+/** Amplitude |H| of the centred n-point Lagrange read (default 4) at fraction u for w = 2 pi nu dt. */
+export function lagrangeCentredGain(u: number, w: number, n = 4): number {
+  const k = new Float64Array(n);
+  lagrangeCentredN(u, n, k);
+  // nodes at -(n/2 - 1) .. n/2 samples relative to the read's integer part; a delay of t
+  // samples has response e^{-i w t}
   let re = 0;
   let im = 0;
-  for (let i = 0; i < 4; i++) {
-    const t = i - 1 - u;
+  for (let i = 0; i < n; i++) {
+    const t = i - (n / 2 - 1) - u;
     re += k[i] * Math.cos(w * t);
     im -= k[i] * Math.sin(w * t);
   }
@@ -50,7 +60,7 @@ export class ComplexDelayLines {
   readonly mask: number;
   /** slot of the newest sample (shared by every line) */
   head = 0;
-  private readonly w = new Float64Array(4);
+  private readonly w = new Float64Array(READ_POINTS);
 
   /**
    * @param lines number of delay lines
@@ -62,7 +72,7 @@ export class ComplexDelayLines {
   ) {
     if (!(maxDelay >= 0 && maxDelay < 1e8)) throw new Error(`delay of ${maxDelay} samples cannot be stored`);
     let cap = 8;
-    while (cap < maxDelay + 4) cap *= 2;
+    while (cap < maxDelay + READ_POINTS + 2) cap *= 2;
     this.cap = cap;
     this.mask = cap - 1;
     this.re = new Float64Array(lines * cap);
@@ -87,24 +97,27 @@ export class ComplexDelayLines {
   }
 
   /**
-   * Read a line `back` samples before the newest (back >= 1, fractional allowed) by the
-   * centred 4-point Lagrange interpolator, into out[o], out[o + 1].
+   * Read a line `back` samples before the head (back >= MIN_CENTRED_DELAY, fractional
+   * allowed) by the centred READ_POINTS-point Lagrange interpolator, into out[o], out[o + 1].
+   * The nodes run from back - READ_POINTS / 2 + 1 to back + READ_POINTS / 2 (rounded).
    */
   read(line: number, back: number, out: Float64Array, o: number): void {
     const k = Math.floor(back);
-    const u = back - k;
     const w = this.w;
-    lagrangeCentred(u, w);
-    // stencil at back k - 1, k, k + 1, k + 2 (newest first), read point between k and k + 1
+    lagrangeCentredN(back - k, READ_POINTS, w);
     const base = line * this.cap;
-    const h = this.head - k;
     const m = this.mask;
-    const i0 = base + ((h + 1) & m);
-    const i1 = base + (h & m);
-    const i2 = base + ((h - 1) & m);
-    const i3 = base + ((h - 2) & m);
-    out[o] = w[0] * this.re[i0] + w[1] * this.re[i1] + w[2] * this.re[i2] + w[3] * this.re[i3];
-    out[o + 1] = w[0] * this.im[i0] + w[1] * this.im[i1] + w[2] * this.im[i2] + w[3] * this.im[i3];
+    // node i sits at back k - (n/2 - 1) + i (newest first), so at head - k + n/2 - 1 - i
+    const top = this.head - k + READ_POINTS / 2 - 1;
+    let re = 0;
+    let im = 0;
+    for (let i = 0; i < READ_POINTS; i++) {
+      const idx = base + ((top - i) & m);
+      re += w[i] * this.re[idx];
+      im += w[i] * this.im[idx];
+    }
+    out[o] = re;
+    out[o + 1] = im;
   }
 
   /** Fill every slot of a line with one value. */

@@ -257,7 +257,7 @@ function comparison(s: RunSummary): SafeHtml {
   ];
   return section(
     'compare',
-    'Three ways to run it: no return mirror, mirror held still, mirror dithered',
+    'No return mirror, mirror held still, mirror dithered',
     html`<table class="compare">
       <thead>
         <tr>

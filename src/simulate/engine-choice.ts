@@ -67,7 +67,8 @@ export function couplingStrength(p: CoupledParams): number {
   const rMinus = p.r2 - k / (1 - p.r2 * p.r3eff);
   if (!(chi0 > 0) || p.R2 <= 0) return Infinity;
   const x = (r: number) => Math.abs(Math.log((r * r) / p.R2)) / chi0;
-  return Math.max(x(rPlus), rMinus > 0 ? x(rMinus) : Infinity);
+  // |r_eff(pi)| may pass through zero (the gap cancels M2's reflection): X is then unbounded
+  return Math.max(x(rPlus), rMinus !== 0 ? x(Math.abs(rMinus)) : Infinity);
 }
 
 /** Largest round-trip phase change, as a fraction of the resonance width 2 pi / F, for the mean-field engine. */
@@ -80,6 +81,8 @@ export interface EnginePlan {
   modal: { allowed: boolean; coupling: number; spreadFraction: number; reason: string };
   /** the round-trip engine's step, s */
   roundTripStep_s: number;
+  /** a modal engine was requested where the coupling does not allow it (warning code engine-coupling) */
+  couplingWarning?: string | null;
   /** quantities the choice was made from */
   basis: {
     exactStep_s: number;
@@ -204,12 +207,12 @@ export function planEngines(
   const notValid = `a modal engine was requested where it is not shown to hold (${modalReason}); the round-trip engine is the reference (docs/model.md §3.7)`;
   if (requested === 'roundtrip')
     return plan(rtStatic, { kind: 'roundtrip', dt: rt, reason: 'requested', warning: null });
-  if (requested === 'modal' || requested === 'meanfield') {
-    const w = [m.driven.warning, allowed ? null : notValid].filter((x) => x !== null).join('; ');
-    return plan(m.static, { ...m.driven, warning: w === '' ? null : w });
-  }
+  if (requested === 'modal' || requested === 'meanfield')
+    return { ...plan(m.static, { ...m.driven }), couplingWarning: allowed ? null : notValid };
+  // asked for by name, the adiabatic and slow-drive paths run on the modal family (as in
+  // 0.1), with the same coupling warning; `auto` builds them on the round-trip engine
   if (requested === 'adiabatic' || requested === 'speedcurve')
-    return plan(allowed ? m.static : rtStatic, { ...m.driven });
+    return { ...plan(m.static, { ...m.driven }), couplingWarning: allowed ? null : notValid };
   // auto
   if (allowed) return plan(m.static, { ...m.driven, reason: `${modalReason}; ${m.driven.reason}` });
   if (m.driven.kind === 'adiabatic' || m.driven.kind === 'speedcurve')

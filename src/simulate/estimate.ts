@@ -129,7 +129,7 @@ export function estimateDrivenTime(points: readonly Scenario[], budget_ms = 400)
     e.runs++;
     e.lane_steps += plan.lane_steps;
     byEngine.set(plan.engine, e);
-    if (plan.engine !== 'exact' && plan.engine !== 'fast') continue;
+    if (plan.engine !== 'exact' && plan.engine !== 'fast' && plan.engine !== 'roundtrip') continue;
     if (!rates.has(plan.engine))
       rates.set(plan.engine, calibrateLaneSteps(s, plan.engine, plan.dt_s, budget_ms));
     total += plan.lane_steps / rates.get(plan.engine)!;

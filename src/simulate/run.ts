@@ -106,7 +106,9 @@ export function roundTripStaticSettleTime(p: CoupledParams): number {
 function staticEngineRequest(s: Scenario, opts: RunOptions): EngineRequest {
   const r = opts.engine ?? s.simulation.engine;
   const n = DEPRECATED_ENGINE_NAMES[r] ?? r;
-  return n === 'modal' || n === 'roundtrip' ? n : 'auto';
+  return n === 'modal' || n === 'meanfield' || n === 'roundtrip' || n === 'adiabatic' || n === 'speedcurve'
+    ? n
+    : 'auto';
 }
 
 export function computeReferences(s: Scenario, opts: RunOptions = {}): References {
@@ -202,6 +204,7 @@ export function planRun(
   const engine = engines.driven.kind;
   const warnings: Warning[] = [];
   if (engines.driven.warning) warnings.push({ code: 'engine-validity', message: engines.driven.warning });
+  if (engines.couplingWarning) warnings.push({ code: 'engine-coupling', message: engines.couplingWarning });
   if (engine === 'adiabatic' && params.couplingAt !== null)
     warnings.push({
       code: 'tilt-not-followed',

@@ -74,7 +74,13 @@ export function steppingEngineFor(
     ...s,
     drive: { ...s.drive, waveform: 'off', amplitude: 0, second_amplitude: 0, drift: v, vibration: undefined },
   };
-  const req = steppingRequest(requested) as EngineRequest;
+  let req = steppingRequest(requested) as EngineRequest;
+  // the slow-drive path asked for by name runs on the modal family (docs/model.md §3.7):
+  // the mean field where it holds at this speed, else the delay line
+  if (requested === 'speedcurve' || requested === 'adiabatic') {
+    const mf = planEngines(still, p, finesse, regrowth_s, 'meanfield');
+    req = mf.driven.warning === null ? 'meanfield' : 'modal';
+  }
   const plan = planEngines(still, p, finesse, regrowth_s, req);
   const k = plan.driven.kind as string;
   if (k === 'exact' || k === 'fast' || k === 'roundtrip') return { kind: k, dt: plan.driven.dt };

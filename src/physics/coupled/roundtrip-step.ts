@@ -1,14 +1,14 @@
 /**
  * The time step of the round-trip engine, docs/model.md §3.5: the laser's round trip
  * tau_L is a whole number of steps (its delay needs no interpolation); the band
- * +-1/(2 dt) holds the gain line with margin; the gap's delay is at least 2.5 steps
- * (the centred interpolator needs a node on each side); and among the step counts that
+ * +-1/(2 dt) holds the gain line with margin; the gap's delay is at least 4.5 steps
+ * (the centred 8-point interpolator needs four nodes on each side); and among the step counts that
  * satisfy this, the one that puts the gap's rest delay closest to a whole number of steps
  * is taken, because the interpolator's small loss and dispersion vanish at whole delays
  * (a dithered mirror moves the delay by femtoseconds, so the fraction stays where it is).
  */
 import type { GainSpec } from '../../scenario/schema';
-import { lagrangeCentredGain } from '../../numerics/delay-line';
+import { lagrangeCentredGain, MIN_CENTRED_DELAY, READ_POINTS } from '../../numerics/delay-line';
 import { PACKET_WEIGHT_FLOOR } from '../laser/gain-packets';
 
 export interface RoundTripStep {
@@ -59,7 +59,7 @@ export function chooseRoundTripStep(
   // at the band's edge alias) and a margin
   const need = Math.max(gainExtent_Hz(gain), maxModeDetuning_Hz + fsr_Hz);
   let dtMax = 1 / (2 * need * (1 + BAND_MARGIN));
-  if (tauE > 0) dtMax = Math.min(dtMax, tauE / 2.5);
+  if (tauE > 0) dtMax = Math.min(dtMax, tauE / (MIN_CENTRED_DELAY + 0.5));
   const n0 = Math.max(2, Math.ceil(tauL / dtMax));
   let best = n0;
   let bestFrac = 1;
@@ -80,7 +80,7 @@ export function chooseRoundTripStep(
   const gapSteps = tauE > 0 ? tauE / dt : 0;
   const frac = gapSteps - Math.floor(gapSteps);
   const w = 2 * Math.PI * maxModeDetuning_Hz * dt;
-  const h = tauE > 0 ? lagrangeCentredGain(frac, w) : 1;
+  const h = tauE > 0 ? lagrangeCentredGain(frac, w, READ_POINTS) : 1;
   return {
     dt,
     laserSteps: best,

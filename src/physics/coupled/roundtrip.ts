@@ -32,7 +32,7 @@
  * nothing.
  */
 import { SPEED_OF_LIGHT_m_s } from '../constants';
-import { ComplexDelayLines } from '../../numerics/delay-line';
+import { ComplexDelayLines, MIN_CENTRED_DELAY } from '../../numerics/delay-line';
 import { bankResponse, buildPacketBank, PacketBank } from '../laser/gain-packets';
 import type { CoupledParams } from './params';
 import { emptyEnergy } from './lane-engine';
@@ -203,7 +203,7 @@ export class RoundTripEngine implements LaneEngine {
     if (p.hasExternal) {
       const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / c / dt;
       const minDelay = (2 * (p.externalLength_m - Math.abs(maxExcursion_m))) / c / dt;
-      if (minDelay < 2)
+      if (minDelay < MIN_CENTRED_DELAY)
         throw new Error(
           `round-trip engine: the gap delay (${minDelay.toFixed(2)} steps) is too short for the step ${dt} s`,
         );
