@@ -1,5 +1,5 @@
 /**
- * The detection-band view of the gap power (MODEL.md section 4): what a detector that
+ * The detection-band view of the gap power (docs/model.md §4): what a detector that
  * integrates for T = 1 / bandwidth sees, i.e. the sliding (boxcar) average
  *
  *     y(t) = (1/T) * integral_{t-T}^{t} P(t') dt' ,
@@ -92,7 +92,7 @@ export class BoxcarFilter {
     this.ring = new Float64Array(nBlocks);
   }
 
-  /** Samples needed for the first fill plus three more windows (MODEL.md section 4). */
+  /** Samples needed for the first fill plus three more windows (docs/model.md §4). */
   get requiredSamples(): number {
     return 4 * this.windowBlocks * this.blockSamples;
   }
@@ -131,7 +131,7 @@ export class BoxcarFilter {
     return Math.max(0, this.outputs - 1) / this.windowBlocks;
   }
 
-  /** True once at least three windows followed the first fill (MODEL.md section 4). */
+  /** True once at least three windows followed the first fill (docs/model.md §4). */
   enoughWindows(): boolean {
     return this.windowsAfterFill() >= 3;
   }

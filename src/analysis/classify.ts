@@ -1,5 +1,5 @@
 /**
- * One class per run from its metrics (MODEL.md section 4, CONTRACT.md `class`).
+ * One class per run from its metrics (docs/model.md §4, CONTRACT.md `class`).
  *
  * Order of precedence (the first test that fires decides):
  *   1. numerical-failure  the run's status says so (passed through with its message);

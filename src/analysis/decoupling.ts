@@ -1,9 +1,9 @@
 /**
- * The first-order decoupling rule of MODEL.md section 4: the feedback is decoupled while
+ * The first-order decoupling rule of docs/model.md §4: the feedback is decoupled while
  * the Doppler shift 2 |v| / lambda of the returned light exceeds the laser's
  * injection-locking half width.
  *
- * Injection rate. With dE/dt = ... + (t2 sqrt(eta_fb) / tau_L) b (MODEL.md eq. 3.1), the
+ * Injection rate. With dE/dt = ... + (t2 sqrt(eta_fb) / tau_L) b (docs/model.md §3.1), the
  * injected field acts on the laser field at the rate
  *     kappa = (t2 sqrt(eta_fb) / tau_L) |b| / |E|        (1/s),
  * and a laser with amplitude-phase coupling alpha locks to injected light within the

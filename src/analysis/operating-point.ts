@@ -1,5 +1,5 @@
 /**
- * The inverse question of MODEL.md section 5 on a stability map: which points an actuator
+ * The inverse question of docs/model.md §5 on a stability map: which points an actuator
  * can reach, and the reachable operating point decoupled with a margin that asks least of it.
  *
  * The map's arrays are flattened row-major over its axes, the last axis fastest

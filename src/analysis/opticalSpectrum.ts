@@ -1,5 +1,5 @@
 /**
- * Optical spectrum of one mode's returned field b_m (MODEL.md section 4): the averaged
+ * Optical spectrum of one mode's returned field b_m (docs/model.md §4): the averaged
  * Hann-windowed periodogram |FFT(w b)|^2 of the complex envelope, over segments of N
  * samples with 50 % overlap (Welch, IEEE Trans. Audio Electroacoust. 15, 70 (1967)),
  * centred (fftshift) and given in dB relative to its own peak. It shows the Doppler

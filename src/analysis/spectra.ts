@@ -1,6 +1,6 @@
 /**
  * Welch power spectral density of a real stream and the relative-intensity-noise (RIN)
- * spectrum of the gap power (MODEL.md section 4).
+ * spectrum of the gap power (docs/model.md §4).
  *
  * Method: P. D. Welch, "The use of fast Fourier transform for the estimation of power
  * spectra: a method based on time averaging over short, modified periodograms",

@@ -83,7 +83,7 @@ export function formatNumber(value: number | null | undefined, digits = 4): stri
 }
 
 /**
- * The terminal line for a map's recommended operating point (MODEL.md section 5): where it
+ * The terminal line for a map's recommended operating point (docs/model.md §5): where it
  * is and why, or why there is none; null for a map without both drive axes, which has no
  * operating point to speak of.
  */

@@ -1,5 +1,5 @@
 /**
- * Drive and actuator requirements (MODEL.md section 5): what a drive asks of the mirror
+ * Drive and actuator requirements (docs/model.md §5): what a drive asks of the mirror
  * (stroke, speed, acceleration, force, Doppler shift) and, with an actuator description,
  * what it asks of the amplifier (voltage through a second-order mechanical response,
  * reactive current and power) and how close it runs to the resonance. Every number is SI;
@@ -236,7 +236,7 @@ function harmonicPeak(amp: number[], harm: number[], phase: number[]): number {
 }
 
 /**
- * What a drive asks of an actuator (MODEL.md section 5).
+ * What a drive asks of an actuator (docs/model.md §5).
  * Voltage per component V_n = A_n / (k_v |H(f_n)|); current I_n = 2 pi f_n C V_n; reactive
  * power sum 1/2 V_n I_n (amplitude convention: 1/2 V I = V_rms I_rms, in var; a pure
  * capacitance dissipates none of it, the amplifier must still source it). Two tones: peak
@@ -413,7 +413,7 @@ function limitChecks(req: ActuatorRequirement, act: ActuatorSpec, notes: string[
 }
 
 /**
- * The drive and actuator requirement sheet of a scenario (MODEL.md section 5; the
+ * The drive and actuator requirement sheet of a scenario (docs/model.md §5; the
  * `dithercav actuator` command). Kinematics: stroke 2A, peak speed 2 pi f A (4 A f for the
  * triangle), peak acceleration (2 pi f)^2 A, peak Doppler shift 2 v / lambda, period 1/f.
  * With an actuator: voltage, current, reactive power, resonance margin, force m a, and a

@@ -1,5 +1,5 @@
 /**
- * Everything computed before any time stepping (MODEL.md section 2), gathered for
+ * Everything computed before any time stepping (docs/model.md §2), gathered for
  * `dithercav check`, the run summary and the engines.
  */
 import type { Derived } from '../results/summary';

@@ -1,5 +1,5 @@
 /**
- * The return-mirror motion x(t) of MODEL.md section 1: the actuator waveform (sine,
+ * The return-mirror motion x(t) of docs/model.md §1: the actuator waveform (sine,
  * triangle, two tones, or off) about the rest position x0, plus a slow drift and an
  * optional small random vibration.
  *
@@ -240,7 +240,7 @@ export function strokePeakToPeak(spec: DriveSpec): number {
 
 /**
  * Peak Doppler shift of the light returned by the moving mirror, Hz: 2 v_peak / lambda
- * (reflection doubles the path change; MODEL.md section 4).
+ * (reflection doubles the path change; docs/model.md §4).
  * @param wavelength vacuum wavelength in m (the medium of the gap taken as vacuum)
  */
 export function peakDoppler_Hz(spec: DriveSpec, wavelength: number): number {
@@ -249,7 +249,7 @@ export function peakDoppler_Hz(spec: DriveSpec, wavelength: number): number {
 
 /**
  * Fraction of time (0..1, dimensionless) the mirror spends slower than v_c (m/s).
- *   sine: (2/pi) arcsin(v_c / v_peak) (MODEL.md section 4), 1 when v_c >= v_peak;
+ *   sine: (2/pi) arcsin(v_c / v_peak) (docs/model.md §4), 1 when v_c >= v_peak;
  *   triangle: 0 when v_c <= 4 A f, else 1 (the turning instants have zero duration);
  *   off: 1 for v_c > 0;
  *   two-tone: the average over the two tone phases (theta1, theta2), which equals the time

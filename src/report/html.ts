@@ -1,7 +1,7 @@
 /**
  * The page skeleton shared by every report: one self-contained HTML file with the
  * plotting library inlined, the data as JSON, a print style sheet and the laser-safety
- * caution (MODEL.md section 6). The page makes no network request of any kind: no
+ * caution (docs/model.md §8). The page makes no network request of any kind: no
  * external script, style, font or image; fonts are the reader's system fonts.
  */
 import { readFileSync } from 'node:fs';
@@ -108,7 +108,7 @@ export function plotDiv(id: string, caption?: string, title?: string): SafeHtml 
 }
 
 /**
- * The laser-safety caution shown on every page (MODEL.md section 6): gap powers can
+ * The laser-safety caution shown on every page (docs/model.md §8): gap powers can
  * reach watts while the laser's output is milliwatts, the beam in the gap may exceed
  * the laser's labelled class, local rules (IEC 60825 series) and the laser safety
  * officer apply, actuator drives can be high voltage.

@@ -287,7 +287,7 @@ export interface RunSummary {
   /** peak intensities at the gap waist and on the mirrors; absent in older summaries */
   peak_intensity?: PeakIntensity | null;
   /**
-   * The drive and actuator requirement sheet of the scenario (actuatorSheet, MODEL.md
+   * The drive and actuator requirement sheet of the scenario (actuatorSheet, docs/model.md
    * section 5): voltage, current, resonance margin and every limit checked. Null when the
    * scenario has no actuator section; absent in summaries written before it existed.
    */

@@ -1,5 +1,5 @@
 /**
- * The adiabatic path of MODEL.md 3.4: when the mirror crosses each resonance slowly
+ * The adiabatic path of docs/model.md §3.4: when the mirror crosses each resonance slowly
  * compared with every response time of the coupled system, the state follows the static
  * power-versus-position curve (on its up branch while the mirror moves forward, its down
  * branch while it moves back), so the driven statistics follow from that curve sampled

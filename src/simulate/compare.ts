@@ -2,7 +2,7 @@
  * Waveform comparison (issue 7 item 3): which drive waveform decouples better for the
  * same actuator and the same amplifier. Each of sine, triangle and two-tone is given the
  * mirror amplitude(s) that the SAME PEAK VOLTAGE produces through the actuator's
- * second-order mechanical response (MODEL.md section 5), then run with runScenario; the
+ * second-order mechanical response (docs/model.md §5), then run with runScenario; the
  * free-running and static references are computed once and shared, since they do not
  * depend on the drive's waveform or amplitude (referenceKey).
  *

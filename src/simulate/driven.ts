@@ -1,5 +1,5 @@
 /**
- * The driven run (MODEL.md section 4): the actuator on, at several rest positions of the
+ * The driven run (docs/model.md §4): the actuator on, at several rest positions of the
  * mirror (lanes), settled, then statistics over whole drive periods.
  */
 import type { CoupledParams } from '../physics/coupled/params';

@@ -1,5 +1,5 @@
 /**
- * The two references every driven run is judged against (MODEL.md section 4):
+ * The two references every driven run is judged against (docs/model.md §4):
  * the free-running laser (no return mirror) and the static system (actuator off),
  * settled at positions spread over half a wavelength, up and down.
  */
@@ -225,7 +225,7 @@ export function settleLanes(e: LaneEngine, steps: number, avgSteps: number): Lan
   return res;
 }
 
-/** Time for a suppressed mode to regrow from noise, the slow end of MODEL.md 4's 5-15 us. */
+/** Time for a suppressed mode to regrow from noise, the slow end of docs/model.md §4's 5-15 us. */
 export const STATIC_REGROWTH_s = 16e-6;
 
 /** Most positions the automatic static reference refines to. */
@@ -294,7 +294,7 @@ export const STATIC_ACTIVE_REL = 0.02;
 
 /**
  * Settle the system with the actuator off at N positions over half a wavelength,
- * MODEL.md section 4. Level 0: chains of consecutive positions, each position started
+ * docs/model.md §4. Level 0: chains of consecutive positions, each position started
  * from the settled state of its neighbour (up, then back down), with a warm-up of three
  * positions before each chain so no chain starts cold. Refinement (auto): each new
  * midpoint starts from its left neighbour's up state and its right neighbour's down
@@ -302,7 +302,7 @@ export const STATIC_ACTIVE_REL = 0.02;
  */
 export function staticReference(p: CoupledParams, o: StaticOptions): StaticResult {
   const still: MirrorMotion = { position: () => o.rest_m, velocity: () => 0 };
-  // A mode switched off near a resonance regrows from noise in 5-15 us (MODEL.md 4): a coarse
+  // A mode switched off near a resonance regrows from noise in 5-15 us (docs/model.md §4): a coarse
   // grid given by number moves the mirror far between positions, so each position gets at
   // least a regrowth time's share (16 us x 64 / N, at most 16 us); the automatic grid is
   // fine enough (thousands of positions) that the walk itself is slow.

@@ -186,10 +186,10 @@ function curves(
  * Curves (when the axes include drive.amplitude and drive.frequency and no other axis
  * has more than one value), for each frequency:
  * - onset_curve: the smallest amplitude with hops_per_period above
- *   analysis.max_hops_per_period (MODEL.md 4, mode-hopping onset), by `firstOnset`;
+ *   analysis.max_hops_per_period (docs/model.md §4, mode-hopping onset), by `firstOnset`;
  * - decoupling_boundary: the smallest amplitude of class 'decoupled', by `firstOnset`;
  * - critical_curve: A = v_c / (2 pi f), the amplitude whose peak speed 2 pi f A equals
- *   the critical speed v_c (MODEL.md 4), v_c the median of the points' critical_speed_m_s
+ *   the critical speed v_c (docs/model.md §4), v_c the median of the points' critical_speed_m_s
  *   (drawn whatever the other axes).
  * The curves use computed points only (records), never inferred ones.
  * With `refine`, the points the refinement plan infers (src/sweep/refine.ts) get the class

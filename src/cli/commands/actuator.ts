@@ -1,6 +1,6 @@
 /**
  * `dithercav actuator FILE [--json]`: the drive and actuator requirement table of a
- * scenario (MODEL.md section 5). Exit 0 even when a limit is exceeded (the table says so);
+ * scenario (docs/model.md §5). Exit 0 even when a limit is exceeded (the table says so);
  * 2 on bad input.
  */
 import type { Command } from 'commander';

@@ -1,6 +1,6 @@
 /**
  * `dithercav check FILE [--json]`: validate a scenario and print what follows from it
- * before any time stepping (MODEL.md section 2): mode spacings, lifetimes, finesse, beam
+ * before any time stepping (docs/model.md §2): mode spacings, lifetimes, finesse, beam
  * sizes, coupling, the mode list and the free-running estimate. Exit 0 valid, 2 not.
  */
 import type { Command } from 'commander';

@@ -1,5 +1,5 @@
 /**
- * The exact round-trip (delay-line) engine of MODEL.md 3.1-3.3: a multimode rate-equation
+ * The exact round-trip (delay-line) engine of docs/model.md §3.1-3.3: a multimode rate-equation
  * laser (mean field over laser round trips) driven by the field returning from an external
  * cavity whose return mirror moves; the external cavity is a delay line of length
  * tau(t) = 2 (L2 + x(t)) / c, with every order of multiple reflection kept.

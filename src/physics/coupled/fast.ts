@@ -1,5 +1,5 @@
 /**
- * The accelerated external-cavity engine of MODEL.md 3.4. The external field is a mean
+ * The accelerated external-cavity engine of docs/model.md §3.4. The external field is a mean
  * field over external round trips,
  *
  *   tau_E da_m/dt = (r2' r3' e^{-i phi_m(t)} - 1) a_m + t2 sqrt(eta_fb) E_m,  r2' = -r2,

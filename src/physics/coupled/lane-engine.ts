@@ -18,7 +18,7 @@ export interface NormalSource {
   normal(): number;
 }
 
-/** Per-lane energy bookkeeping (MODEL.md 3.3), joules. */
+/** Per-lane energy bookkeeping (docs/model.md §3.3), joules. */
 export interface LaneEnergy {
   /** stored laser energy tau_L sum |E|^2 at the start of bookkeeping */
   laserStart: number;
@@ -101,7 +101,7 @@ export interface LaneEngine {
 }
 
 /**
- * Relative closing errors of the two subsystem balances of a lane (MODEL.md 3.3):
+ * Relative closing errors of the two subsystem balances of a lane (docs/model.md §3.3):
  * laser: stored change - (gain - cold loss + injection + noise), over the gain supplied;
  * external: stored change - (in - lost), over the integral of |a|^2; and the interface
  * mismatch over the power the laser puts into the external mode.

@@ -1,5 +1,5 @@
 /**
- * Longitudinal modes of the active cavity and the gain each one sees (MODEL.md 2 and 3.2).
+ * Longitudinal modes of the active cavity and the gain each one sees (docs/model.md §2 and §3.2).
  */
 import type { GainSpec, LaserSpec } from '../../scenario/schema';
 import { SPEED_OF_LIGHT_m_s } from '../constants';
@@ -44,7 +44,7 @@ export function gainShape(shape: GainSpec['shape'], detuning_Hz: number, fwhm_Hz
 
 /**
  * The cold-cavity modes that fall inside the gain curve: every q with pump_ratio * f_m at
- * or above gain.mode_floor (MODEL.md 3.2: reach well below free-running threshold, since
+ * or above gain.mode_floor (docs/model.md §3.2: reach well below free-running threshold, since
  * feedback lowers some modes' thresholds), at most gain.max_modes of them (the strongest),
  * and never fewer than the one mode nearest the peak.
  */
@@ -93,7 +93,7 @@ export function holeProfile(d_Hz: number, halfWidth_Hz: number): number {
 }
 
 /**
- * Cross-saturation matrix C_mk (row-major, count x count), MODEL.md 3.2.
+ * Cross-saturation matrix C_mk (row-major, count x count), docs/model.md §3.2.
  * Homogeneous: C_mk = 1 (one reservoir). Inhomogeneous (spectral hole burning):
  * C_mk = L(nu_m - nu_k) + L(nu_m + nu_k - 2 nu_0), the second term the mirror-image hole of
  * the standing wave (Lamb, Phys. Rev. 134, A1429 (1964)). Entries with k != m are

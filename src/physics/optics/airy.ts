@@ -1,9 +1,9 @@
 /**
  * Static (Airy) response of the external cavity: a two-mirror Fabry-Perot made of the
  * output coupler M2 (amplitude reflection r2, transmission t2) and an effective back
- * reflector r3' = r3 T_gap sqrt(eta_rt) (MODEL.md section 2).
+ * reflector r3' = r3 T_gap sqrt(eta_rt) (docs/model.md §2).
  *
- * Sign convention (MODEL.md 2 and 3.3): the reflection of M2 seen from inside the gap is
+ * Sign convention (docs/model.md §2 and §3.3): the reflection of M2 seen from inside the gap is
  * r2' = -r2 (Stokes relations), so with phi = omega tau the external round-trip phase
  *   a / a_in = t2 / (1 + r2 r3' e^{-i phi}),
  * and resonance (largest circulating power) is at e^{-i phi} = -1, i.e. phi = pi (mod 2 pi).
@@ -23,7 +23,7 @@ export interface Complex {
  * Effective amplitude reflection of the back reflector seen from M2 over one round trip:
  * r3' = r3 T_gap sqrt(eta_rt).
  * The gap element is passed twice (power T_gap^2, amplitude T_gap); eta_rt is the power
- * kept in the external mode per round trip (amplitude sqrt(eta_rt)). MODEL.md section 2.
+ * kept in the external mode per round trip (amplitude sqrt(eta_rt)). docs/model.md §2.
  * @param r3 amplitude reflection of M3 (sqrt(R3))
  * @param gapTransmission single-pass power transmission of the gap element, 0..1
  * @param roundtripEfficiency eta_rt, 0..1
@@ -39,9 +39,9 @@ export function effectiveBackReflection(
 /**
  * Circulating forward field in the gap per unit incident field from the laser side:
  * a / a_in = t2 / (1 + r2 r3' e^{-i phi}).
- * Derivation: a = t2 a_in + r2' b, b = r3' e^{-i phi} a, r2' = -r2 (MODEL.md 3.3).
+ * Derivation: a = t2 a_in + r2' b, b = r3' e^{-i phi} a, r2' = -r2 (docs/model.md §3.3).
  * Reference: Siegman, Lasers (1986), ch. 11 (Fabry-Perot circulating field), with the
- * r2' = -r2 sign of MODEL.md.
+ * r2' = -r2 sign of docs/model.md.
  * @param phi_rad external round-trip phase omega tau, rad
  */
 export function circulatingField(r2: number, t2: number, r3p: number, phi_rad: number): Complex {
@@ -141,7 +141,7 @@ export function linewidth_Hz(freeSpectralRange_Hz: number, cavityFinesse: number
  * Amplitude reflection of the compound mirror (M2 + external cavity) seen by the laser:
  * r_eff(phi) = r2 + T2 r3' e^{-i phi} / (1 + r2 r3' e^{-i phi}).
  * Equivalently (r2 + (R2 + T2) r3' z) / (1 + r2 r3' z) with z = e^{-i phi}; with a lossless
- * M2 (R2 + T2 = 1) and r3' = 1 it is an all-pass, |r_eff| = 1. MODEL.md section 2.
+ * M2 (R2 + T2 = 1) and r3' = 1 it is an all-pass, |r_eff| = 1. docs/model.md §2.
  * @param phi_rad external round-trip phase, rad
  */
 export function compoundReflection(r2: number, t2: number, r3p: number, phi_rad: number): Complex {
