@@ -242,6 +242,10 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
     return s * this.p.roundTripLaser_s;
   }
 
+  laneEnergy(l: number): LaneEnergy {
+    return this.energy[l];
+  }
+
   /** Circulating one-way power in the gap, sum over modes of |a_m|^2, W. */
   externalPower(l: number): number {
     let s = 0;

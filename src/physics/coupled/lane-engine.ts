@@ -75,6 +75,8 @@ export interface LaneEngine {
   /** rest offset of the return mirror per lane, m */
   readonly offset: Float64Array;
   readonly energy: LaneEnergy[];
+  /** the energy bookkeeping of lane l (without building every lane's) */
+  laneEnergy(l: number): LaneEnergy;
   failed: boolean;
   failMessage: string;
   setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void;
@@ -110,7 +112,7 @@ export function balanceErrors(
   engine: LaneEngine,
   l: number,
 ): { laser: number; external: number; mismatch: number } {
-  const e = engine.energy[l];
+  const e = engine.laneEnergy(l);
   const dL = engine.laserEnergy(l) - e.laserStart;
   const laserScale = Math.max(e.gain, e.coldLoss, 1e-300);
   const laser = Math.abs(dL - (e.gain - e.coldLoss + e.injection + e.noise)) / laserScale;

@@ -508,20 +508,23 @@ export class RoundTripEngine implements LaneEngine {
 
   /** Per-lane energy bookkeeping (docs/model.md §3.5), J; no interface mismatch (M2 is exact). */
   get energy(): LaneEnergy[] {
-    return Array.from({ length: this.L }, (_, l) => {
-      const a = l * ACC;
-      const e = emptyEnergy();
-      e.laserStart = this.start[2 * l];
-      e.externalStart = this.start[2 * l + 1];
-      e.gain = this.acc[a + ACC_GAIN];
-      e.coldLoss = this.acc[a + ACC_COLD];
-      e.injection = this.acc[a + ACC_INJ];
-      e.noise = this.acc[a + ACC_NOISE];
-      e.externalIn = this.acc[a + ACC_EXT_IN];
-      e.externalLost = this.acc[a + ACC_EXT_LOST];
-      e.externalScale = this.acc[a + ACC_EXT_SCALE];
-      return e;
-    });
+    return Array.from({ length: this.L }, (_, l) => this.laneEnergy(l));
+  }
+
+  /** The energy bookkeeping of lane l, J. */
+  laneEnergy(l: number): LaneEnergy {
+    const a = l * ACC;
+    const e = emptyEnergy();
+    e.laserStart = this.start[2 * l];
+    e.externalStart = this.start[2 * l + 1];
+    e.gain = this.acc[a + ACC_GAIN];
+    e.coldLoss = this.acc[a + ACC_COLD];
+    e.injection = this.acc[a + ACC_INJ];
+    e.noise = this.acc[a + ACC_NOISE];
+    e.externalIn = this.acc[a + ACC_EXT_IN];
+    e.externalLost = this.acc[a + ACC_EXT_LOST];
+    e.externalScale = this.acc[a + ACC_EXT_SCALE];
+    return e;
   }
 
   /** Light stored in the laser's delay line: dt sum |v|^2 over one round trip, J. */
