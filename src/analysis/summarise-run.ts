@@ -74,6 +74,8 @@ export interface StaticFigures {
   down: StaticPoint[];
   converged: boolean;
   levels: { positions: number; mean_W: number }[];
+  /** the levels' extrapolated limit when the refinement stopped on it (docs/model.md §4.1) */
+  extrapolated?: { mean_W: number; error_W: number; ratio: number } | null;
   worstBalance: number;
   failed: string | null;
 }
@@ -214,8 +216,12 @@ function summariseStatic(stat: StaticFigures): NonNullable<RunSummary['static']>
   const hyst =
     stat.up.reduce((a, u, i) => a + Math.abs(u.external_W - stat.down[i].external_W), 0) / stat.up.length;
   const out = meanMinMax(both.map((v) => v.laserOutput_W));
+  // the static mean is the levels' extrapolated limit when the refinement stopped on it
+  const x = stat.extrapolated ?? null;
   return {
-    external_W: { ...ext, mean: meanExt },
+    external_W: { ...ext, mean: x ? x.mean_W : meanExt },
+    external_mean_curve_W: meanExt,
+    external_mean_error_W: x ? x.error_W : null,
     laser_output_W: { ...out, mean: out.mean },
     intracavity_W: meanMinMax(both.map((v) => v.intracavity_W)),
     hysteresis_rel: meanExt > 0 ? hyst / meanExt : 0,

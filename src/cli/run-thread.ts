@@ -6,6 +6,7 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { runScenario } from '../simulate/run';
+import { runScenarioThreaded } from '../simulate/parallel-run';
 import type { EngineChoice } from '../simulate/run';
 import type { Scenario } from '../scenario/schema';
 import type { SpeedCurve } from '../results/speed-curve';
@@ -19,6 +20,8 @@ export interface RunThreadInput {
   seed?: number;
   /** a speed curve from an earlier run in the output folder (reused if its key matches) */
   speedCurve?: SpeedCurve | null;
+  /** threads for the static reference and the driven lanes (parallel-run.ts) */
+  threads: number;
 }
 
 /** What the thread posts back. */
@@ -33,30 +36,30 @@ if (parentPort) {
   const input = workerData as RunThreadInput;
   let lastLabel = '';
   let lastAt = 0;
-  try {
-    const artifacts = runScenario(input.scenario, {
-      engine: input.engine,
-      seed: input.seed,
-      speedCurve: input.speedCurve ?? null,
-      onProgress: (fraction, label) => {
-        // at most ten messages a second, and every change of phase
-        const now = Date.now();
-        if (label === lastLabel && now - lastAt < 100) return;
-        lastLabel = label;
-        lastAt = now;
-        port.postMessage({ type: 'progress', fraction, label } satisfies RunThreadMessage);
-      },
-    });
-    port.postMessage({ type: 'done', artifacts } satisfies RunThreadMessage);
-  } catch (err) {
-    port.postMessage(
-      err instanceof InputError
-        ? ({ type: 'input-error', file: err.file, problems: err.problems } satisfies RunThreadMessage)
-        : ({
-            type: 'error',
-            message: err instanceof Error ? err.message : String(err),
-            stack: err instanceof Error ? (err.stack ?? null) : null,
-          } satisfies RunThreadMessage),
-    );
-  }
+  runScenarioThreaded(input.scenario, {
+    engine: input.engine,
+    seed: input.seed,
+    speedCurve: input.speedCurve ?? null,
+    threads: input.threads,
+    onProgress: (fraction, label) => {
+      // at most ten messages a second, and every change of phase
+      const now = Date.now();
+      if (label === lastLabel && now - lastAt < 100) return;
+      lastLabel = label;
+      lastAt = now;
+      port.postMessage({ type: 'progress', fraction, label } satisfies RunThreadMessage);
+    },
+  }).then(
+    (artifacts) => port.postMessage({ type: 'done', artifacts } satisfies RunThreadMessage),
+    (err: unknown) =>
+      port.postMessage(
+        err instanceof InputError
+          ? ({ type: 'input-error', file: err.file, problems: err.problems } satisfies RunThreadMessage)
+          : ({
+              type: 'error',
+              message: err instanceof Error ? err.message : String(err),
+              stack: err instanceof Error ? (err.stack ?? null) : null,
+            } satisfies RunThreadMessage),
+      ),
+  );
 }

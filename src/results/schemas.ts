@@ -84,6 +84,8 @@ const staticSchema = z.looseObject({
   hysteresis_rel: nonneg,
   positions: count,
   converged: z.boolean(),
+  external_mean_curve_W: nonneg.optional(),
+  external_mean_error_W: nonneg.nullable().optional(),
 });
 
 const powerBalance = z.looseObject({

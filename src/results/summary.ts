@@ -260,6 +260,14 @@ export interface RunSummary {
     hysteresis_rel: number;
     positions: number;
     converged: boolean;
+    /**
+     * mean gap power of the saved curve's positions, W; external_W.mean differs from it when
+     * the mean is the refinement levels' extrapolated limit (docs/model.md §4.1); absent in
+     * summaries before 0.3
+     */
+    external_mean_curve_W?: number;
+    /** error of the extrapolated static mean, W (null when the mean is the curve's own) */
+    external_mean_error_W?: number | null;
   } | null;
   driven: DrivenSummary | null;
   drive: DriveSummary;

@@ -38,6 +38,8 @@ export interface DrivenOptions {
   /** expected frequency spread of the returned light, Hz, to size the optical spectrum */
   spectralSpread_Hz: number;
   rng: NormalSource;
+  /** one noise stream per lane (round-trip engine), so a lane's result does not depend on its neighbours */
+  laneRngs?: NormalSource[];
   maxExcursion_m: number;
   /** mode slot whose returned field's optical spectrum is taken */
   spectrumMode: number;
@@ -239,7 +241,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   const L = o.laneOffsets_m.length;
   const M = p.M;
   const e = createLaneEngine(
-    { kind: o.engine, dt: o.dt, maxExcursion_m: o.maxExcursion_m },
+    { kind: o.engine, dt: o.dt, maxExcursion_m: o.maxExcursion_m, laneNoise: o.laneRngs },
     p,
     L,
     o.motion,

@@ -251,8 +251,14 @@ export interface StaticResult {
   converged: boolean;
   /** (N, mean external power) of each refinement level */
   levels: { positions: number; mean_W: number }[];
-  /** settled states (up branch) per position, for starting driven lanes */
-  store: LaneEngine;
+  /**
+   * the levels' limit by Aitken's delta-squared extrapolation (docs/model.md §4.1), when the
+   * refinement stopped on it: the mean, its error (the change between the last two
+   * extrapolations) and the ratio of successive level differences; null otherwise
+   */
+  extrapolated: StaticExtrapolation | null;
+  /** settled states (up branch) per position, for starting driven lanes (null once sent between threads) */
+  store: LaneEngine | null;
   steps: number;
   laneSteps: number;
   worstBalance: number;
@@ -287,7 +293,36 @@ export interface StaticOptions {
    * neighbours (and the left neighbour's settled state)
    */
   adaptive?: boolean;
+  /** told the fraction of the refinement done (by level: log2 N of log2 STATIC_MAX_POSITIONS) */
+  onProgress?: (fraction: number) => void;
 }
+
+/** The limit of the static levels as N grows, docs/model.md §4.1. */
+export interface StaticExtrapolation {
+  mean_W: number;
+  error_W: number;
+  ratio: number;
+}
+
+/**
+ * Aitken's delta-squared limit of the last three levels (m0, m1, m2 at N, 2N, 4N): when the
+ * differences shrink geometrically with a ratio q in (0, STATIC_AITKEN_MAX_RATIO], the
+ * limit is m2 + d2 q / (1 - q) with d2 = m2 - m1; null when the levels do not (yet) fall
+ * or rise geometrically.
+ */
+export function aitkenLimit(levels: { mean_W: number }[]): { limit: number; ratio: number } | null {
+  if (levels.length < 3) return null;
+  const [m0, m1, m2] = levels.slice(-3).map((l) => l.mean_W);
+  const d1 = m1 - m0;
+  const d2 = m2 - m1;
+  if (d1 === 0) return null;
+  const q = d2 / d1;
+  if (!(q > 0 && q <= STATIC_AITKEN_MAX_RATIO)) return null;
+  return { limit: m2 + (d2 * q) / (1 - q), ratio: q };
+}
+
+/** Largest ratio of successive level differences the extrapolation trusts (a ratio near 1 is no convergence). */
+export const STATIC_AITKEN_MAX_RATIO = 0.8;
 
 /** Difference between neighbouring static positions (relative to the curve's mean) that makes their midpoint worth settling. */
 export const STATIC_ACTIVE_REL = 0.02;
@@ -359,6 +394,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
     down: [],
     converged: false,
     levels: [],
+    extrapolated: null,
     store,
     steps,
     laneSteps,
@@ -408,6 +444,8 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
     u.length;
   const levels = [{ positions: N0, mean_W: meanOf(up, down) }];
   let converged = !auto;
+  let extrapolated: StaticExtrapolation | null = null;
+  let lastLimit: number | null = null;
   // ---- refinement by midpoints
   if (auto) {
     let N = N0;
@@ -492,10 +530,24 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
       const mean = meanOf(up, down);
       const prev = levels[levels.length - 1].mean_W;
       levels.push({ positions: N, mean_W: mean });
+      o.onProgress?.(Math.log2(N / N0) / Math.log2(STATIC_MAX_POSITIONS / N0));
       if (N >= resolved && Math.abs(mean - prev) <= 0.01 * Math.abs(mean)) {
         converged = true;
         break;
       }
+      // the levels of a scan whose positions settle from their neighbours creep towards the
+      // quasi-static limit geometrically (docs/model.md §4.1): two successive Aitken limits
+      // that agree within 1 % end the refinement, and the limit is the static mean
+      const lim = aitkenLimit(levels);
+      if (N >= resolved && lim !== null && lastLimit !== null) {
+        const err = Math.abs(lim.limit - lastLimit);
+        if (err <= 0.01 * Math.abs(lim.limit)) {
+          converged = true;
+          extrapolated = { mean_W: lim.limit, error_W: err, ratio: lim.ratio };
+          break;
+        }
+      }
+      lastLimit = lim === null ? null : lim.limit;
     }
   }
   return {
@@ -504,6 +556,7 @@ export function staticReference(p: CoupledParams, o: StaticOptions): StaticResul
     down: down as LaneMeans[],
     converged,
     levels,
+    extrapolated,
     store,
     steps,
     laneSteps,

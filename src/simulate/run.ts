@@ -24,6 +24,7 @@ import {
   freeRunning,
   freeRunningRoundTrip,
   FreeRunningResult,
+  STATIC_REGROWTH_s,
   staticReference,
   StaticResult,
 } from './references';
@@ -53,6 +54,8 @@ export interface RunOptions {
   references?: References;
   /** a speed curve computed earlier (reused and extended when its key matches) */
   speedCurve?: SpeedCurve | null;
+  /** the free-running reference computed earlier for this scenario and seed (computeFreeRunning) */
+  freeRunning?: { free: FreeRunningResult; staticKind: EngineKind };
 }
 
 /** Free-running and static references; reusable across sweep points with the same referenceKey. */
@@ -103,7 +106,7 @@ export function roundTripStaticSettleTime(p: CoupledParams): number {
 }
 
 /** Which engine settles the static reference: the exact one when the exact engine is requested, else the planner's choice. */
-function staticEngineRequest(s: Scenario, opts: RunOptions): EngineRequest {
+export function staticEngineRequest(s: Scenario, opts: RunOptions): EngineRequest {
   const r = opts.engine ?? s.simulation.engine;
   const n = DEPRECATED_ENGINE_NAMES[r] ?? r;
   return n === 'modal' || n === 'meanfield' || n === 'roundtrip' || n === 'adiabatic' || n === 'speedcurve'
@@ -111,37 +114,67 @@ function staticEngineRequest(s: Scenario, opts: RunOptions): EngineRequest {
     : 'auto';
 }
 
+/** The free-running reference and the engine that settles the static one. */
+export function computeFreeRunning(
+  s: Scenario,
+  opts: RunOptions = {},
+): { free: FreeRunningResult; staticKind: EngineKind } {
+  const seed = opts.seed ?? s.simulation.seed;
+  const { derived, params } = deriveAll(s);
+  const plan = planEngines(
+    s,
+    params,
+    derived.finesse_external,
+    staticSettleTime(params),
+    staticEngineRequest(s, opts),
+  );
+  const rng = createRng(seed).fork(1);
+  const free =
+    plan.static.kind === 'roundtrip' ? freeRunningRoundTrip(params, rng) : freeRunning(params, rng);
+  return { free, staticKind: plan.static.kind };
+}
+
+/** The static reference from the free-running state (null without an external cavity). */
+export function computeStatic(
+  s: Scenario,
+  free: FreeRunningResult,
+  staticKind: EngineKind,
+  opts: RunOptions = {},
+): StaticResult | null {
+  const seed = opts.seed ?? s.simulation.seed;
+  const { derived, params } = deriveAll(s);
+  if (!params.hasExternal || !Number.isFinite(params.gammaC)) return null;
+  const plan = planEngines(
+    s,
+    params,
+    derived.finesse_external,
+    staticSettleTime(params),
+    staticEngineRequest(s, opts),
+  );
+  return staticReference(params, {
+    positions: s.simulation.static_positions,
+    finesse: derived.finesse_external,
+    settle_s: staticKind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
+    dt: plan.static.dt,
+    engine: staticKind,
+    adaptive: staticKind === 'roundtrip',
+    halfWavelength_m: s.laser.wavelength / 2,
+    rest_m: s.drive.offset,
+    initial: free,
+    rng: createRng(seed).fork(2),
+    onProgress: opts.onProgress ? (f) => opts.onProgress?.(f, 'static reference') : undefined,
+  });
+}
+
 export function computeReferences(s: Scenario, opts: RunOptions = {}): References {
   const t0 = Date.now();
   const seed = opts.seed ?? s.simulation.seed;
-  const { derived, params } = deriveAll(s);
-  const req = staticEngineRequest(s, opts);
-  const plan = planEngines(s, params, derived.finesse_external, staticSettleTime(params), req);
-  const rng = createRng(seed);
-  const free =
-    plan.static.kind === 'roundtrip'
-      ? freeRunningRoundTrip(params, rng.fork(1))
-      : freeRunning(params, rng.fork(1));
-  let stat: StaticResult | null = null;
-  if (params.hasExternal && Number.isFinite(params.gammaC)) {
-    opts.onProgress?.(0, 'static reference');
-    stat = staticReference(params, {
-      positions: s.simulation.static_positions,
-      finesse: derived.finesse_external,
-      settle_s:
-        plan.static.kind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
-      dt: plan.static.dt,
-      engine: plan.static.kind,
-      adaptive: plan.static.kind === 'roundtrip',
-      halfWavelength_m: s.laser.wavelength / 2,
-      rest_m: s.drive.offset,
-      initial: free,
-      rng: rng.fork(2),
-    });
-  }
+  const { free, staticKind } = opts.freeRunning ?? computeFreeRunning(s, opts);
+  opts.onProgress?.(0, 'static reference');
+  const stat = computeStatic(s, free, staticKind, opts);
   return {
-    key: referenceKey(s, seed, req),
-    data: { free, stat, wall_s: (Date.now() - t0) / 1000, staticEngine: plan.static.kind },
+    key: referenceKey(s, seed, staticEngineRequest(s, opts)),
+    data: { free, stat, wall_s: (Date.now() - t0) / 1000, staticEngine: staticKind },
   };
 }
 
@@ -239,8 +272,13 @@ export function planRun(
   if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
   // the lanes start from settled static states: one drive period (both turning points) and
   // a few response times bring them to the periodic regime
+  // (lanes that run alone start from the free-running state instead, and also let the
+  // modes regrow and the gap fill: LANE_SETTLE_FROM_FREE_s more, docs/model.md §4.2)
+  const fromFree = lanesIndependent(engine);
   plan.settle_s =
-    s.simulation.settle === 'auto' ? Math.max(3 * tContStatic, f ? 1 / f : 0) : s.simulation.settle;
+    s.simulation.settle === 'auto'
+      ? Math.max(3 * tContStatic, f ? 1 / f : 0, fromFree ? LANE_SETTLE_FROM_FREE_s : 0)
+      : s.simulation.settle;
   // analysed window: whole drive periods, holding enough detection windows (the first fills, then >= 3)
   const minWindow = MIN_DETECTION_WINDOWS / s.analysis.detection_bandwidth;
   if (f) {
@@ -264,6 +302,43 @@ export function planRun(
 /** The random stream the rest offsets are drawn from (first batch and every refinement, in order). */
 function offsetRng(seed: number): Rng {
   return createRng(seed).fork(4);
+}
+
+/**
+ * Settle time of a driven lane started from the free-running state, s: two regrowth times
+ * of a suppressed mode (docs/model.md §4.2), so the modes' competition under the moving
+ * mirror has found its periodic regime before the analysed window opens.
+ */
+export const LANE_SETTLE_FROM_FREE_s = 2 * STATIC_REGROWTH_s;
+
+/**
+ * Whether the driven lanes are independent of each other (docs/model.md §4.2): each starts
+ * from the free-running state and draws its own noise stream, so any grouping of lanes
+ * into engines, on any thread, gives the same result. On the round-trip engine, where a
+ * lane is costly enough that the static reference and the lanes are worth spreading over
+ * threads (parallel-run.ts).
+ */
+export function lanesIndependent(engine: DrivenEngine): boolean {
+  return engine === 'roundtrip';
+}
+
+/** Lanes per engine when the lanes are independent: a batch's groups are what threads share out. */
+export const LANE_GROUP = 4;
+
+/** The lanes of a batch of n, in groups of LANE_GROUP (the last may be smaller), as indices. */
+export function laneGroups(n: number): number[][] {
+  const groups: number[][] = [];
+  for (let i = 0; i < n; i += LANE_GROUP)
+    groups.push(Array.from({ length: Math.min(LANE_GROUP, n - i) }, (_, k) => i + k));
+  return groups;
+}
+
+/** The noise stream of lane `index` of batch `batch` when the lanes run alone. */
+function laneRng(seed: number, batch: number, index: number): Rng {
+  return createRng(seed)
+    .fork(3)
+    .fork(batch + 1)
+    .fork(index + 1);
 }
 
 /** Lane-steps one batch of `lanes` offsets costs (the adiabatic path steps no fields). */
@@ -323,20 +398,28 @@ export interface ConvergedRun {
   relativeStderr: number;
 }
 
+/** One batch of rest offsets the converging loop asks to be stepped. */
+export interface BatchRequest {
+  offsets: number[];
+  batch: number;
+  label: string;
+  /** the part [lo, lo + width) of the driven run's progress this batch fills */
+  lo: number;
+  width: number;
+}
+
 /**
- * Step the planned run until its statistics converge (docs/model.md §3.6): the first batch
- * at the planned offsets, then, while the relative standard error of the mean gap power is
- * above the target, a batch doubling the strata (one new offset in the empty half of each
- * slice), as long as the lane-step budget and MAX_DRIVE_OFFSETS allow.
+ * The converging loop of the driven run (docs/model.md §3.6), as a generator that asks for
+ * batches and is given their results: the first batch at the planned offsets, then, while
+ * the relative standard error of the mean gap power is above the target, a batch doubling
+ * the strata (one new offset in the empty half of each slice), as long as the lane-step
+ * budget and MAX_DRIVE_OFFSETS allow. The same loop serves one thread (executeConverging)
+ * and several (parallel-run.ts).
  */
-export function executeConverging(
+export function* convergingBatches(
   s: Scenario,
-  params: CoupledParams,
-  derived: Derived,
-  refs: References,
   plan: RunPlan,
-  onProgress: (fraction: number, label: string) => void,
-): ConvergedRun {
+): Generator<BatchRequest, ConvergedRun, DrivenResult> {
   const half = s.laser.wavelength / 2;
   const rng = offsetRng(plan.seed);
   // replay the plan's draw on this stream, so that refinements continue the same sequence
@@ -346,12 +429,8 @@ export function executeConverging(
   // progress: batch k fills [1 - 2^-k, 1 - 2^-(k+1)) of the driven part
   let batchOffsets = offsets;
   for (let k = 0; ; k++) {
-    const lo = 1 - 2 ** -k;
-    const width = 2 ** -(k + 1);
     const label = k === 0 ? 'driven run' : `driven run, adding ${batchOffsets.length} offsets`;
-    batches.push(
-      executeRun(s, params, derived, refs, plan, batchOffsets, (x) => onProgress(lo + width * x, label), k),
-    );
+    batches.push(yield { offsets: batchOffsets, batch: k, label, lo: 1 - 2 ** -k, width: 2 ** -(k + 1) });
     used += batchLaneSteps(plan, batchOffsets.length);
     const merged = mergeBatches(batches);
     if (merged.failed) return { driven: merged, stoppedBy: 'budget', relativeStderr: Infinity };
@@ -369,6 +448,35 @@ export function executeConverging(
   }
 }
 
+/** Step the planned run on this thread until its statistics converge (convergingBatches). */
+export function executeConverging(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  plan: RunPlan,
+  onProgress: (fraction: number, label: string) => void,
+): ConvergedRun {
+  const loop = convergingBatches(s, plan);
+  let step = loop.next();
+  while (!step.done) {
+    const q = step.value;
+    step = loop.next(
+      executeRun(
+        s,
+        params,
+        derived,
+        refs,
+        plan,
+        q.offsets,
+        (x) => onProgress(q.lo + q.width * x, q.label),
+        q.batch,
+      ),
+    );
+  }
+  return step.value;
+}
+
 /** Largest excursion of a lane's mirror from the drive's zero over the whole run, m (sizes the engine's phase tables). */
 function maxExcursion(drive: Scenario['drive'], half_m: number, duration_s: number): number {
   return (
@@ -379,6 +487,65 @@ function maxExcursion(drive: Scenario['drive'], half_m: number, duration_s: numb
     Math.abs(drive.drift) * duration_s +
     5 * (drive.vibration?.rms ?? 0)
   );
+}
+
+/** The analysis settings every driven lane shares. */
+function drivenCommon(s: Scenario, derived: Derived, refs: References, plan: RunPlan) {
+  const { free, stat } = refs.data;
+  const drive = s.drive;
+  const f = driveMoves(drive) ? drive.frequency : null;
+  const spread = Math.max(
+    returnedLightSpread_Hz(derived.finesse_external, peakSpeed(drive), s.laser.wavelength),
+    f ? 8 * f : 0,
+    1e5,
+  );
+  const strongest = (powers: number[]) => powers.reduce((b, v, m) => (v > powers[b] ? m : b), 0);
+  return {
+    detectionBandwidth_Hz: s.analysis.detection_bandwidth,
+    hopDwell_s: s.analysis.hop_dwell,
+    hopMargin: s.analysis.hop_margin,
+    driveFrequency_Hz: f,
+    drivePhase_rad: drive.phase,
+    traceBuckets: Math.floor(s.simulation.trace_points / 2),
+    spectralSpread_Hz: spread,
+    // mode slot of the optical spectrum: the strongest mode of the static reference (up
+    // branch at position 0), or of the free-running laser when the lanes run alone
+    spectrumMode: lanesIndependent(plan.engine) || !stat ? strongest(free.modePowers_W) : stat.up[0].dominant,
+  };
+}
+
+/**
+ * Driven lanes that are independent (lanesIndependent): lanes `indices` of batch `batch`,
+ * from the free-running state, each on its own noise stream, so their results are the
+ * same in whatever group and on whichever thread they run.
+ */
+export function executeLanes(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  plan: RunPlan,
+  offsets_m: number[],
+  batch: number,
+  indices: number[],
+  onProgress: (fraction: number) => void,
+): DrivenResult {
+  const half = s.laser.wavelength / 2;
+  return drivenRun(params, {
+    engine: plan.engine as EngineKind,
+    dt: plan.dt,
+    motion: createDrive(s.drive, plan.seed),
+    laneOffsets_m: offsets_m,
+    start: null,
+    initial: refs.data.free,
+    settleSteps: plan.settleSteps,
+    analysedSteps: plan.analysedSteps,
+    ...drivenCommon(s, derived, refs, plan),
+    rng: laneRng(plan.seed, batch, 0),
+    laneRngs: indices.map((i) => laneRng(plan.seed, batch, i)),
+    maxExcursion_m: maxExcursion(s.drive, half, plan.settle_s + plan.analysed_s),
+    onProgress,
+  });
 }
 
 /** Step the planned driven run (time-stepping engine or adiabatic path) for the given lanes; batch numbers the noise stream. */
@@ -394,24 +561,8 @@ export function executeRun(
 ): DrivenResult {
   const { free, stat } = refs.data;
   const drive = s.drive;
-  const f = driveMoves(drive) ? drive.frequency : null;
   const half = s.laser.wavelength / 2;
-  const spread = Math.max(
-    returnedLightSpread_Hz(derived.finesse_external, peakSpeed(drive), s.laser.wavelength),
-    f ? 8 * f : 0,
-    1e5,
-  );
-  const common = {
-    detectionBandwidth_Hz: s.analysis.detection_bandwidth,
-    hopDwell_s: s.analysis.hop_dwell,
-    hopMargin: s.analysis.hop_margin,
-    driveFrequency_Hz: f,
-    drivePhase_rad: drive.phase,
-    traceBuckets: Math.floor(s.simulation.trace_points / 2),
-    spectralSpread_Hz: spread,
-    // strongest mode of the static reference (up branch at position 0), for the optical spectrum
-    spectrumMode: stat ? stat.up[0].dominant : 0,
-  };
+  const common = drivenCommon(s, derived, refs, plan);
   if (plan.engine === 'speedcurve' && stat) {
     // slow-drive path (docs/model.md §3.6): its own module, the same DrivenResult shape; the
     // speed curve is computed once and extended by later batches
@@ -446,12 +597,30 @@ export function executeRun(
       peakSpeed_m_s: peakSpeed(drive),
     });
   }
+  if (lanesIndependent(plan.engine)) {
+    const groups = laneGroups(laneOffsets_m.length);
+    return mergeBatches(
+      groups.map((indices, g) =>
+        executeLanes(
+          s,
+          params,
+          derived,
+          refs,
+          plan,
+          indices.map((i) => laneOffsets_m[i]),
+          batch,
+          indices,
+          (x) => onProgress((g + x) / groups.length),
+        ),
+      ),
+    );
+  }
   return drivenRun(params, {
     engine: plan.engine === 'adiabatic' || plan.engine === 'speedcurve' ? 'exact' : plan.engine,
     dt: plan.dt,
     motion: createDrive(drive, plan.seed),
     laneOffsets_m,
-    start: stat ? { store: stat.store, positions_m: stat.positions_m } : null,
+    start: stat && stat.store ? { store: stat.store, positions_m: stat.positions_m } : null,
     initial: free,
     settleSteps: plan.settleSteps,
     analysedSteps: plan.analysedSteps,
@@ -482,10 +651,28 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
   const converged = plan.drives
     ? executeConverging(s, params, derived, refs, plan, (x, label) => progress(0.4 + 0.6 * x, label))
     : null;
-  const driven = converged ? converged.driven : null;
+  const wall_s = (Date.now() - wall0) / 1000;
+  return finishRun(s, refs, plan, converged, {
+    wall_s,
+    drivenWall_s: Math.max(1e-9, wall_s - (reused ? 0 : refs.data.wall_s)),
+  });
+}
 
+/**
+ * The summary and artifacts of a run from its references, plan and converged driven result
+ * (the last, pure step of runScenario and of the threaded run).
+ */
+export function finishRun(
+  s: Scenario,
+  refs: References,
+  plan: RunPlan,
+  converged: ConvergedRun | null,
+  time: { wall_s: number; drivenWall_s: number },
+): RunArtifacts {
+  const { derived, params } = deriveAll(s);
+  const driven = converged ? converged.driven : null;
   if (plan.slow.note) plan.engineReason += plan.slow.note;
-  const wall = (Date.now() - wall0) / 1000;
+  const wall = time.wall_s;
   const { free, stat } = refs.data;
   const summary = summariseRun({
     scenario: s,
@@ -499,7 +686,7 @@ export function runScenario(s: Scenario, opts: RunOptions = {}): RunArtifacts {
       ? { stoppedBy: converged.stoppedBy, relativeStderr: converged.relativeStderr }
       : null,
     toolVersion: TOOL_VERSION,
-    timing: { wall_s: wall, drivenWall_s: Math.max(1e-9, wall - (reused ? 0 : refs.data.wall_s)) },
+    timing: { wall_s: wall, drivenWall_s: time.drivenWall_s },
   });
   const ok = driven && !driven.failed ? driven : null;
   // power budget and peak intensities (docs/model.md §6)

@@ -137,10 +137,12 @@ function constantMotion(rest_m: number, velocity: number): MirrorMotion {
 export function startFromStatic(e: LaneEngine, stat: StaticResult, x_m: (l: number) => number): void {
   const pos = stat.positions_m;
   const span = pos.length > 1 ? (pos[1] - pos[0]) * pos.length : 1;
+  const store = stat.store;
+  if (store === null) throw new Error('startFromStatic: the static reference holds no settled states');
   for (let l = 0; l < e.L; l++) {
     const x = ((x_m(l) % span) + span) % span;
     const j = Math.round(x / (span / pos.length)) % pos.length;
-    e.copyLane(stat.store, j, l);
+    e.copyLane(store, j, l);
   }
 }
 

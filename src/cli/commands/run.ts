@@ -12,7 +12,7 @@ import type { CommandContext } from '../main';
 import { runHeadline } from '../../report/headline';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
-import { runScenario } from '../../simulate/run';
+import { runScenarioThreaded } from '../../simulate/parallel-run';
 import { SPEED_CURVE_FILE } from '../../results/speed-curve';
 import type { SpeedCurve } from '../../results/speed-curve';
 import { ENGINE_CHOICES, EngineChoice } from '../../scenario/schema';
@@ -25,6 +25,7 @@ import { formatSI } from '../../scenario/units';
 import { writeRunFolder } from '../run-folder';
 import { safeFolderName } from '../../sweep/batch';
 import { FORCE_HELP, openResultFolder } from '../result-folder';
+import { parseJobs } from './sweep';
 
 function parseSeed(text: string | undefined): number | undefined {
   if (text === undefined) return undefined;
@@ -138,9 +139,11 @@ export function interruptedRunMessage(out: string, label: string | null, fractio
   const where =
     label === null
       ? 'before the simulation had started'
-      : label === 'driven run'
+      : label.startsWith('driven run')
         ? `the free-running and static references had finished; the driven run was interrupted${pct}`
-        : `interrupted during the ${label}${pct}; the driven run had not started`;
+        : label.startsWith('static reference and')
+          ? `the static reference and the driven run, stepping side by side, were interrupted${pct}`
+          : `interrupted during the ${label}${pct}; the driven run had not started`;
   return `stopped: ${where}. No result was written to ${out}: a run folder is written whole when the run finishes, so no partial result can be mistaken for a finished one. Run the command again to redo it.`;
 }
 
@@ -171,11 +174,12 @@ async function runOnThread(
 ): Promise<RunArtifacts> {
   const file = path.join(__dirname, '..', 'run-thread.js');
   if (!fs.existsSync(file))
-    return runScenario(input.scenario, {
+    return runScenarioThreaded(input.scenario, {
       engine: input.engine,
       seed: input.seed,
       onProgress,
       speedCurve: input.speedCurve ?? null,
+      threads: input.threads,
     });
   const worker = new Worker(file, { workerData: input });
   let label: string | null = null;
@@ -233,14 +237,26 @@ export function registerRun(program: Command, ctx: CommandContext): void {
     .option('--out <dir>', 'output folder (default reports/<scenario name>/)')
     .addOption(new Option('--engine <engine>', 'time-stepping engine').choices(ENGINE_CHOICES))
     .option('--seed <n>', 'seed of the spontaneous-emission noise (overrides simulation.seed)')
+    .option(
+      '--jobs <n>',
+      'threads for the static reference and the driven lanes of the round-trip engine (default: the available processors; the result does not depend on it)',
+    )
     .option('--quiet', 'no progress output')
     .option('--force', FORCE_HELP)
     .action(
       async (
         file: string,
-        o: { out?: string; engine?: EngineChoice; seed?: string; quiet?: boolean; force?: boolean },
+        o: {
+          out?: string;
+          engine?: EngineChoice;
+          seed?: string;
+          jobs?: string;
+          quiet?: boolean;
+          force?: boolean;
+        },
       ) => {
         const seed = parseSeed(o.seed);
+        const threads = parseJobs(o.jobs);
         const loaded = loadScenarioFile(file);
         for (const wn of loaded.warnings ?? [])
           process.stderr.write(
@@ -253,7 +269,7 @@ export function registerRun(program: Command, ctx: CommandContext): void {
         let artifacts: RunArtifacts;
         try {
           artifacts = await runOnThread(
-            { scenario: s, engine: o.engine, seed, speedCurve: priorSpeedCurve(out) },
+            { scenario: s, engine: o.engine, seed, speedCurve: priorSpeedCurve(out), threads },
             out,
             progress.onProgress,
             (m) => {

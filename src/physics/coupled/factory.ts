@@ -15,6 +15,8 @@ export interface EngineSpec {
   maxExcursion_m: number;
   /** mean-field engine: round-trip factor at the pulled lasing frequency (steady states) */
   pullCorrection?: boolean;
+  /** round-trip engine: one noise stream per lane instead of `rng` shared in lane order */
+  laneNoise?: readonly NormalSource[];
 }
 
 export function createLaneEngine(
@@ -29,8 +31,11 @@ export function createLaneEngine(
     const step = roundTripStepFor(p);
     if (Math.abs(step.dt - spec.dt) > 1e-9 * step.dt)
       throw new Error(`round-trip engine: step ${spec.dt} s requested, its own is ${step.dt} s`);
-    return new RoundTripEngine(p, lanes, motion, rng, spec.maxExcursion_m, step);
+    const e = new RoundTripEngine(p, lanes, motion, rng, spec.maxExcursion_m, step);
+    if (spec.laneNoise) e.setLaneNoise(spec.laneNoise);
+    return e;
   }
+  if (spec.laneNoise) throw new Error(`the ${spec.kind} engine draws one noise stream for all lanes`);
   return spec.kind === 'exact'
     ? new ExactEngine(p, lanes, spec.dt, motion, rng, spec.maxExcursion_m)
     : new FastEngine(p, lanes, spec.dt, motion, rng, spec.pullCorrection ?? false);

@@ -171,6 +171,9 @@ export class RoundTripEngine implements LaneEngine {
   private probeAmp = 0;
   private probeDet = 0;
 
+  /** one noise stream per lane (setLaneNoise), else null: every lane draws from `rng` in turn */
+  private laneNoise: readonly NormalSource[] | null = null;
+
   constructor(
     readonly p: CoupledParams,
     lanes: number,
@@ -624,6 +627,16 @@ export class RoundTripEngine implements LaneEngine {
     out[FLOW_GAP_ONE_WAY] = a2;
   }
 
+  /**
+   * Give each lane its own noise stream, so that a lane's history does not depend on which
+   * other lanes share the engine (docs/model.md §4.2).
+   */
+  setLaneNoise(sources: readonly NormalSource[]): void {
+    if (sources.length !== this.L)
+      throw new Error(`round-trip engine: ${sources.length} noise streams for ${this.L} lanes`);
+    this.laneNoise = sources;
+  }
+
   advance(steps: number, onStep?: (engine: LaneEngine) => void): boolean {
     for (let s = 0; s < steps; s++) {
       this.stepOnce();
@@ -738,8 +751,9 @@ export class RoundTripEngine implements LaneEngine {
       let eI = rho1 * (vr * pcI + vi * pcR);
       const aheadBase = l * aCap * 2;
       if (kick > 0) {
-        const zr = kick * this.rng.normal();
-        const zi = kick * this.rng.normal();
+        const src = this.laneNoise === null ? this.rng : this.laneNoise[l];
+        const zr = kick * src.normal();
+        const zi = kick * src.normal();
         const taps = this.firR.length;
         for (let k = 0; k < taps; k++) {
           const q = aheadBase + 2 * ((aPos + k) & aMask);
