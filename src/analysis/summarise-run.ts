@@ -435,6 +435,12 @@ export function summariseRun(x: SummaryInput): RunSummary {
         code: 'static-not-converged',
         message: `static mean not converged to 1 % at ${stat.positions_m.length} positions (levels: ${stat.levels.map((l) => `${l.positions}: ${l.mean_W.toExponential(3)} W`).join(', ')})`,
       });
+    } else if (stat.extrapolated) {
+      const x = stat.extrapolated;
+      warnings.push({
+        code: 'static-extrapolated',
+        message: `static mean ${x.mean_W.toExponential(3)} W +- ${x.error_W.toExponential(1)} W is the limit the refinement levels converge to (Aitken's delta-squared, ratio ${x.ratio.toFixed(2)}); the saved curve of ${stat.positions_m.length} positions averages ${staticSummary.external_mean_curve_W?.toExponential(3)} W and the quasi-static figures use it (docs/model.md §4.1)`,
+      });
     }
   }
 
