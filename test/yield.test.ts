@@ -124,6 +124,24 @@ describe('draws', () => {
   });
 });
 
+describe('a yield of a scenario with an actuator', () => {
+  it('finishes: the draw axis is no drive plane, so no operating point is sought on it', async () => {
+    // the map of a yield is over draw numbers; rebuilding a draw from its axis value (as the
+    // actuator reach of a drive map does) would apply the key 'draw' to the scenario
+    const s = load(
+      tiny(
+        '    external.return_mirror.reflectivity: { uniform: 0.004 }',
+        'actuator: { stroke_per_volt: 10 nm/V, capacitance: 50 nF, resonance: 4 MHz, max_voltage: 150 V }',
+      ),
+    );
+    expect(s.actuator).toBeDefined();
+    const plan = planDraws(s, 2);
+    const out = await runSweep(s, { outDir: join(tmp, 'actuator'), inProcess: true, pointSet: plan });
+    expect(out.finished).toBe(2);
+    expect(out.map.recommended ?? null).toBeNull();
+  });
+});
+
 describe('statistics of the yield', () => {
   it("Spearman's rank correlation: +1 and -1 for monotonic data, the textbook value with ties", () => {
     // any strictly monotonic relation has rho = +-1 (Spearman 1904)

@@ -8,6 +8,7 @@ import type { RunClass } from '../results/summary';
 import { RESULT_VERSION } from '../results/summary';
 import { TOOL_VERSION } from '../version';
 import type { Scenario } from '../scenario/schema';
+import { axisKeyProblem } from '../scenario/validate';
 import { axisIndices, pointCount } from '../results/grid-index';
 import type { PointRecord } from '../results/points';
 import { reachableMask, recommendOperatingPoint } from '../analysis/operating-point';
@@ -293,7 +294,9 @@ export function computedOnly(map: SweepMap): SweepMap {
  * scenario. Without a scenario the map is returned as it is ('not computed').
  */
 export function withOperatingPoint(map: SweepMap, scenario: Scenario | null): SweepMap {
-  if (!scenario) return map;
+  // a map over axes that are not scenario keys (a yield's draw numbers) has no drive plane
+  // to recommend from, and its points cannot be rebuilt from their axis values
+  if (!scenario || map.axes.some((a, k) => axisKeyProblem(a.key, k) !== null)) return map;
   const reachable = reachableMask(map, scenario);
   const withMask = { ...map, reachable };
   // inferred points never decide the operating point: only computed ones count as decoupled
