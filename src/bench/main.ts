@@ -76,9 +76,12 @@ async function main(): Promise<void> {
   const mapPoints = Number(process.env.BENCH_MAP32_POINTS ?? BENCH_SETTINGS.map32.points);
   if (!Number.isInteger(mapPoints) || mapPoints < 2)
     throw new Error(`BENCH_MAP32_POINTS: expected a whole number >= 2`);
-  if (only !== '' && only !== 'map32')
-    throw new Error(`BENCH_ONLY: expected 'map32' or nothing, found '${only}'`);
+  if (only !== '' && only !== 'map32' && only !== 'engines')
+    throw new Error(`BENCH_ONLY: expected 'map32', 'engines' or nothing, found '${only}'`);
   const all = only === '';
+  // BENCH_ONLY=engines: every part but the 32 x 32 map (which can take hours on the round-trip engine)
+  const parts = only === 'engines' || all;
+  const withMap = only === 'map32' || all;
   const demo = loadDemo();
   log(
     `demo: ${DEMO_FILE}; ${os.cpus().length} cpus, node ${process.version}, load average ${loadStart.map((x) => x.toFixed(2)).join(' ')}`,
@@ -91,7 +94,7 @@ async function main(): Promise<void> {
   let pair: Awaited<ReturnType<typeof measureCpuPair>> | null = null;
   let c: Awaited<ReturnType<typeof measureMap>> | null = null;
   let d: Awaited<ReturnType<typeof measureMemory>> | null = null;
-  if (all) {
+  if (parts) {
     log('a. exact engine against the bare loop');
     a = measureExactVsBare(demo, { ...BENCH_SETTINGS.exact, log });
     log("r. round-trip engine against its bare loop, and every engine's throughput");
@@ -132,16 +135,19 @@ async function main(): Promise<void> {
   const m32 = BENCH_SETTINGS.map32;
   const validationIndices =
     mapPoints === m32.points ? [...m32.validationIndices] : spreadIndices(mapPoints, Math.min(mapPoints, 4));
-  log(
-    `e. the demo sweep's map at ${mapPoints} x ${mapPoints}, refined, ${m32.jobs} workers, then ${validationIndices.length ** 2} validation points run directly`,
-  );
-  const e = await measureRefinedMap(
-    demoSweepMap({ points: mapPoints, amplitude_m: m32.amplitude_m, frequency_Hz: m32.frequency_Hz }),
-    { jobs: m32.jobs, validationIndices },
-    (line) => log(`e. ${line}`),
-  );
+  let e: Awaited<ReturnType<typeof measureRefinedMap>> | null = null;
+  if (withMap) {
+    log(
+      `e. the demo sweep's map at ${mapPoints} x ${mapPoints}, refined, ${m32.jobs} workers, then ${validationIndices.length ** 2} validation points run directly`,
+    );
+    e = await measureRefinedMap(
+      demoSweepMap({ points: mapPoints, amplitude_m: m32.amplitude_m, frequency_Hz: m32.frequency_Hz }),
+      { jobs: m32.jobs, validationIndices },
+      (line) => log(`e. ${line}`),
+    );
+  }
 
-  if (all) {
+  if (parts) {
     log(
       `d. memory: ${BENCH_SETTINGS.memoryShortPeriods} and ${10 * BENCH_SETTINGS.memoryShortPeriods} periods in two child processes`,
     );
@@ -154,9 +160,9 @@ async function main(): Promise<void> {
   const full32 = mapPoints === BENCH_SETTINGS.map32.points;
   const holds = {
     exact_vs_bare_ratio: a ? a.exact_vs_bare_ratio >= TARGETS.exact_vs_bare_ratio : null,
-    map32_wall_s_jobs2: full32 ? e.map32_wall_s_jobs2 <= TARGETS.map32_wall_s_jobs2 : null,
+    map32_wall_s_jobs2: e && full32 ? e.map32_wall_s_jobs2 <= TARGETS.map32_wall_s_jobs2 : null,
     map32_validation_max_stderr:
-      e.map32_validation_max_stderr !== null
+      e && e.map32_validation_max_stderr !== null
         ? e.map32_validation_max_stderr <= TARGETS.map32_validation_max_stderr
         : null,
     jobs2_speedup: c ? c.subset_jobs2_speedup >= TARGETS.jobs2_speedup : null,
@@ -165,7 +171,7 @@ async function main(): Promise<void> {
   };
   const fastVsExact: Record<string, number> = {};
   for (const x of b ?? []) fastVsExact[String(x.frequency_Hz)] = x.speedup;
-  const stderrSources = [...new Set(e.validation.map((v) => v.stderr_from))];
+  const stderrSources = e ? [...new Set(e.validation.map((v) => v.stderr_from))] : [];
 
   const report = {
     version: RESULT_VERSION,
@@ -184,7 +190,11 @@ async function main(): Promise<void> {
       load_average_end: os.loadavg(),
     },
     scenario: path.relative(path.resolve(__dirname, '..', '..'), DEMO_FILE),
-    partial: all ? null : `BENCH_ONLY=${only}: only the refined map was measured`,
+    partial: all
+      ? null
+      : only === 'map32'
+        ? 'BENCH_ONLY=map32: only the refined map was measured'
+        : 'BENCH_ONLY=engines: the 32 x 32 map was not measured',
     exact_mode_steps_per_s: a?.exact_mode_steps_per_s ?? null,
     bare_loop_mode_steps_per_s: a?.bare_loop_mode_steps_per_s ?? null,
     exact_vs_bare_ratio: a?.exact_vs_bare_ratio ?? null,
@@ -196,13 +206,13 @@ async function main(): Promise<void> {
     fast_vs_exact_speedup: fastVsExact,
     fast_vs_exact_peak_speed_m_s: Number.isFinite(vPeak) ? vPeak : null,
     map32_grid: `${mapPoints} x ${mapPoints}`,
-    map32_wall_s_jobs2: e.map32_wall_s_jobs2,
-    map32_points_computed: e.map32_points_computed,
-    map32_points_inferred: e.map32_points_inferred,
-    map32_validation_max_stderr: e.map32_validation_max_stderr,
-    map32_validation_max_stderr_inferred: e.map32_validation_max_stderr_inferred,
-    map32_validation_points: e.validation.length,
-    map32_validation_points_inferred: e.validation.filter((v) => v.source === 'inferred').length,
+    map32_wall_s_jobs2: e?.map32_wall_s_jobs2 ?? null,
+    map32_points_computed: e?.map32_points_computed ?? null,
+    map32_points_inferred: e?.map32_points_inferred ?? null,
+    map32_validation_max_stderr: e?.map32_validation_max_stderr ?? null,
+    map32_validation_max_stderr_inferred: e?.map32_validation_max_stderr_inferred ?? null,
+    map32_validation_points: e?.validation.length ?? null,
+    map32_validation_points_inferred: e ? e.validation.filter((v) => v.source === 'inferred').length : null,
     map32_validation_stderr_from: stderrSources,
     jobs2_speedup: c?.subset_jobs2_speedup ?? null,
     jobs2_speedup_points: c?.map_points_measured ?? null,
@@ -246,7 +256,7 @@ async function main(): Promise<void> {
                 : null,
           }
         : null,
-      map32: {
+      map32: e && {
         ...e,
         note: 'the demo sweep (scenarios/demo-sweep.yaml, its own periods and offsets), refined (coarse step 4, margin 10 %), measured whole with 2 workers; validation: the mean gap power of the map (computed or inferred) against a direct run of the point at rest offsets moved by half their spacing and another noise seed, z = |difference| / combined standard error; stderr_from says whether the summaries stated the error or it came from the spread over the rest offsets (s / sqrt(n), n the offsets: few offsets make it a rough error)',
       },
@@ -285,29 +295,32 @@ async function main(): Promise<void> {
       '',
       '',
     ]);
-  rows.push(
-    [
-      `demo-sweep map ${mapPoints} x ${mapPoints}, refined, 2 workers (measured)`,
-      `${e.map32_wall_s_jobs2.toFixed(0)} s`,
-      full32 ? '<= 600 s' : '',
-      yes(holds.map32_wall_s_jobs2),
-    ],
-    ['  points computed / inferred', `${e.map32_points_computed} / ${e.map32_points_inferred}`, '', ''],
-    [
-      `  validation: largest |map - direct| over ${e.validation.length} points`,
-      e.map32_validation_max_stderr === null ? '-' : `${e.map32_validation_max_stderr.toFixed(2)} s.e.`,
-      '<= 2 s.e.',
-      yes(holds.map32_validation_max_stderr),
-    ],
-    [
-      `    of it, at the ${e.validation.filter((v) => v.source === 'inferred').length} inferred validation points`,
-      e.map32_validation_max_stderr_inferred === null
-        ? '-'
-        : `${e.map32_validation_max_stderr_inferred.toFixed(2)} s.e.`,
-      '',
-      '',
-    ],
-  );
+  if (e) {
+    const m = e;
+    rows.push(
+      [
+        `demo-sweep map ${mapPoints} x ${mapPoints}, refined, 2 workers (measured)`,
+        `${m.map32_wall_s_jobs2.toFixed(0)} s`,
+        full32 ? '<= 600 s' : '',
+        yes(holds.map32_wall_s_jobs2),
+      ],
+      ['  points computed / inferred', `${m.map32_points_computed} / ${m.map32_points_inferred}`, '', ''],
+      [
+        `  validation: largest |map - direct| over ${m.validation.length} points`,
+        m.map32_validation_max_stderr === null ? '-' : `${m.map32_validation_max_stderr.toFixed(2)} s.m.`,
+        '<= 2 s.m.',
+        yes(holds.map32_validation_max_stderr),
+      ],
+      [
+        `    of it, at the ${m.validation.filter((v) => v.source === 'inferred').length} inferred validation points`,
+        m.map32_validation_max_stderr_inferred === null
+          ? '-'
+          : `${m.map32_validation_max_stderr_inferred.toFixed(2)} s.m.`,
+        '',
+        '',
+      ],
+    );
+  }
   if (c)
     rows.push(
       [
@@ -341,7 +354,7 @@ async function main(): Promise<void> {
   );
   process.stdout.write(formatTable(['quantity', 'measured', 'target', 'holds'], rows));
   process.stdout.write(
-    `\nThe map is measured whole (${e.map32_points_computed} points computed, ${e.map32_points_inferred} inferred); validation errors from ${stderrSources.join('; ')}. Written to ${BENCH_JSON} in ${((Date.now() - t0) / 1000).toFixed(0)} s.\n`,
+    `\n${e ? `The map is measured whole (${e.map32_points_computed} points computed, ${e.map32_points_inferred} inferred); validation errors from ${stderrSources.join('; ')}. ` : 'The map was not measured (BENCH_ONLY=engines). '}Written to ${BENCH_JSON} in ${((Date.now() - t0) / 1000).toFixed(0)} s.\n`,
   );
 }
 
