@@ -62,7 +62,7 @@ function drivenGap(
 }
 
 describe('a fact of the trade: the dithered high-finesse gap of a red gas laser', () => {
-  it('holds of the order of a watt, hundreds of times the laser output; a glass plate brings it down near the laser level', () => {
+  it('holds of the order of a watt, hundreds of times the laser output; a glass plate brings it down to within a decade of the laser output', () => {
     const empty = load('long-tube-gap.yaml');
     const plate = load('long-tube-gap-plate.yaml');
     const half = empty.laser.wavelength / 2;
