@@ -109,6 +109,8 @@ export interface RunPlanFigures {
   engineReason: string;
   /** warnings raised while planning (engine validity) */
   warnings: Warning[];
+  /** whether the driven figures come from the round-trip engine (directly or through the static and speed curves) */
+  fullBand?: boolean;
   /** failure known before or instead of the driven run (static reference failed, budget refused) */
   failure: string | null;
   settle_s: number;
@@ -419,7 +421,8 @@ export function summariseRun(x: SummaryInput): RunSummary {
   if (driven) {
     // docs/model.md §3.1: the mean-field laser equation needs the returned light's spread well below FSR1
     const spread = returnedLightSpread_Hz(derived.finesse_external, peakSpeed(s.drive), s.laser.wavelength);
-    if (plan.engine !== 'roundtrip' && spread > DOPPLER_SPREAD_LIMIT * derived.fsr_laser_Hz) {
+    // (not for the round-trip engine, nor for the slow-drive path built on it)
+    if (!plan.fullBand && spread > DOPPLER_SPREAD_LIMIT * derived.fsr_laser_Hz) {
       warnings.push({
         code: 'doppler-spread',
         message: `frequency spread of the returned light (F/pi) 2 v / lambda = ${(spread / 1e6).toFixed(1)} MHz reaches ${((100 * spread) / derived.fsr_laser_Hz).toFixed(0)} % of the laser mode spacing; the per-mode mean-field model is strained`,

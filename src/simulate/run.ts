@@ -204,6 +204,8 @@ export interface RunPlan {
   drives: boolean;
   /** failure known before stepping: the static reference failed or the step budget refuses the run */
   failure: string | null;
+  /** whether the driven figures come from the round-trip engine (directly or through the static and speed curves) */
+  fullBand: boolean;
   /** the slow-drive path's state (docs/model.md §3.6): its speed curve, its note for the reason */
   slow: { curve: SpeedCurve | null; note: string; prior: SpeedCurve | null };
 }
@@ -268,6 +270,9 @@ export function planRun(
     drives: false,
     failure: stat && stat.failed ? `static reference: ${stat.failed}` : null,
     slow: { curve: null, note: '', prior: opts.speedCurve ?? null },
+    fullBand:
+      engine === 'roundtrip' ||
+      ((engine === 'speedcurve' || engine === 'adiabatic') && refs.data.staticEngine === 'roundtrip'),
   };
   if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
   // the lanes start from settled static states: one drive period (both turning points) and
