@@ -19,6 +19,7 @@ import { resolveShard, shardFolderName } from '../../sweep/shard';
 import type { Shard } from '../../sweep/shard';
 import type { InputProblem } from '../../scenario/errors';
 import { runSweep } from '../../sweep/run-sweep';
+import type { SweepOptions } from '../../sweep/run-sweep';
 import { safeFolderName } from '../../sweep/batch';
 import { createProgress, formatDuration } from '../progress';
 import type { ProgressReporter } from '../progress';
@@ -159,6 +160,28 @@ export async function withProgress<T>(
   }
 }
 
+/** The runSweep options that follow from the shared command-line options. */
+export function pointRunSweepOptions(
+  file: string,
+  dir: string,
+  jobs: number,
+  shard: Shard | null,
+  opts: PointRunCliOptions,
+  signal: AbortSignal,
+  progress: ProgressReporter,
+): SweepOptions {
+  return {
+    outDir: dir,
+    source: file,
+    jobs,
+    resume: opts.resume ?? false,
+    shard,
+    engine: opts.engine,
+    signal,
+    onWarning: (m) => progress.log(`warning: ${m}`),
+  };
+}
+
 /** After a stop by Ctrl-C: say what was kept and exit 130. */
 export function exitIfStopped(
   stopped: boolean,
@@ -216,15 +239,8 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
         opts.quiet,
         (signal, progress) =>
           runSweep(s, {
-            outDir: dir,
-            source: file,
-            jobs,
-            resume: opts.resume ?? false,
-            shard,
-            engine: opts.engine,
+            ...pointRunSweepOptions(file, dir, jobs, shard, opts, signal, progress),
             full: opts.full ?? false,
-            signal,
-            onWarning: (m) => progress.log(`warning: ${m}`),
             onProgress: (done, total, _rec, bound) =>
               progress.update(done, total, bound?.refining ? bound.upper : undefined),
           }),

@@ -25,6 +25,7 @@ import {
   parseJobs,
   PointRunCliOptions,
   pointRunFolder,
+  pointRunSweepOptions,
   printLoadWarnings,
   withProgress,
 } from './sweep';
@@ -67,15 +68,8 @@ export function registerYield(program: Command, ctx: CommandContext): void {
       const t0 = Date.now();
       const { out, stopped } = await withProgress(label, opts.quiet, (signal, progress) =>
         runSweep(s, {
-          outDir: dir,
-          source: file,
-          jobs,
-          resume: opts.resume ?? false,
-          shard,
-          engine: opts.engine,
+          ...pointRunSweepOptions(file, dir, jobs, shard, opts, signal, progress),
           pointSet: plan,
-          signal,
-          onWarning: (m) => progress.log(`warning: ${m}`),
           onProgress: (done, total) => progress.update(done, total),
         }),
       );
