@@ -13,7 +13,7 @@ import { bankResponse, buildPacketBank } from '../src/physics/laser/gain-packets
 import { createRng } from '../src/numerics/rng';
 import { freeRunningRoundTrip } from '../src/simulate/references';
 import { CHIP, laserInput, paramsOf, scenario, STILL } from './fixtures/engine/build';
-import { dopplerGain, flatGap, onMode, settleMean } from './fixtures/engine/roundtrip';
+import { dopplerGain, flatGap, onMode, probeReflection, settleMean } from './fixtures/engine/roundtrip';
 
 const C = 299792458;
 
@@ -241,21 +241,7 @@ describe('round-trip engine: the laser cavity seen from the gap', () => {
       const tauPhoton = 1 / p.gammaC;
       const settle = Math.round((60 * tauPhoton) / e.dt);
       const avg = Math.round((20 * tauPhoton) / e.dt);
-      let sr = 0;
-      let si = 0;
-      let k = 0;
-      e.advance(settle + avg, (en) => {
-        if (k++ < settle) return;
-        const th = -2 * Math.PI * det * en.t;
-        // the engine's window-demodulated a is at the mode frequencies; use the field itself
-        const a = en as unknown as { aRe: Float64Array; aIm: Float64Array; slot: number };
-        const ar = a.aRe[a.slot];
-        const ai = a.aIm[a.slot];
-        sr += ar * Math.cos(th) - ai * Math.sin(th);
-        si += ar * Math.sin(th) + ai * Math.cos(th);
-      });
-      const rr = sr / avg / amp;
-      const ri = si / avg / amp;
+      const [rr, ri] = probeReflection(e, det, amp, settle, avg);
       // G: the laser's round trip from M2 back to M2 at the probe frequency, the gain of the
       // packets at threshold (n = 1) applied as the engine's operator (docs/model.md §3.5)
       const hc = 0.5 * p.gammaC * p.roundTripLaser_s;
@@ -455,18 +441,7 @@ describe('round-trip engine: a high-gain medium', () => {
       e.setProbe(amp, det);
       const settle = Math.round(2e-9 / e.dt);
       const avg = Math.round(1e-9 / e.dt);
-      let sr = 0;
-      let si = 0;
-      let k = 0;
-      e.advance(settle + avg, (en) => {
-        if (k++ < settle) return;
-        const th = -2 * Math.PI * det * en.t;
-        const a = en as unknown as { aRe: Float64Array; aIm: Float64Array; slot: number };
-        sr += a.aRe[a.slot] * Math.cos(th) - a.aIm[a.slot] * Math.sin(th);
-        si += a.aRe[a.slot] * Math.sin(th) + a.aIm[a.slot] * Math.cos(th);
-      });
-      const rr = sr / avg / amp;
-      const ri = si / avg / amp;
+      const [rr, ri] = probeReflection(e, det, amp, settle, avg);
       // the exact exponential of the packet's response at inversion p (the sheets approximate it)
       const g = bankResponse(e.bank, det, [p.pump]);
       const mag = Math.sqrt(p.R1) * Math.exp(hc * g.re);
