@@ -152,42 +152,32 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     this.crossOff = offConst ? Float64Array.of(c0) : null;
   }
 
-  /** Copy the full state (laser, history, returned field) of lane `from` of `src` into lane `to`. */
+  /**
+   * Copy the full state (laser, history, returned field) of lane `from` of `other` into lane
+   * `to`. From another kind of engine (or another history length) the history is filled
+   * with the present forward field (the delay line then refills within a few round trips).
+   */
   copyLane(other: LaneEngine, from: number, to: number): void {
     if (other.M !== this.M) throw new Error('copyLane: engines differ in mode count');
-    if (!(other instanceof ExactEngine) || other.ring.cap !== this.ring.cap) {
-      // From another kind of engine: take the fields and a history holding the present
-      // forward field (the delay line then refills within a few round trips).
-      const M = this.M;
-      for (let m = 0; m < M; m++) {
-        const js = from * M + m;
-        const jd = to * M + m;
-        this.Er[jd] = other.Er[js];
-        this.Ei[jd] = other.Ei[js];
-        this.N[jd] = other.N[js];
-        this.br[jd] = other.br[js];
-        this.bi[jd] = other.bi[js];
-        this.ar[jd] = other.ar[js];
-        this.ai[jd] = other.ai[js];
-        this.aDel2[jd] = other.ar[js] * other.ar[js] + other.ai[js] * other.ai[js];
-        this.ring.fill(jd, other.ar[js], other.ai[js]);
-      }
-      return;
-    }
-    const src = other;
+    const src = other instanceof ExactEngine && other.ring.cap === this.ring.cap ? other : null;
     const M = this.M;
     for (let m = 0; m < M; m++) {
       const js = from * M + m;
       const jd = to * M + m;
-      this.Er[jd] = src.Er[js];
-      this.Ei[jd] = src.Ei[js];
-      this.N[jd] = src.N[js];
-      this.br[jd] = src.br[js];
-      this.bi[jd] = src.bi[js];
-      this.ar[jd] = src.ar[js];
-      this.ai[jd] = src.ai[js];
-      this.aDel2[jd] = src.aDel2[js];
-      this.ring.copyLine(src.ring, js, jd);
+      this.Er[jd] = other.Er[js];
+      this.Ei[jd] = other.Ei[js];
+      this.N[jd] = other.N[js];
+      this.br[jd] = other.br[js];
+      this.bi[jd] = other.bi[js];
+      this.ar[jd] = other.ar[js];
+      this.ai[jd] = other.ai[js];
+      if (src !== null) {
+        this.aDel2[jd] = src.aDel2[js];
+        this.ring.copyLine(src.ring, js, jd);
+      } else {
+        this.aDel2[jd] = other.ar[js] * other.ar[js] + other.ai[js] * other.ai[js];
+        this.ring.fill(jd, other.ar[js], other.ai[js]);
+      }
     }
   }
 
