@@ -26,6 +26,7 @@ import { ComplexDelayLines } from '../../numerics/delay-line';
 import type { CoupledParams } from './params';
 import { LaneEngineBase } from './lane-base';
 import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
+import { copyLaneFields } from './lane-engine';
 
 export type { LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 export { balanceErrors } from './lane-engine';
@@ -158,19 +159,12 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
    * with the present forward field (the delay line then refills within a few round trips).
    */
   copyLane(other: LaneEngine, from: number, to: number): void {
-    if (other.M !== this.M) throw new Error('copyLane: engines differ in mode count');
+    copyLaneFields(this, other, from, to);
     const src = other instanceof ExactEngine && other.ring.cap === this.ring.cap ? other : null;
     const M = this.M;
     for (let m = 0; m < M; m++) {
       const js = from * M + m;
       const jd = to * M + m;
-      this.Er[jd] = other.Er[js];
-      this.Ei[jd] = other.Ei[js];
-      this.N[jd] = other.N[js];
-      this.br[jd] = other.br[js];
-      this.bi[jd] = other.bi[js];
-      this.ar[jd] = other.ar[js];
-      this.ai[jd] = other.ai[js];
       if (src !== null) {
         this.aDel2[jd] = src.aDel2[js];
         this.ring.copyLine(src.ring, js, jd);

@@ -102,6 +102,26 @@ export class LaneStore {
   }
 }
 
+/**
+ * Copy the laser fields, inversions and gap fields of every mode of lane `from` of `src`
+ * into lane `to` of `dst` (the part of LaneEngine.copyLane every engine shares).
+ */
+export function copyLaneFields(dst: LaneStore, src: LaneStore, from: number, to: number): void {
+  if (src.M !== dst.M) throw new Error('copyLane: engines differ in mode count');
+  const M = dst.M;
+  for (let m = 0; m < M; m++) {
+    const js = from * M + m;
+    const jd = to * M + m;
+    dst.Er[jd] = src.Er[js];
+    dst.Ei[jd] = src.Ei[js];
+    dst.N[jd] = src.N[js];
+    dst.br[jd] = src.br[js];
+    dst.bi[jd] = src.bi[js];
+    dst.ar[jd] = src.ar[js];
+    dst.ai[jd] = src.ai[js];
+  }
+}
+
 /** An engine: the lane state (LaneStore) and what can be done with it. */
 export interface LaneEngine extends LaneStore {
   readonly kind: 'exact' | 'fast' | 'roundtrip';
