@@ -11,12 +11,8 @@ import { loadScenarioFile } from '../src/scenario/load';
 import { withOverrides } from '../src/scenario/validate';
 import { InputError } from '../src/scenario/errors';
 import type { Scenario } from '../src/scenario/schema';
-import {
-  compareWaveforms,
-  planComparison,
-  type WaveformComparison,
-  type ComparisonRow,
-} from '../src/simulate/compare';
+import { compareWaveforms, planComparison } from '../src/simulate/compare';
+import type { WaveformComparison, ComparisonRow } from '../src/results/compare';
 import { runScenario } from '../src/simulate/run';
 import { actuatorSheet } from '../src/physics/actuator';
 import { buildRunReportHtml, waveformMotion } from '../src/report';

@@ -13,7 +13,8 @@ import { couplingStrength, MODAL_MAX_COUPLING, planEngines } from '../src/simula
 import { freeRunning, freeRunningRoundTrip } from '../src/simulate/references';
 import { deriveAll } from '../src/physics/derive';
 import { loadScenarioFile } from '../src/scenario/load';
-import { laserInput, paramsOf, scenario, STILL } from './fixtures/engine/build';
+import { STILL } from './fixtures/engine/build';
+import { flatGap, onMode } from './fixtures/engine/roundtrip';
 
 // homogeneous Lorentzian gain: both engine families use the same saturation law there
 const GAIN = {
@@ -26,21 +27,7 @@ const GAIN = {
 } as const;
 
 function withGap(R3: number): CoupledParams {
-  const probe = paramsOf(
-    scenario({ laser: laserInput({ cavity_length: '10 cm', R1: 0.999, R2: 0.95, gain: GAIN }) }),
-  );
-  const d = probe.modes.detuning_Hz[probe.modes.index.indexOf(0)];
-  return paramsOf(
-    scenario({
-      laser: laserInput({ cavity_length: '10 cm', R1: 0.999, R2: 0.95, gain: { ...GAIN, center_offset: d } }),
-      external: {
-        length: '4 cm',
-        return_mirror: { reflectivity: R3, loss: 0, radius: 'flat' },
-        feedback_efficiency: 1,
-        roundtrip_efficiency: 1,
-      },
-    }),
-  );
+  return onMode('10 cm', GAIN, 0.95, flatGap(R3));
 }
 
 /** Mean gap power over 32 static positions over half a wavelength, settled 2 us, on one engine. */

@@ -12,46 +12,10 @@ import { balanceErrors } from '../src/physics/coupled/lane-engine';
 import { bankResponse, buildPacketBank } from '../src/physics/laser/gain-packets';
 import { createRng } from '../src/numerics/rng';
 import { freeRunningRoundTrip } from '../src/simulate/references';
-import { laserInput, paramsOf, scenario, STILL } from './fixtures/engine/build';
+import { CHIP, laserInput, paramsOf, scenario, STILL } from './fixtures/engine/build';
+import { dopplerGain, flatGap, onMode, probeReflection, settleMean } from './fixtures/engine/roundtrip';
 
 const C = 299792458;
-
-/** A laser whose gain peak sits on a cold-cavity mode (center_offset moves the peak onto it). */
-function onMode(
-  cavity: string,
-  gain: Record<string, unknown>,
-  R2 = 0.99,
-  extra: Record<string, unknown> = {},
-) {
-  const probe = paramsOf(scenario({ laser: laserInput({ cavity_length: cavity, R1: 0.999, R2, gain }) }));
-  // detuning of the nearest mode from the peak; shift the peak by it
-  const d = probe.modes.detuning_Hz[probe.modes.index.indexOf(0)];
-  return paramsOf(
-    scenario({
-      laser: laserInput({ cavity_length: cavity, R1: 0.999, R2, gain: { ...gain, center_offset: d } }),
-      ...extra,
-    }),
-  );
-}
-
-/** Mean of an engine observable over the last `avg` of `steps` steps (lane 0 unless given). */
-function settleMean(
-  e: RoundTripEngine,
-  steps: number,
-  avg: number,
-  f: (e: RoundTripEngine, l: number) => number,
-  lanes = 1,
-): number {
-  let s = 0;
-  let n = 0;
-  let k = 0;
-  e.advance(steps, () => {
-    if (k++ < steps - avg) return;
-    for (let l = 0; l < lanes; l++) s += f(e, l);
-    n += lanes;
-  });
-  return s / n;
-}
 
 describe('gain packets', () => {
   it('the bank of Doppler classes reproduces the Voigt profile (Gaussian x Lorentzian hole) and leaves no floor', () => {
@@ -115,16 +79,7 @@ describe('round-trip engine: the laser alone', () => {
 
   // Doppler broadening with holes far narrower than the Doppler width (hole / Doppler = 1/150)
   const doppler = (detuneFromPeak_Hz: number) => {
-    const p0 = onMode('10 cm', {
-      broadening: 'inhomogeneous',
-      shape: 'gaussian',
-      linewidth: '1.5 GHz',
-      homogeneous_width: '10 MHz',
-      pump_ratio: 1.5,
-      inversion_lifetime: '10 ns',
-      saturation_power: '1 mW',
-      spontaneous_power: 1e-15,
-    });
+    const p0 = onMode('10 cm', dopplerGain({ homogeneous_width: '10 MHz', spontaneous_power: 1e-15 }));
     const off = p0.gain.center_offset - detuneFromPeak_Hz;
     return paramsOf(
       scenario({
@@ -203,18 +158,10 @@ describe('round-trip engine: the laser alone', () => {
 
   it('below threshold each cold-cavity mode holds P_sp f / (1 - p f) of spontaneous emission', () => {
     const Psp = 1e-9;
-    const p = onMode('10 cm', {
-      broadening: 'inhomogeneous',
-      shape: 'gaussian',
-      linewidth: '1.5 GHz',
-      homogeneous_width: '100 MHz',
-      pump_ratio: 0.5,
-      inversion_lifetime: '10 ns',
-      saturation_power: '1 mW',
-      spontaneous_power: Psp,
-      mode_floor: 0.01,
-      max_modes: 3,
-    });
+    const p = onMode(
+      '10 cm',
+      dopplerGain({ pump_ratio: 0.5, spontaneous_power: Psp, mode_floor: 0.01, max_modes: 3 }),
+    );
     const lanes = 8;
     const e = new RoundTripEngine(p, lanes, STILL, createRng(5), 0);
     e.setLaserState(new Array(p.M).fill(0), new Array(p.M).fill(0), new Array(p.M).fill(1));
@@ -279,12 +226,7 @@ describe('round-trip engine: the laser cavity seen from the gap', () => {
         }),
         output_coupler: { reflectivity: 0.97, loss: 0.002, radius: 'flat' },
       },
-      external: {
-        length: '3 cm',
-        return_mirror: { reflectivity: 0, loss: 0, radius: 'flat' },
-        feedback_efficiency: 1,
-        roundtrip_efficiency: 1,
-      },
+      ...flatGap(0, { length: '3 cm' }),
     });
     const p = paramsOf(base);
     const fsr = p.modes.fsr_Hz;
@@ -299,21 +241,7 @@ describe('round-trip engine: the laser cavity seen from the gap', () => {
       const tauPhoton = 1 / p.gammaC;
       const settle = Math.round((60 * tauPhoton) / e.dt);
       const avg = Math.round((20 * tauPhoton) / e.dt);
-      let sr = 0;
-      let si = 0;
-      let k = 0;
-      e.advance(settle + avg, (en) => {
-        if (k++ < settle) return;
-        const th = -2 * Math.PI * det * en.t;
-        // the engine's window-demodulated a is at the mode frequencies; use the field itself
-        const a = en as unknown as { aRe: Float64Array; aIm: Float64Array; slot: number };
-        const ar = a.aRe[a.slot];
-        const ai = a.aIm[a.slot];
-        sr += ar * Math.cos(th) - ai * Math.sin(th);
-        si += ar * Math.sin(th) + ai * Math.cos(th);
-      });
-      const rr = sr / avg / amp;
-      const ri = si / avg / amp;
+      const [rr, ri] = probeReflection(e, det, amp, settle, avg);
       // G: the laser's round trip from M2 back to M2 at the probe frequency, the gain of the
       // packets at threshold (n = 1) applied as the engine's operator (docs/model.md §3.5)
       const hc = 0.5 * p.gammaC * p.roundTripLaser_s;
@@ -350,26 +278,9 @@ describe('round-trip engine: a static return mirror', () => {
   it('with the feedback ignored, the static scan averages to the Airy phase average T2 / (1 - R2 R3)', () => {
     const p = onMode(
       '10 cm',
-      {
-        broadening: 'inhomogeneous',
-        shape: 'gaussian',
-        linewidth: '1.5 GHz',
-        homogeneous_width: '100 MHz',
-        pump_ratio: 1.5,
-        inversion_lifetime: '10 ns',
-        saturation_power: '1 mW',
-        spontaneous_power: 1e-12,
-      },
+      dopplerGain({ spontaneous_power: 1e-12 }),
       0.95,
-      {
-        external: {
-          length: '4 cm',
-          return_mirror: { reflectivity: 0.8, loss: 0, radius: 'flat' },
-          feedback_efficiency: 1,
-          roundtrip_efficiency: 1,
-          return_to_laser: false,
-        },
-      },
+      flatGap(0.8, { return_to_laser: false }),
     );
     const free = freeRunningRoundTrip(p, createRng(3));
     // 64 static positions over half a wavelength as lanes, each settled from the free laser
@@ -401,28 +312,7 @@ describe('round-trip engine: a static return mirror', () => {
   });
 
   it('strong coupling, static mirror: the field meets the three-mirror threshold condition |rho1 g r_eff(nu)| = 1 with its phase', () => {
-    const p = onMode(
-      '10 cm',
-      {
-        broadening: 'inhomogeneous',
-        shape: 'gaussian',
-        linewidth: '1.5 GHz',
-        homogeneous_width: '100 MHz',
-        pump_ratio: 1.5,
-        inversion_lifetime: '10 ns',
-        saturation_power: '1 mW',
-        spontaneous_power: 0,
-      },
-      0.95,
-      {
-        external: {
-          length: '4 cm',
-          return_mirror: { reflectivity: 0.95, loss: 0, radius: 'flat' },
-          feedback_efficiency: 1,
-          roundtrip_efficiency: 1,
-        },
-      },
-    );
+    const p = onMode('10 cm', dopplerGain({ spontaneous_power: 0 }), 0.95, flatGap(0.95));
     const lanes = 5;
     const half = 632.8e-9 / 2;
     const e = new RoundTripEngine(p, lanes, STILL, createRng(1), half);
@@ -486,25 +376,12 @@ describe('round-trip engine: a static return mirror', () => {
   it('M2 scatters exactly: |u|^2 + |a|^2 = (R2 + eta T2)(|e|^2 + |b|^2) at every step, and both subsystems close', () => {
     const p = onMode(
       '10 cm',
-      {
-        broadening: 'inhomogeneous',
-        shape: 'gaussian',
-        linewidth: '1.5 GHz',
-        homogeneous_width: '100 MHz',
-        pump_ratio: 1.5,
-        inversion_lifetime: '10 ns',
-        saturation_power: '1 mW',
-        spontaneous_power: 1e-9,
-      },
+      dopplerGain({ spontaneous_power: 1e-9 }),
       0.95,
-      {
-        external: {
-          length: '4 cm',
-          return_mirror: { reflectivity: 0.99, loss: 0.001, radius: 'flat' },
-          feedback_efficiency: 0.9,
-          roundtrip_efficiency: 1,
-        },
-      },
+      flatGap(0.99, {
+        return_mirror: { reflectivity: 0.99, loss: 0.001, radius: 'flat' },
+        feedback_efficiency: 0.9,
+      }),
     );
     const motion = {
       position: (t: number) => 300e-9 * Math.sin(2 * Math.PI * 1e6 * t),
@@ -537,11 +414,7 @@ describe('round-trip engine: a high-gain medium', () => {
     const s = scenario({
       laser: {
         ...laserInput({
-          wavelength: '1550 nm',
-          cavity_length: '300 um',
-          refractive_index: 3.5,
-          R1: 0.3,
-          R2: 0.3,
+          ...CHIP,
           gain: {
             shape: 'lorentzian',
             linewidth: '1 THz',
@@ -552,12 +425,7 @@ describe('round-trip engine: a high-gain medium', () => {
           },
         }),
       },
-      external: {
-        length: '1 cm',
-        return_mirror: { reflectivity: 0, loss: 0, radius: 'flat' },
-        feedback_efficiency: 1,
-        roundtrip_efficiency: 1,
-      },
+      ...flatGap(0, { length: '1 cm' }),
     });
     const p = paramsOf(s);
     const e0 = new RoundTripEngine(p, 1, STILL, createRng(1), 0);
@@ -573,18 +441,7 @@ describe('round-trip engine: a high-gain medium', () => {
       e.setProbe(amp, det);
       const settle = Math.round(2e-9 / e.dt);
       const avg = Math.round(1e-9 / e.dt);
-      let sr = 0;
-      let si = 0;
-      let k = 0;
-      e.advance(settle + avg, (en) => {
-        if (k++ < settle) return;
-        const th = -2 * Math.PI * det * en.t;
-        const a = en as unknown as { aRe: Float64Array; aIm: Float64Array; slot: number };
-        sr += a.aRe[a.slot] * Math.cos(th) - a.aIm[a.slot] * Math.sin(th);
-        si += a.aRe[a.slot] * Math.sin(th) + a.aIm[a.slot] * Math.cos(th);
-      });
-      const rr = sr / avg / amp;
-      const ri = si / avg / amp;
+      const [rr, ri] = probeReflection(e, det, amp, settle, avg);
       // the exact exponential of the packet's response at inversion p (the sheets approximate it)
       const g = bankResponse(e.bank, det, [p.pump]);
       const mag = Math.sqrt(p.R1) * Math.exp(hc * g.re);
@@ -610,28 +467,7 @@ describe('round-trip engine: a high-gain medium', () => {
 
 describe('round-trip engine: time-step convergence', () => {
   it('halving dt twice: the driven mean gap power converges monotonically, within 1 % at the chosen step', () => {
-    const p = onMode(
-      '10 cm',
-      {
-        broadening: 'inhomogeneous',
-        shape: 'gaussian',
-        linewidth: '1.5 GHz',
-        homogeneous_width: '100 MHz',
-        pump_ratio: 1.5,
-        inversion_lifetime: '10 ns',
-        saturation_power: '1 mW',
-        spontaneous_power: 0,
-      },
-      0.95,
-      {
-        external: {
-          length: '4 cm',
-          return_mirror: { reflectivity: 0.95, loss: 0, radius: 'flat' },
-          feedback_efficiency: 1,
-          roundtrip_efficiency: 1,
-        },
-      },
-    );
+    const p = onMode('10 cm', dopplerGain({ spontaneous_power: 0 }), 0.95, flatGap(0.95));
     const motion = {
       position: (t: number) => 400e-9 * Math.sin(2 * Math.PI * 2e6 * t),
       velocity: (t: number) => 400e-9 * 2 * Math.PI * 2e6 * Math.cos(2 * Math.PI * 2e6 * t),

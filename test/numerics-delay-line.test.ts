@@ -1,10 +1,13 @@
 /**
- * The delay lines of the round-trip engine (src/numerics/delay-line.ts): the centred
- * 4-point Lagrange read against polynomials and sinusoids, and its amplitude response.
+ * The delay lines of the round-trip and modal engines (src/numerics/delay-line.ts): the
+ * centred Lagrange reads against polynomials and sinusoids, their amplitude response, the
+ * modal engine's 4-point read that never reaches past the newest sample, and the stored
+ * energy of a line.
  */
 import { describe, expect, it } from 'vitest';
 import {
   ComplexDelayLines,
+  lagrange4Newest,
   lagrangeCentredN,
   lagrangeCentredGain,
   READ_POINTS,
@@ -65,5 +68,65 @@ describe('centred 4-point Lagrange read', () => {
     // lane 0 was never written: lines are independent
     d.read(0, back, out, 0);
     expect(out[0]).toBe(0);
+  });
+});
+
+describe("the modal engine's 4-point read and the stored energy", () => {
+  const cubic = (x: number) => 0.4 + 1.1 * x - 0.3 * x * x + 0.02 * x ** 3;
+
+  it('reproduces a cubic exactly (Abramowitz and Stegun 25.2.13), centred where it can be', () => {
+    const w = new Float64Array(4);
+    for (const back of [0.5, 0.99, 1, 1.25, 2.5, 7.9]) {
+      const start = lagrange4Newest(back, w);
+      // centred stencil floor(back) - 1 .. floor(back) + 2, moved to start at the newest sample
+      // when it would reach past it
+      expect(start).toBe(Math.max(Math.floor(back) - 1, 0));
+      let got = 0;
+      for (let i = 0; i < 4; i++) got += w[i] * cubic(start + i);
+      // round-off of four products of numbers below 20
+      expect(Math.abs(got - cubic(back))).toBeLessThan(1e-12);
+    }
+  });
+
+  it('reads a cubic signal back from the ring, and a write for the next sample is unseen until advance()', () => {
+    const d = new ComplexDelayLines(3, 10, 4);
+    // sample n (written at step n) holds cubic(n) in line 2; after the last write, back b
+    // is the value at n_last - b
+    const last = 30;
+    for (let n = 0; n <= last; n++) {
+      d.advance();
+      d.set(2, cubic(n / 4), -cubic(n / 4));
+    }
+    const out = new Float64Array(2);
+    d.read(2, 3.4, out, 0);
+    // a cubic in n is reproduced to round-off (Abramowitz and Stegun 25.2.13)
+    expect(Math.abs(out[0] - cubic((last - 3.4) / 4))).toBeLessThan(1e-12);
+    expect(Math.abs(out[1] + cubic((last - 3.4) / 4))).toBeLessThan(1e-12);
+    d.setNext(2, 1e6, 1e6);
+    d.read(2, 0, out, 0);
+    // back 0 is the newest sample itself: its weight is exactly 1 (u = 0 on node 0)
+    expect(out[0]).toBe(cubic(last / 4));
+    d.advance();
+    d.read(2, 0, out, 0);
+    expect(out[0]).toBe(1e6);
+  });
+
+  it('stores the trapezoid integral of |x|^2 over the delay, exact for a linearly varying power', () => {
+    const d = new ComplexDelayLines(2, 40, 4);
+    // |x|^2 = 1 + n / 10 at sample n: the trapezoid rule is exact for a linear integrand
+    // (Abramowitz and Stegun 25.4.2 with no second-derivative error term)
+    const last = 50;
+    for (let n = 0; n <= last; n++) {
+      d.advance();
+      d.set(1, Math.sqrt(1 + n / 10), 0);
+    }
+    const back = 12.6;
+    const power = (n: number) => 1 + n / 10;
+    const exact = 0.5 * (power(last) + power(last - back)) * back;
+    // round-off of a dozen additions of numbers near 6
+    expect(Math.abs(d.addStored(1, back, 0) - exact)).toBeLessThan(1e-12);
+    // the running sum adds: two lines' energies in one call chain
+    expect(Math.abs(d.addStored(1, back, 2.5) - (exact + 2.5))).toBeLessThan(1e-12);
+    expect(d.addStored(0, back, 0)).toBe(0);
   });
 });

@@ -16,6 +16,19 @@ function ownPart(page: string): string {
   return page.replace(plotlyBundle(), '');
 }
 
+/** A page of the given kind with nothing in it. */
+function emptyPage(kind: 'run' | 'sweep' | 'batch'): string {
+  return renderPage({
+    kind,
+    title: 't',
+    heading: 'h',
+    subheading: 's',
+    body: rawHtml(''),
+    plots: [],
+    footer: '',
+  });
+}
+
 describe('escaping of strings from scenarios and results', () => {
   it('html`` escapes every interpolated string, including in attributes', () => {
     const out = html`<p title="${'"x" & \'y\''}">${INJECT}</p>`.text;
@@ -86,15 +99,7 @@ describe('page skeleton', () => {
   });
 
   it('a page without plots carries no script at all', () => {
-    const p = renderPage({
-      kind: 'batch',
-      title: 't',
-      heading: 'h',
-      subheading: 's',
-      body: rawHtml(''),
-      plots: [],
-      footer: '',
-    });
+    const p = emptyPage('batch');
     expect(p).not.toMatch(/<script/i);
   });
 });
@@ -117,15 +122,7 @@ describe('laser-safety caution (MODEL.md section 6)', () => {
 
   it('is on every kind of page', () => {
     for (const kind of ['run', 'sweep', 'batch'] as const) {
-      const p = renderPage({
-        kind,
-        title: 't',
-        heading: 'h',
-        subheading: 's',
-        body: rawHtml(''),
-        plots: [],
-        footer: '',
-      });
+      const p = emptyPage(kind);
       expect(p).toContain('class="caution"');
     }
   });

@@ -8,20 +8,14 @@
  */
 import { describe, expect, it } from 'vitest';
 import { runScenario } from '../src/simulate/run';
-import { RUN_LASER, scenario } from './fixtures/engine/build';
+import { OPEN_LOOP_GAP, RUN_LASER, scenario } from './fixtures/engine/build';
 
 describe('incoherent fraction of a driven run', () => {
   const mk = (frequency: string) =>
     scenario({
       laser: RUN_LASER,
       // R3 0.9: an external photon lifetime of about 18 ns, short against the drive period
-      external: {
-        length: '30 cm',
-        return_mirror: { reflectivity: 0.9 },
-        feedback_efficiency: 0.8,
-        roundtrip_efficiency: 1,
-        return_to_laser: false,
-      },
+      external: OPEN_LOOP_GAP,
       // Triangle (constant speed) with a stroke 2A of exactly one wavelength: each half period
       // sweeps the round-trip phase 2 k x through exactly 4 pi at a uniform rate, so the
       // time average of any function of that phase is its phase average, whatever the

@@ -14,7 +14,7 @@ import { classifyRun } from '../src/analysis/classify';
 import { createRng } from '../src/numerics/rng';
 import { runScenario } from '../src/simulate/run';
 import type { ScenarioInput } from '../src/scenario/schema';
-import { laserInput, scenario } from './fixtures/engine/build';
+import { laserInput, OPEN_LOOP_GAP, scenario } from './fixtures/engine/build';
 
 const HALF = 632.8e-9 / 2;
 
@@ -169,13 +169,7 @@ function feedbackOff(drive: ScenarioInput['drive'], sim: ScenarioInput['simulati
       R2: 0.99,
       gain: { pump_ratio: 2, inversion_lifetime: '10 ns', spontaneous_power: 1e-15 },
     }),
-    external: {
-      length: '30 cm',
-      return_mirror: { reflectivity: 0.9 },
-      feedback_efficiency: 0.8,
-      roundtrip_efficiency: 1,
-      return_to_laser: false,
-    },
+    external: OPEN_LOOP_GAP,
     drive,
     simulation: { engine: 'exact', static_positions: 16, ...sim },
     analysis: { detection_bandwidth: '1 MHz', ...analysis },

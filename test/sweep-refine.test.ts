@@ -32,6 +32,7 @@ import { bestPoints, buildSweepReportHtml } from '../src/report/sweep-report';
 import { etaText, formatProgressLine } from '../src/cli/progress';
 import { combinedZ, directScenario, spreadIndices } from '../src/bench/map-refined';
 import { drivenStderr } from '../src/sweep/map';
+import { sineDriveKinematics } from './fixtures/report/make-fixtures';
 
 const ROOT = path.resolve(__dirname, '..');
 const N = 24;
@@ -98,13 +99,7 @@ function syntheticRecord(index: number, axes: Record<string, number>): PointReco
       settle_time_s: 1 / f,
     },
     drive: {
-      waveform: 'sine',
-      amplitude_m: A,
-      frequency_Hz: f,
-      stroke_m: 2 * A,
-      peak_speed_m_s: 2 * Math.PI * f * A,
-      peak_acceleration_m_s2: (2 * Math.PI * f) ** 2 * A,
-      peak_doppler_Hz: 0,
+      ...sineDriveKinematics(A, f, 0),
       critical_speed_m_s: VC,
       critical_speed_landau_zener_m_s: VC,
       fraction_below_critical: null,

@@ -25,18 +25,33 @@ export interface StatsResult {
   max: number;
 }
 
+/** The extremes and the spread the running statistics share: min, max, std = sqrt(variance). */
+abstract class RunningSpread {
+  protected lo = Infinity;
+  protected hi = -Infinity;
+  abstract get variance(): number;
+  /** sqrt of the population variance. */
+  get std(): number {
+    return Math.sqrt(this.variance);
+  }
+  get min(): number {
+    return this.lo;
+  }
+  get max(): number {
+    return this.hi;
+  }
+}
+
 /**
  * Welford mean and variance plus min and max. `push` is allocation-free. With no sample
  * pushed, mean, variance and std are NaN and min/max are +Infinity/-Infinity (so a
  * caller can tell "no data" from a value). NaN samples are counted and poison the mean,
  * on purpose: a numerical failure must not look like data.
  */
-export class RunningStats {
+export class RunningStats extends RunningSpread {
   private n = 0;
   private mu = 0;
   private m2 = 0;
-  private lo = Infinity;
-  private hi = -Infinity;
 
   /** Adds one sample x (any unit). */
   push(x: number): void {
@@ -92,16 +107,6 @@ export class RunningStats {
   get sampleVariance(): number {
     return this.n === 0 ? NaN : this.n === 1 ? 0 : this.m2 / (this.n - 1);
   }
-  /** sqrt of the population variance. */
-  get std(): number {
-    return Math.sqrt(this.variance);
-  }
-  get min(): number {
-    return this.lo;
-  }
-  get max(): number {
-    return this.hi;
-  }
 
   /** Snapshot of count, mean, variances, std, min, max. */
   result(): StatsResult {
@@ -124,13 +129,11 @@ export class RunningStats {
  * Reference: D. H. D. West, "Updating mean and variance estimates: an improved method",
  * Commun. ACM 22, 532 (1979).
  */
-export class WeightedRunningStats {
+export class WeightedRunningStats extends RunningSpread {
   private wSum = 0;
   private mu = 0;
   private s = 0;
   private n = 0;
-  private lo = Infinity;
-  private hi = -Infinity;
 
   /** Adds sample x with weight w (w >= 0; a negative weight is treated as 0). */
   push(x: number, w: number): void {
@@ -168,15 +171,6 @@ export class WeightedRunningStats {
   /** Weighted population variance; NaN while the weight sum is 0. */
   get variance(): number {
     return this.wSum > 0 ? this.s / this.wSum : NaN;
-  }
-  get std(): number {
-    return Math.sqrt(this.variance);
-  }
-  get min(): number {
-    return this.lo;
-  }
-  get max(): number {
-    return this.hi;
   }
 
   /** Snapshot; sampleVariance equals variance here (frequency weights). */

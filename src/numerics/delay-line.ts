@@ -11,7 +11,9 @@
  * w^n (w = 2 pi nu dt): inside a high-finesse gap that loss adds to the mirrors' every
  * round trip, so the round-trip engine reads with 8 points (docs/model.md §3.5): at
  * w = 0.72 (a mode 940 MHz from the carrier at 122 ps steps) it loses 4e-5 to 1.4e-4 per
- * read, where the 4-point read lost 3.6e-3 to 1.2e-2.
+ * read, where the 4-point read lost 3.6e-3 to 1.2e-2. The modal engine's lines each hold
+ * one mode's slowly varying envelope and read with 4 points (docs/model.md §3.3), whose
+ * weights are the closed-form cubic of Abramowitz and Stegun 25.2.13.
  */
 
 /** Nodes of the centred interpolator the delay lines read with (even; half on each side). */
@@ -53,6 +55,27 @@ export function lagrangeCentredGain(u: number, w: number, n = 4): number {
   return Math.hypot(re, im);
 }
 
+/**
+ * Weights of the 4-point Lagrange read `back` samples before the newest into w[0..3], for
+ * the nodes start .. start + 3 samples back; returns start. The stencil is centred on the
+ * read (start = floor(back) - 1) unless that would reach past the newest sample, then it
+ * starts at the newest (start = 0). Closed-form cubic, Abramowitz and Stegun 25.2.13.
+ */
+export function lagrange4Newest(back: number, w: Float64Array): number {
+  let start = Math.floor(back) - 1;
+  if (start < 0) start = 0;
+  const u = back - start;
+  w[0] = (-(u - 1) * (u - 2) * (u - 3)) / 6;
+  w[1] = (u * (u - 2) * (u - 3)) / 2;
+  w[2] = (-u * (u - 1) * (u - 3)) / 2;
+  w[3] = (u * (u - 1) * (u - 2)) / 6;
+  return start;
+}
+
+/**
+ * A bank of complex delay lines advancing in lockstep, one ring per line in one pair of
+ * typed arrays (line-major), with interpolated reads and the stored energy of a line.
+ */
 export class ComplexDelayLines {
   readonly re: Float64Array;
   readonly im: Float64Array;
@@ -60,23 +83,31 @@ export class ComplexDelayLines {
   readonly mask: number;
   /** slot of the newest sample (shared by every line) */
   head = 0;
-  private readonly w = new Float64Array(READ_POINTS);
+  private readonly w: Float64Array;
+  /** unmasked slot of node 0 of the last prepared read (node i at top - i) */
+  private top = 0;
 
   /**
    * @param lines number of delay lines
    * @param maxDelay longest delay read, samples (the buffer holds it plus the stencil)
+   * @param points nodes of the interpolated read: READ_POINTS (centred, back >=
+   *   MIN_CENTRED_DELAY) or 4 (closed-form cubic, never past the newest sample)
    */
   constructor(
     readonly lines: number,
     maxDelay: number,
+    readonly points: number = READ_POINTS,
   ) {
     if (!(maxDelay >= 0 && maxDelay < 1e8)) throw new Error(`delay of ${maxDelay} samples cannot be stored`);
+    if (points !== READ_POINTS && points !== 4)
+      throw new Error(`no ${points}-point read (${READ_POINTS} or 4)`);
     let cap = 8;
-    while (cap < maxDelay + READ_POINTS + 2) cap *= 2;
+    while (cap < maxDelay + points + 2) cap *= 2;
     this.cap = cap;
     this.mask = cap - 1;
     this.re = new Float64Array(lines * cap);
     this.im = new Float64Array(lines * cap);
+    this.w = new Float64Array(points);
   }
 
   /** Move the head on by one sample (every line at once); the new slot is then written with set(). */
@@ -91,33 +122,84 @@ export class ComplexDelayLines {
     this.im[i] = im;
   }
 
+  /** Write the sample the next advance() makes the newest (reads until then see the present head). */
+  setNext(line: number, re: number, im: number): void {
+    const i = line * this.cap + ((this.head + 1) & this.mask);
+    this.re[i] = re;
+    this.im[i] = im;
+  }
+
   /** Index into re/im of the sample `back` whole samples before the newest of a line. */
   index(line: number, back: number): number {
     return line * this.cap + ((this.head - back) & this.mask);
   }
 
   /**
-   * Read a line `back` samples before the head (back >= MIN_CENTRED_DELAY, fractional
-   * allowed) by the centred READ_POINTS-point Lagrange interpolator, into out[o], out[o + 1].
-   * The nodes run from back - READ_POINTS / 2 + 1 to back + READ_POINTS / 2 (rounded).
+   * Set up the weights of a read `back` samples before the head (fractional allowed) for
+   * readPrepared() on any number of lines. READ_POINTS nodes run from back - READ_POINTS / 2 + 1
+   * to back + READ_POINTS / 2 (rounded); 4 nodes as lagrange4Newest() places them.
    */
-  read(line: number, back: number, out: Float64Array, o: number): void {
-    const k = Math.floor(back);
+  prepare(back: number): void {
     const w = this.w;
+    if (this.points === 4) {
+      this.top = this.head - lagrange4Newest(back, w);
+      return;
+    }
+    const k = Math.floor(back);
     lagrangeCentredN(back - k, READ_POINTS, w);
+    // node i sits at back k - (n/2 - 1) + i (newest first), so at head - k + n/2 - 1 - i
+    this.top = this.head - k + READ_POINTS / 2 - 1;
+  }
+
+  /** Read a line at the delay of the last prepare(), into out[o], out[o + 1]. */
+  readPrepared(line: number, out: Float64Array, o: number): void {
+    const w = this.w;
+    const n = this.points;
     const base = line * this.cap;
     const m = this.mask;
-    // node i sits at back k - (n/2 - 1) + i (newest first), so at head - k + n/2 - 1 - i
-    const top = this.head - k + READ_POINTS / 2 - 1;
+    const top = this.top;
     let re = 0;
     let im = 0;
-    for (let i = 0; i < READ_POINTS; i++) {
+    for (let i = 0; i < n; i++) {
       const idx = base + ((top - i) & m);
       re += w[i] * this.re[idx];
       im += w[i] * this.im[idx];
     }
     out[o] = re;
     out[o + 1] = im;
+  }
+
+  /** Read a line `back` samples before the head (see prepare()) into out[o], out[o + 1]. */
+  read(line: number, back: number, out: Float64Array, o: number): void {
+    this.prepare(back);
+    this.readPrepared(line, out, o);
+  }
+
+  /**
+   * Stored energy of a line over the last `back` samples, in sample units: the trapezoid
+   * integral of |x|^2 from the newest sample back to `back` (the fractional end linearly
+   * interpolated), added to `sum` (so several lines add in one running sum), which is returned.
+   */
+  addStored(line: number, back: number, sum: number): number {
+    const whole = Math.floor(back);
+    const frac = back - whole;
+    const base = line * this.cap;
+    const m = this.mask;
+    let s = sum;
+    let prev = 0;
+    for (let k = 0; k <= whole; k++) {
+      const i = base + ((this.head - k) & m);
+      const v = this.re[i] * this.re[i] + this.im[i] * this.im[i];
+      if (k > 0) s += 0.5 * (v + prev);
+      prev = v;
+    }
+    if (frac > 0) {
+      const i = base + ((this.head - whole - 1) & m);
+      const next = this.re[i] * this.re[i] + this.im[i] * this.im[i];
+      const vEnd = prev + (next - prev) * frac;
+      s += 0.5 * (prev + vEnd) * frac;
+    }
+    return s;
   }
 
   /** Fill every slot of a line with one value. */

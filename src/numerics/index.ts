@@ -1,19 +1,11 @@
-/** Numerics room: steppers, interpolation, FFT, random numbers, windows. Knows nothing of lasers. */
-export { createRk4, createEuler, createHeun, integrateFixed } from './rk4';
-export type { OdeRhs, FixedStepper } from './rk4';
-export { dopri5 } from './dopri5';
-export type { Dopri5Options, Dopri5Result, Dopri5Status, Dopri5Step } from './dopri5';
+/** Numerics room: delay lines, FFT, random numbers, windows. Knows nothing of lasers. */
 export {
-  PHI_SERIES_RADIUS,
-  complexExpm1,
-  phiSeries,
-  phiClosed,
-  phiFunctions,
-  expStepLinear,
-  expStepConstant,
-  ExpStepCoefficients,
-} from './expstep';
-export { lagrange4, ringCubic, ringLinear, ComplexRing } from './interp';
+  ComplexDelayLines,
+  lagrange4Newest,
+  lagrangeCentredN,
+  lagrangeCentredGain,
+  READ_POINTS,
+} from './delay-line';
 export { Rng, createRng } from './rng';
 export { isPow2, nextPow2, fftReal, fftComplex, ifftComplex } from './fft';
 export { hannPeriodic } from './window';

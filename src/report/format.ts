@@ -99,3 +99,13 @@ export function labelOfKey(key: string): string {
       }
   return k.replace(/_/g, ' ');
 }
+
+/** Safe property access for summaries whose optional parts may be missing or null. */
+export function get(obj: unknown, ...path: string[]): unknown {
+  let v: unknown = obj;
+  for (const p of path) {
+    if (v === null || typeof v !== 'object') return undefined;
+    v = (v as Record<string, unknown>)[p];
+  }
+  return v;
+}

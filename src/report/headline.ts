@@ -6,7 +6,7 @@
  * the same words; the report adds its HTML around them.
  */
 import type { RunSummary } from '../results/summary';
-import { fmtNum, fmtPercent, fmtSI, isNum, NOT_COMPUTED } from './format';
+import { fmtNum, fmtPercent, fmtSI, get, isNum, NOT_COMPUTED } from './format';
 
 export interface HeadlineItem {
   /** short id (gap, steady, hops, actuator, can) */
@@ -19,16 +19,6 @@ export interface HeadlineItem {
   detail: string;
   /** true: good news, false: bad news, null: nothing to judge */
   ok: boolean | null;
-}
-
-/** Safe property access for summaries whose optional parts may be missing or null. */
-function get(obj: unknown, ...path: string[]): unknown {
-  let v: unknown = obj;
-  for (const p of path) {
-    if (v === null || typeof v !== 'object') return undefined;
-    v = (v as Record<string, unknown>)[p];
-  }
-  return v;
 }
 
 /**

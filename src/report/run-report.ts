@@ -8,7 +8,17 @@ import { join } from 'node:path';
 import { RUN_FILES, RunArtifacts, TraceSeries, TraceSet, SpectraSet } from '../results/artifacts';
 import type { RunSummary, StaticCurve } from '../results/summary';
 import { classBadge, classColour, CLASS_STYLE } from './class-style';
-import { fmtByKey, fmtNum, fmtPercent, fmtRatio, fmtSI, isNum, NOT_COMPUTED, snapRoundOff } from './format';
+import {
+  fmtByKey,
+  fmtNum,
+  fmtPercent,
+  fmtRatio,
+  fmtSI,
+  get,
+  isNum,
+  NOT_COMPUTED,
+  snapRoundOff,
+} from './format';
 import { axis, baseLayout, plotDiv, PlotSpec, renderPage, TRACE_COLOURS } from './html';
 import { readRunArtifacts } from './read-results';
 import { html, HtmlValue, plotText, SafeHtml } from './safe-html';
@@ -73,16 +83,6 @@ function section(id: string, title: string, ...content: HtmlValue[]): SafeHtml {
     <h2>${title}</h2>
     ${content}
   </section>`;
-}
-
-/** Safe property access for summaries whose optional parts may be missing or null. */
-function get(obj: unknown, ...path: string[]): unknown {
-  let v: unknown = obj;
-  for (const p of path) {
-    if (v === null || typeof v !== 'object') return undefined;
-    v = (v as Record<string, unknown>)[p];
-  }
-  return v;
 }
 
 function scenarioAnalysis(s: RunSummary, key: string): unknown {

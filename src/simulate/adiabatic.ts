@@ -8,19 +8,9 @@
 import type { CoupledParams } from '../physics/coupled/params';
 import type { MirrorMotion } from '../physics/coupled/lane-engine';
 import type { StaticResult, LaneMeans } from './references';
-import { DrivenAnalysis, DrivenOptions, DrivenResult } from './driven';
+import { AnalysisOptions, DrivenAnalysis, DrivenResult } from './driven';
 
-export interface AdiabaticOptions extends Pick<
-  DrivenOptions,
-  | 'detectionBandwidth_Hz'
-  | 'hopDwell_s'
-  | 'hopMargin'
-  | 'driveFrequency_Hz'
-  | 'drivePhase_rad'
-  | 'traceBuckets'
-  | 'spectralSpread_Hz'
-  | 'spectrumMode'
-> {
+export interface AdiabaticOptions extends AnalysisOptions {
   motion: MirrorMotion;
   /** the drive's own rest offset (static positions are relative to it), m */
   rest_m: number;

@@ -39,25 +39,13 @@ import {
 } from '../physics/actuator';
 import { createDrive } from '../physics/drive';
 import { RESULT_VERSION } from '../results/summary';
-import { COMPARED_WAVEFORMS } from '../results/compare';
 import type {
-  ComparedWaveform,
   CompareComponent,
   ComparisonPlan,
   ComparisonRow,
   WaveformComparison,
   WaveformPlan,
 } from '../results/compare';
-
-export { COMPARED_WAVEFORMS };
-export type {
-  ComparedWaveform,
-  CompareComponent,
-  ComparisonPlan,
-  ComparisonRow,
-  WaveformComparison,
-  WaveformPlan,
-};
 import { TOOL_VERSION } from '../version';
 import { computeReferences, runScenario, EngineChoice, References } from './run';
 

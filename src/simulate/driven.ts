@@ -6,15 +6,29 @@ import type { CoupledParams } from '../physics/coupled/params';
 import { balanceErrors } from '../physics/coupled/lane-engine';
 import type { LaneEngine, MirrorMotion, NormalSource } from '../physics/coupled/lane-engine';
 import { createLaneEngine, EngineKind } from '../physics/coupled/factory';
-import { BoxcarFilter, BoxcarResult } from '../analysis/boxcar';
-import { HopDetector, HopResult } from '../analysis/hops';
-import { RunningStats, StatsResult } from '../analysis/stats';
+import { BoxcarFilter } from '../analysis/boxcar';
+import { HopDetector } from '../analysis/hops';
+import { RunningStats } from '../analysis/stats';
 import { MinMaxDecimator } from '../analysis/decimate';
 import { WelchPsd, RinSpectrum } from '../analysis/spectra';
 import { OpticalSpectrum, OpticalSpectrumResult } from '../analysis/opticalSpectrum';
 import type { TraceSet } from '../results/artifacts';
 import { BudgetAccumulator } from './budget';
 import type { PowerBudget } from '../results/summary';
+import type { OffsetFigures } from '../analysis/summarise-run';
+
+/** The options of DrivenAnalysis every driven path passes through (the window, hops, traces, spectra). */
+export type AnalysisOptions = Pick<
+  DrivenOptions,
+  | 'detectionBandwidth_Hz'
+  | 'hopDwell_s'
+  | 'hopMargin'
+  | 'driveFrequency_Hz'
+  | 'drivePhase_rad'
+  | 'traceBuckets'
+  | 'spectralSpread_Hz'
+  | 'spectrumMode'
+>;
 
 export interface DrivenOptions {
   dt: number;
@@ -46,14 +60,8 @@ export interface DrivenOptions {
   onProgress?: (fraction: number) => void;
 }
 
-export interface OffsetResult {
-  offset_m: number;
-  external: StatsResult;
-  laserOutput: StatsResult;
-  intracavity: StatsResult;
-  band: BoxcarResult;
-  hops: HopResult;
-}
+/** The statistics of one rest offset (the shape the summary step reads). */
+export type OffsetResult = OffsetFigures;
 
 export interface DrivenResult {
   offsets: OffsetResult[];
@@ -97,18 +105,7 @@ export class DrivenAnalysis {
     dt: number,
     samples: number,
     t0: number,
-    o: Pick<
-      DrivenOptions,
-      | 'detectionBandwidth_Hz'
-      | 'hopDwell_s'
-      | 'hopMargin'
-      | 'driveFrequency_Hz'
-      | 'drivePhase_rad'
-      | 'traceBuckets'
-      | 'spectralSpread_Hz'
-      | 'spectrumMode'
-      | 'motion'
-    >,
+    o: AnalysisOptions & Pick<DrivenOptions, 'motion'>,
     optical: boolean,
   ) {
     const M = p.M;
@@ -266,7 +263,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   const chunk = 20000;
   while (done < o.settleSteps) {
     const n = Math.min(chunk, o.settleSteps - done);
-    if (!e.advance(n)) return failed(e, done);
+    if (!e.advance(n)) return failedDriven(e.failMessage, done, done * e.L);
     done += n;
     report();
   }
@@ -315,7 +312,7 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   let analysed = 0;
   while (analysed < o.analysedSteps) {
     const n = Math.min(chunk, o.analysedSteps - analysed);
-    if (!e.advance(n, onStep)) return failed(e, done);
+    if (!e.advance(n, onStep)) return failedDriven(e.failMessage, done, done * e.L);
     analysed += n;
     done += n;
     report();
@@ -339,7 +336,8 @@ export function drivenRun(p: CoupledParams, o: DrivenOptions): DrivenResult {
   };
 }
 
-function failed(e: LaneEngine, steps: number): DrivenResult {
+/** The result of a driven pass stopped by a numerical failure after `steps` steps. */
+export function failedDriven(message: string, steps: number, laneSteps: number): DrivenResult {
   return {
     offsets: [],
     traces: { t_s: [], series: [], drive_period_s: null },
@@ -348,7 +346,7 @@ function failed(e: LaneEngine, steps: number): DrivenResult {
     balance: { laser: NaN, external: NaN, mismatch: NaN },
     fieldRatio: NaN,
     steps,
-    laneSteps: steps * e.L,
-    failed: e.failMessage || 'numerical failure',
+    laneSteps,
+    failed: message || 'numerical failure',
   };
 }

@@ -33,9 +33,9 @@ export function laserOnlyStep(p: CoupledParams): number {
 }
 
 /**
- * Settle the laser with no external cavity from a state near the single-mode estimate
- * (random phases from the generator), for `settle_s` (default 400 photon lifetimes, at
- * least 50 tau_N), and average the last fifth.
+ * Settle the laser with no external cavity on the modal engine from a state near the
+ * single-mode estimate (random phases from the generator), for `settle_s` (default 400
+ * photon lifetimes, at least 50 tau_N), and average the last fifth.
  */
 export function freeRunning(
   p: CoupledParams,
@@ -43,7 +43,6 @@ export function freeRunning(
   settle_s?: number,
 ): FreeRunningResult {
   const M = p.M;
-  const q: CoupledParams = { ...p, hasExternal: false, returnToLaser: false, kappa: 0, couplingOut: 0 };
   if (!Number.isFinite(p.gammaC)) {
     return {
       Er: new Array(M).fill(0),
@@ -57,18 +56,65 @@ export function freeRunning(
     };
   }
   const dt = laserOnlyStep(p);
-  const T = settle_s ?? Math.max(400 / p.gammaC, 50 * p.tauN);
-  const steps = Math.max(1000, Math.ceil(T / dt));
+  return settleAlone(p, rng, settle_s, {
+    build: (q, still) => new ExactEngine(q, 1, dt, still, rng, 0),
+    startPower: (m) =>
+      singleModePower(p.inhomogeneous, p.pump * p.gainRel[m], p.cross[m * M + m], 1 / p.invPsat) / M,
+    intracavity: null,
+  });
+}
+
+/**
+ * The free-running laser on the round-trip engine (docs/model.md §3.5): the same settle
+ * and averaging as freeRunning, from the homogeneous estimate P_sat (p f - 1) / M per
+ * mode, with the whole band free to lase (mode powers by demodulation at the cold-cavity
+ * modes, the total from the engine's own intracavity power).
+ */
+export function freeRunningRoundTrip(
+  p: CoupledParams,
+  rng: NormalSource & { uniform(): number },
+  settle_s?: number,
+): FreeRunningResult {
+  if (!Number.isFinite(p.gammaC)) return freeRunning(p, rng, settle_s);
+  return settleAlone(p, rng, settle_s, {
+    build: (q, still) => new RoundTripEngine(q, 1, still, rng, 0),
+    startPower: (m) => Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * p.M),
+    intracavity: (e) => e.intracavityPower(0),
+  });
+}
+
+/** What a free-running settle takes from the engine it runs on. */
+interface AloneEngine {
+  /** the engine, one lane, for the laser with no external cavity q */
+  build(q: CoupledParams, still: MirrorMotion): LaneEngine;
+  /** starting power of mode slot m, W (raised to the spontaneous power) */
+  startPower(m: number): number;
+  /** one-way intracavity power of the lane, W, averaged as the total; null: the sum of the mode powers */
+  intracavity: ((e: LaneEngine) => number) | null;
+}
+
+/**
+ * Settle one lane of the laser alone for `settle_s` (default 400 photon lifetimes, at least
+ * 50 tau_N, at least 1000 steps) from the engine's starting powers with phases drawn from
+ * the generator, and average mode powers over the last fifth.
+ */
+function settleAlone(
+  p: CoupledParams,
+  rng: NormalSource & { uniform(): number },
+  settle_s: number | undefined,
+  how: AloneEngine,
+): FreeRunningResult {
+  const M = p.M;
+  const q: CoupledParams = { ...p, hasExternal: false, returnToLaser: false, kappa: 0, couplingOut: 0 };
   const still: MirrorMotion = { position: () => 0, velocity: () => 0 };
-  const eng = new ExactEngine(q, 1, dt, still, rng, 0);
+  const eng = how.build(q, still);
+  const T = settle_s ?? Math.max(400 / p.gammaC, 50 * p.tauN);
+  const steps = Math.max(1000, Math.ceil(T / eng.dt));
   const Er: number[] = [];
   const Ei: number[] = [];
   const N: number[] = [];
   for (let m = 0; m < M; m++) {
-    const P0 = Math.max(
-      p.spontaneous_W,
-      singleModePower(p.inhomogeneous, p.pump * p.gainRel[m], p.cross[m * M + m], 1 / p.invPsat) / M,
-    );
+    const P0 = Math.max(p.spontaneous_W, how.startPower(m));
     const th = 2 * Math.PI * rng.uniform();
     Er.push(Math.sqrt(P0) * Math.cos(th));
     Ei.push(Math.sqrt(P0) * Math.sin(th));
@@ -77,16 +123,19 @@ export function freeRunning(
   eng.setLaserState(Er, Ei, N);
   const avgFrom = Math.floor(steps * 0.8);
   const acc = new Float64Array(M);
+  const intracavity = how.intracavity;
+  let sum = 0;
   let count = 0;
   let k = 0;
   eng.advance(steps, (e) => {
     if (k++ >= avgFrom) {
       for (let m = 0; m < M; m++) acc[m] += e.Er[m] * e.Er[m] + e.Ei[m] * e.Ei[m];
+      if (intracavity !== null) sum += intracavity(e);
       count++;
     }
   });
   const modePowers = Array.from(acc, (v) => v / Math.max(count, 1));
-  const total = modePowers.reduce((a, b) => a + b, 0);
+  const total = intracavity === null ? modePowers.reduce((a, b) => a + b, 0) : sum / Math.max(count, 1);
   const strongest = Math.max(...modePowers);
   return {
     Er: Array.from(eng.Er),
@@ -94,63 +143,6 @@ export function freeRunning(
     N: Array.from(eng.N),
     intracavity_W: total,
     output_W: p.T2 * total,
-    modePowers_W: modePowers,
-    lasingModes: p.modes.index.filter(
-      (_, m) => strongest > 0 && modePowers[m] >= 0.01 * strongest && modePowers[m] > 100 * p.spontaneous_W,
-    ),
-    steps,
-  };
-}
-
-/**
- * The free-running laser on the round-trip engine (docs/model.md §3.5): the same settle
- * and averaging as freeRunning, from the modal single-mode estimate, with the whole band
- * free to lase (mode powers by demodulation at the cold-cavity modes).
- */
-export function freeRunningRoundTrip(
-  p: CoupledParams,
-  rng: NormalSource & { uniform(): number },
-  settle_s?: number,
-): FreeRunningResult {
-  const M = p.M;
-  const q: CoupledParams = { ...p, hasExternal: false, returnToLaser: false, kappa: 0, couplingOut: 0 };
-  if (!Number.isFinite(p.gammaC)) return freeRunning(p, rng, settle_s);
-  const still: MirrorMotion = { position: () => 0, velocity: () => 0 };
-  const eng = new RoundTripEngine(q, 1, still, rng, 0);
-  const T = settle_s ?? Math.max(400 / p.gammaC, 50 * p.tauN);
-  const steps = Math.max(1000, Math.ceil(T / eng.dt));
-  const Er: number[] = [];
-  const Ei: number[] = [];
-  const N: number[] = [];
-  for (let m = 0; m < M; m++) {
-    const P0 = Math.max(p.spontaneous_W, Math.max(0, p.pump * p.gainRel[m] - 1) / (p.invPsat * M));
-    const th = 2 * Math.PI * rng.uniform();
-    Er.push(Math.sqrt(P0) * Math.cos(th));
-    Ei.push(Math.sqrt(P0) * Math.sin(th));
-    N.push(1);
-  }
-  eng.setLaserState(Er, Ei, N);
-  const avgFrom = Math.floor(steps * 0.8);
-  const acc = new Float64Array(M);
-  let total = 0;
-  let count = 0;
-  let k = 0;
-  eng.advance(steps, (e) => {
-    if (k++ >= avgFrom) {
-      for (let m = 0; m < M; m++) acc[m] += e.Er[m] * e.Er[m] + e.Ei[m] * e.Ei[m];
-      total += e.intracavityPower(0);
-      count++;
-    }
-  });
-  const modePowers = Array.from(acc, (v) => v / Math.max(count, 1));
-  const intracavity = total / Math.max(count, 1);
-  const strongest = Math.max(...modePowers);
-  return {
-    Er: Array.from(eng.Er),
-    Ei: Array.from(eng.Ei),
-    N: Array.from(eng.N),
-    intracavity_W: intracavity,
-    output_W: p.T2 * intracavity,
     modePowers_W: modePowers,
     lasingModes: p.modes.index.filter(
       (_, m) => strongest > 0 && modePowers[m] >= 0.01 * strongest && modePowers[m] > 100 * p.spontaneous_W,

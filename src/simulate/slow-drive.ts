@@ -29,7 +29,7 @@
  * up to MAX_WINDOWS distinct turning points are stepped and each later one reuses the
  * stepped one of the same direction whose acceleration is closest.
  */
-import type { DriveSpec, Scenario } from '../scenario/schema';
+import type { DriveSpec } from '../scenario/schema';
 import type { CoupledParams } from '../physics/coupled/params';
 import { balanceErrors } from '../physics/coupled/lane-engine';
 import { createLaneEngine } from '../physics/coupled/factory';
@@ -38,10 +38,11 @@ import { createDrive, peakAcceleration } from '../physics/drive';
 import { createRng } from '../numerics/rng';
 import { rippleRel } from '../analysis/stats';
 import type { SpeedCurve } from '../results/speed-curve';
-import { DrivenAnalysis, DrivenOptions, DrivenResult } from './driven';
+import { AnalysisOptions, DrivenAnalysis, DrivenResult, failedDriven } from './driven';
 import { externalPowerOf, laserOutputOf } from './references';
 import type { FreeRunningResult, StaticResult } from './references';
 import { curveAt, ensureSpeedCurve, memoryTime, startFromStatic, steppingEngineFor } from './speed-curve';
+import type { SpeedCurveContext } from './speed-curve';
 import { totalPeakSpeed } from './engine-choice';
 
 /** v_w = WINDOW_EDGE x acceleration x tau_mem: below it the turning-point window is stepped. */
@@ -71,16 +72,7 @@ export const MAX_WINDOWS = 16;
 /** Largest number of analysis samples per lane. */
 export const SLOW_MAX_SAMPLES = 2_000_000;
 
-export interface SlowDriveOptions extends Pick<
-  DrivenOptions,
-  | 'detectionBandwidth_Hz'
-  | 'hopDwell_s'
-  | 'driveFrequency_Hz'
-  | 'drivePhase_rad'
-  | 'traceBuckets'
-  | 'spectralSpread_Hz'
-  | 'spectrumMode'
-> {
+export interface SlowDriveOptions extends Omit<AnalysisOptions, 'hopMargin'> {
   drive: DriveSpec;
   seed: number;
   /** rest offset of each lane relative to the drive's own offset, m */
@@ -309,7 +301,7 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     startFromStatic(e, o.stat, (l) => o.laneOffsets_m[l] + x0);
     e.t = tStart;
     const lead = Math.max(1, Math.round((tp.t - tp.before - tStart) / eng.dt));
-    if (!e.advance(lead)) return failed(e.failMessage, steps, laneSteps);
+    if (!e.advance(lead)) return failedDriven(e.failMessage, steps, laneSteps);
     e.resetEnergy();
     const k0 = Math.round((tp.t - tp.before) / dt_s) - Math.round(tp.t / dt_s);
     const k1 = Math.round((tp.t + tp.after) / dt_s) - Math.round(tp.t / dt_s);
@@ -350,7 +342,7 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     });
     steps += lead + total;
     laneSteps += (lead + total) * L;
-    if (!ok) return failed(e.failMessage, steps, laneSteps);
+    if (!ok) return failedDriven(e.failMessage, steps, laneSteps);
     for (let l = 0; l < L; l++) {
       const bal = balanceErrors(e, l);
       worstBalance = Math.max(worstBalance, bal.laser, bal.external);
@@ -545,45 +537,13 @@ export interface SlowDriveInfo {
   analysed_s: number;
 }
 
-function failed(message: string, steps: number, laneSteps: number): DrivenResult {
-  return {
-    offsets: [],
-    traces: { t_s: [], series: [], drive_period_s: null },
-    rin: null,
-    optical: [],
-    balance: { laser: NaN, external: NaN, mismatch: NaN },
-    fieldRatio: NaN,
-    steps,
-    laneSteps,
-    failed: message || 'numerical failure',
-  };
-}
-
 /** Everything the run needs to dispatch to the slow-drive path. */
-export interface SlowDriveRunInput {
-  s: Scenario;
-  p: CoupledParams;
-  finesse: number;
-  regrowth_s: number;
-  stat: StaticResult;
-  free: FreeRunningResult;
-  seed: number;
-  requested: string;
+export interface SlowDriveRunInput extends SpeedCurveContext {
   /** a curve computed earlier (same key: reused and extended) */
   prior: SpeedCurve | null;
   laneOffsets_m: number[];
   analysed_s: number;
-  common: Pick<
-    SlowDriveOptions,
-    | 'detectionBandwidth_Hz'
-    | 'hopDwell_s'
-    | 'driveFrequency_Hz'
-    | 'drivePhase_rad'
-    | 'traceBuckets'
-    | 'spectralSpread_Hz'
-    | 'spectrumMode'
-  >;
-  onProgress?: (fraction: number) => void;
+  common: Omit<AnalysisOptions, 'hopMargin'>;
 }
 
 /**
@@ -618,7 +578,12 @@ export function slowDriveRun(i: SlowDriveRunInput): {
   };
   const curve = ensureSpeedCurve(i.prior, ctx, vLo, vPeak);
   if (typeof curve === 'string')
-    return { driven: failed(`speed curve: ${curve}`, 0, 0), curve: null, note: '', analysed_s: i.analysed_s };
+    return {
+      driven: failedDriven(`speed curve: ${curve}`, 0, 0),
+      curve: null,
+      note: '',
+      analysed_s: i.analysed_s,
+    };
   const driven = drivenSlow(p, {
     ...i.common,
     drive: s.drive,

@@ -420,18 +420,7 @@ export async function runSweep(scenario: Scenario, opts: SweepOptions): Promise<
   if (refine) plan = planRefinement(grid.axes, known, refine, shard);
 
   records.sort((a, b) => a.index - b.index);
-  const map = withOperatingPoint(
-    buildSweepMap({
-      name: header.name,
-      scenario_sha256: header.scenario_sha256,
-      axes: header.axes,
-      records,
-      scenario: s,
-      refine,
-      shard,
-    }),
-    s,
-  );
+  const map = withOperatingPoint(currentMap(), s);
   fs.writeFileSync(path.join(dir, SWEEP_FILES.map), `${JSON.stringify(map)}\n`);
   fs.writeFileSync(path.join(dir, SWEEP_FILES.mapCsv), mapToCsv(map, keyUnit));
   const finishedHere = records.filter((r) => regionSet.has(r.index)).length;

@@ -16,9 +16,13 @@ import { loadScenarioFile } from '../../scenario/load';
 import { ENGINE_CHOICES, EngineChoice } from '../../scenario/schema';
 import { defaultJobs } from '../../sweep/pool';
 import { resolveShard, shardFolderName } from '../../sweep/shard';
+import type { Shard } from '../../sweep/shard';
+import type { InputProblem } from '../../scenario/errors';
 import { runSweep } from '../../sweep/run-sweep';
+import type { SweepOptions } from '../../sweep/run-sweep';
 import { safeFolderName } from '../../sweep/batch';
 import { createProgress, formatDuration } from '../progress';
+import type { ProgressReporter } from '../progress';
 import { writeSweepReport } from '../../report/sweep-report';
 import { recommendedPointLine } from '../format';
 import { FORCE_HELP, openResultFolder } from '../result-folder';
@@ -87,38 +91,130 @@ export function sweepEndLines(label: string, c: SweepCounts): string[] {
   return lines;
 }
 
-interface SweepCliOptions {
+/** The options of the commands that run the sweep machinery (`sweep`, `yield`). */
+export interface PointRunCliOptions {
   out?: string;
   jobs?: string;
   resume?: boolean;
   shard?: string;
   quiet?: boolean;
   engine?: EngineChoice;
+}
+
+/**
+ * Add the options of a command that runs the sweep machinery: --out (default `outDefault`),
+ * --jobs, --resume, --shard, --quiet, --engine; `what` names its points ('points', 'draws').
+ */
+export function addPointRunOptions(cmd: Command, outDefault: string, what: string): Command {
+  return cmd
+    .option('--out <dir>', `output folder (default ${outDefault})`)
+    .option('--jobs <n>', 'worker threads (default: the available processors)')
+    .option('--resume', `keep the ${what} already in the folder and run the others`)
+    .option(
+      '--shard <i/n>',
+      `run shard I of N (${what} with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT`,
+    )
+    .option('--quiet', 'no progress output')
+    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES));
+}
+
+/** Print a scenario file's warnings to stderr, one line each. */
+export function printLoadWarnings(file: string, warnings: InputProblem[]): void {
+  for (const w of warnings)
+    process.stderr.write(`${file}: warning: ${w.path ? `${w.path}: ` : ''}${w.message}\n`);
+}
+
+/** The folder a point run writes to (a shard's below the base) and the label of its lines. */
+export function pointRunFolder(
+  command: string,
+  name: string,
+  base: string,
+  shard: Shard | null,
+): { dir: string; label: string } {
+  return {
+    dir: shard ? path.join(base, shardFolderName(shard)) : base,
+    label: `${command} ${name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`,
+  };
+}
+
+/**
+ * Run `body` with a progress line on stderr and the first Ctrl-C turned into a stop
+ * (interruptOnSignal); `release` runs after it whatever happens. Returns its outcome and
+ * whether it was stopped.
+ */
+export async function withProgress<T>(
+  label: string,
+  quiet: boolean | undefined,
+  body: (signal: AbortSignal, progress: ProgressReporter) => Promise<T>,
+  release?: () => void,
+): Promise<{ out: T; stopped: boolean }> {
+  const progress = createProgress({ label, total: 0, quiet });
+  const stop = interruptOnSignal((m) => progress.log(m));
+  try {
+    const out = await body(stop.signal, progress);
+    return { out, stopped: stop.signal.aborted };
+  } finally {
+    progress.stop();
+    stop.dispose();
+    release?.();
+  }
+}
+
+/** The runSweep options that follow from the shared command-line options. */
+export function pointRunSweepOptions(
+  file: string,
+  dir: string,
+  jobs: number,
+  shard: Shard | null,
+  opts: PointRunCliOptions,
+  signal: AbortSignal,
+  progress: ProgressReporter,
+): SweepOptions {
+  return {
+    outDir: dir,
+    source: file,
+    jobs,
+    resume: opts.resume ?? false,
+    shard,
+    engine: opts.engine,
+    signal,
+    onWarning: (m) => progress.log(`warning: ${m}`),
+  };
+}
+
+/** After a stop by Ctrl-C: say what was kept and exit 130. */
+export function exitIfStopped(
+  stopped: boolean,
+  label: string,
+  finished: number,
+  what: string,
+  dir: string,
+): void {
+  if (!stopped) return;
+  process.stderr.write(
+    `${label}: stopped; ${finished} finished ${what} kept in ${dir} (continue with --resume)\n`,
+  );
+  process.exit(130);
+}
+
+interface SweepCliOptions extends PointRunCliOptions {
   force?: boolean;
   full?: boolean;
 }
 
 /** Register `sweep`. */
 export function registerSweep(program: Command, ctx: CommandContext): void {
-  program
+  const cmd = program
     .command('sweep')
     .description(
       "the grid in the scenario's sweep section; writes points.ndjson, map.json, sweep.json and report.html",
     )
-    .argument('<file>', 'scenario file (YAML or JSON) with a sweep section')
-    .option('--out <dir>', 'output folder (default reports/<scenario name>/)')
-    .option('--jobs <n>', 'worker threads (default: the available processors)')
-    .option('--resume', 'keep the points already in the folder and run the others')
-    .option(
-      '--shard <i/n>',
-      'run shard I of N (points with index % N == I - 1); default from SLURM_ARRAY_TASK_ID/COUNT',
-    )
+    .argument('<file>', 'scenario file (YAML or JSON) with a sweep section');
+  addPointRunOptions(cmd, 'reports/<scenario name>/', 'points')
     .option(
       '--full',
       'compute every grid point (default: a coarse grid refined where neighbouring points differ; the rest is inferred and marked so)',
     )
-    .option('--quiet', 'no progress output')
-    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
     .option('--force', FORCE_HELP)
     .action(async (file: string, opts: SweepCliOptions) => {
       const jobs = parseJobs(opts.jobs);
@@ -133,35 +229,23 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
           },
         ]);
       }
-      for (const w of loaded.warnings)
-        process.stderr.write(`${file}: warning: ${w.path ? `${w.path}: ` : ''}${w.message}\n`);
+      printLoadWarnings(file, loaded.warnings);
       const base = opts.out ?? path.join('reports', safeFolderName(s.name));
-      const dir = shard ? path.join(base, shardFolderName(shard)) : base;
-      const label = `sweep ${s.name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`;
+      const { dir, label } = pointRunFolder('sweep', s.name, base, shard);
       const lock = openResultFolder(dir, 'sweep', { force: opts.force, label: 'dithercav sweep' });
-      const progress = createProgress({ label, total: 0, quiet: opts.quiet });
-      const stop = interruptOnSignal((m) => progress.log(m));
       const t0 = Date.now();
-      let out;
-      try {
-        out = await runSweep(s, {
-          outDir: dir,
-          source: file,
-          jobs,
-          resume: opts.resume ?? false,
-          shard,
-          engine: opts.engine,
-          full: opts.full ?? false,
-          signal: stop.signal,
-          onWarning: (m) => progress.log(`warning: ${m}`),
-          onProgress: (done, total, _rec, bound) =>
-            progress.update(done, total, bound?.refining ? bound.upper : undefined),
-        });
-      } finally {
-        progress.stop();
-        stop.dispose();
-        lock.release();
-      }
+      const { out, stopped } = await withProgress(
+        label,
+        opts.quiet,
+        (signal, progress) =>
+          runSweep(s, {
+            ...pointRunSweepOptions(file, dir, jobs, shard, opts, signal, progress),
+            full: opts.full ?? false,
+            onProgress: (done, total, _rec, bound) =>
+              progress.update(done, total, bound?.refining ? bound.upper : undefined),
+          }),
+        () => lock.release(),
+      );
       try {
         writeSweepReport(dir);
       } catch (err) {
@@ -183,12 +267,7 @@ export function registerSweep(program: Command, ctx: CommandContext): void {
       );
       const pointLine = recommendedPointLine(out.map);
       if (pointLine !== null) process.stdout.write(`${pointLine}\n`);
-      if (stop.signal.aborted) {
-        process.stderr.write(
-          `${label}: stopped; ${out.finished} finished points kept in ${dir} (continue with --resume)\n`,
-        );
-        process.exit(130);
-      }
+      exitIfStopped(stopped, label, out.finished, 'points', dir);
       for (const line of sweepEndLines(label, out)) process.stderr.write(`${line}\n`);
       ctx.setExit(sweepExitCode(out));
     });

@@ -7,30 +7,32 @@
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
-import { Command, Option } from 'commander';
+import { Command } from 'commander';
 import type { CommandContext } from '../main';
 import { InputError } from '../../scenario/errors';
 import { loadScenarioFile } from '../../scenario/load';
-import { ENGINE_CHOICES, EngineChoice } from '../../scenario/schema';
-import { resolveShard, shardFolderName } from '../../sweep/shard';
+import { resolveShard } from '../../sweep/shard';
 import { runSweep } from '../../sweep/run-sweep';
 import { safeFolderName } from '../../sweep/batch';
 import { drawsCsv, planDraws, summariseYield } from '../../sweep/yield';
 import { readPoints, SWEEP_FILES } from '../../sweep/persist';
 import { YIELD_FILES } from '../../results/yield';
 import { writeYieldReport } from '../../report/yield-report';
-import { createProgress, formatDuration } from '../progress';
-import { interruptOnSignal, parseJobs } from './sweep';
+import { formatDuration } from '../progress';
+import {
+  addPointRunOptions,
+  exitIfStopped,
+  parseJobs,
+  PointRunCliOptions,
+  pointRunFolder,
+  pointRunSweepOptions,
+  printLoadWarnings,
+  withProgress,
+} from './sweep';
 import { formatSI } from '../../scenario/units';
 
-interface YieldCliOptions {
+interface YieldCliOptions extends PointRunCliOptions {
   draws: string;
-  out?: string;
-  jobs?: string;
-  resume?: boolean;
-  shard?: string;
-  quiet?: boolean;
-  engine?: EngineChoice;
 }
 
 /** `--draws N`: a whole number >= 1. */
@@ -45,52 +47,32 @@ export function parseDraws(text: string): number {
 
 /** Register `yield`. */
 export function registerYield(program: Command, ctx: CommandContext): void {
-  program
+  const cmd = program
     .command('yield')
     .description(
       "draw N scenarios from the scenario's tolerances section and report the fraction that works; writes yield.json, draws.csv, points.ndjson and report.html",
     )
     .argument('<file>', 'scenario file (YAML or JSON) with a tolerances section')
-    .requiredOption('--draws <n>', 'number of drawn scenarios')
-    .option('--out <dir>', 'output folder (default reports/<scenario name>-yield/)')
-    .option('--jobs <n>', 'worker threads (default: the available processors)')
-    .option('--resume', 'keep the draws already in the folder and run the others')
-    .option('--shard <i/n>', 'run shard I of N (draws with index % N == I - 1)')
-    .option('--quiet', 'no progress output')
-    .addOption(new Option('--engine <engine>', 'override simulation.engine').choices(ENGINE_CHOICES))
-    .action(async (file: string, opts: YieldCliOptions) => {
+    .requiredOption('--draws <n>', 'number of drawn scenarios');
+  addPointRunOptions(cmd, 'reports/<scenario name>-yield/', 'draws').action(
+    async (file: string, opts: YieldCliOptions) => {
       const draws = parseDraws(opts.draws);
       const jobs = parseJobs(opts.jobs);
       const shard = resolveShard(opts.shard);
       const loaded = loadScenarioFile(file);
       const s = loaded.scenario;
       const plan = planDraws(s, draws, file);
-      for (const w of loaded.warnings)
-        process.stderr.write(`${file}: warning: ${w.path ? `${w.path}: ` : ''}${w.message}\n`);
+      printLoadWarnings(file, loaded.warnings);
       const base = opts.out ?? path.join('reports', `${safeFolderName(s.name)}-yield`);
-      const dir = shard ? path.join(base, shardFolderName(shard)) : base;
-      const label = `yield ${s.name}${shard ? ` (shard ${shard.index}/${shard.count})` : ''}`;
-      const progress = createProgress({ label, total: 0, quiet: opts.quiet });
-      const stop = interruptOnSignal((m) => progress.log(m));
+      const { dir, label } = pointRunFolder('yield', s.name, base, shard);
       const t0 = Date.now();
-      let out;
-      try {
-        out = await runSweep(s, {
-          outDir: dir,
-          source: file,
-          jobs,
-          resume: opts.resume ?? false,
-          shard,
-          engine: opts.engine,
+      const { out, stopped } = await withProgress(label, opts.quiet, (signal, progress) =>
+        runSweep(s, {
+          ...pointRunSweepOptions(file, dir, jobs, shard, opts, signal, progress),
           pointSet: plan,
-          signal: stop.signal,
-          onWarning: (m) => progress.log(`warning: ${m}`),
           onProgress: (done, total) => progress.update(done, total),
-        });
-      } finally {
-        progress.stop();
-        stop.dispose();
-      }
+        }),
+      );
       // every record in the folder (resumed ones included) from points.ndjson
       const all = readPoints(path.join(dir, SWEEP_FILES.points)).records;
       const summary = summariseYield(plan, s.name, all);
@@ -116,12 +98,8 @@ export function registerYield(program: Command, ctx: CommandContext): void {
             ? `  strongest tolerance: ${top.key} (rank correlation with gap power ${top.rho_gap_power.toFixed(2)})\n`
             : ''),
       );
-      if (stop.signal.aborted) {
-        process.stderr.write(
-          `${label}: stopped; ${out.finished} finished draws kept in ${dir} (continue with --resume)\n`,
-        );
-        process.exit(130);
-      }
+      exitIfStopped(stopped, label, out.finished, 'draws', dir);
       ctx.setExit(out.failed > 0 || out.interrupted ? 1 : 0);
-    });
+    },
+  );
 }

@@ -12,18 +12,21 @@
  *
  * Several independent copies ("lanes": static positions or drive rest offsets) advance in
  * lockstep in one time loop; each lane has its own rest offset of the return mirror.
- * The laser equations are stepped with classical RK4, the returned field at the stage
- * times is read from the history of a_m by 4-point Lagrange interpolation (never newer
- * than the newest sample), and spontaneous emission is added as a split step after each
+ * The laser equations are stepped with classical RK4 (written out here: its stage powers
+ * book the energy), the returned field at the stage times is read from the history of a_m,
+ * one delay line of src/numerics/delay-line.ts per (lane, mode), by 4-point Lagrange
+ * interpolation (never newer than the newest sample), and spontaneous emission is added as a split step after each
  * RK4 step, its energy booked exactly.
  *
  * Storage is structure-of-arrays over (lane, mode) = lane * M + m; the step loop
  * allocates nothing.
  */
 import { SPEED_OF_LIGHT_m_s } from '../constants';
+import { ComplexDelayLines } from '../../numerics/delay-line';
 import type { CoupledParams } from './params';
 import { LaneEngineBase } from './lane-base';
 import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
+import { copyLaneFields } from './lane-engine';
 
 export type { LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 export { balanceErrors } from './lane-engine';
@@ -35,11 +38,9 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
   /** |a(t - tau)|^2 at the current time, for the loss booking */
   readonly aDel2: Float64Array;
 
-  private readonly cap: number;
-  private readonly mask: number;
-  private head = 0;
-  private readonly ringRe: Float64Array;
-  private readonly ringIm: Float64Array;
+  /** history of a, one line per lane-mode j = lane * M + m */
+  private readonly ring: ComplexDelayLines;
+  private readonly tmp = new Float64Array(2);
   // RK4 scratch, one lane at a time
   private readonly e0r: Float64Array;
   private readonly e0i: Float64Array;
@@ -101,21 +102,17 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     super(p, lanes, dt, motion, rng);
     const LM = lanes * p.M;
     this.aDel2 = new Float64Array(LM);
-    let cap = 8;
+    let maxDelay = 0;
     if (p.hasExternal) {
-      const maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
+      maxDelay = (2 * (p.externalLength_m + Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
       if (!(maxDelay < 1e7)) throw new Error('external delay too long for the history buffer');
       const minDelay = (2 * (p.externalLength_m - Math.abs(maxExcursion_m))) / SPEED_OF_LIGHT_m_s / dt;
       if (minDelay < 1.5)
         throw new Error(
           `time step ${dt} s too long for the external delay (${minDelay.toFixed(2)} steps); use more substeps`,
         );
-      while (cap < maxDelay + 6) cap *= 2;
     }
-    this.cap = cap;
-    this.mask = cap - 1;
-    this.ringRe = new Float64Array(LM * cap);
-    this.ringIm = new Float64Array(LM * cap);
+    this.ring = new ComplexDelayLines(LM, maxDelay, 4);
     const M = p.M;
     this.e0r = new Float64Array(M);
     this.e0i = new Float64Array(M);
@@ -156,50 +153,24 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     this.crossOff = offConst ? Float64Array.of(c0) : null;
   }
 
-  /** Copy the full state (laser, history, returned field) of lane `from` of `src` into lane `to`. */
+  /**
+   * Copy the full state (laser, history, returned field) of lane `from` of `other` into lane
+   * `to`. From another kind of engine (or another history length) the history is filled
+   * with the present forward field (the delay line then refills within a few round trips).
+   */
   copyLane(other: LaneEngine, from: number, to: number): void {
-    if (other.M !== this.M) throw new Error('copyLane: engines differ in mode count');
-    if (!(other instanceof ExactEngine) || other.cap !== this.cap) {
-      // From another kind of engine: take the fields and a history holding the present
-      // forward field (the delay line then refills within a few round trips).
-      const M = this.M;
-      for (let m = 0; m < M; m++) {
-        const js = from * M + m;
-        const jd = to * M + m;
-        this.Er[jd] = other.Er[js];
-        this.Ei[jd] = other.Ei[js];
-        this.N[jd] = other.N[js];
-        this.br[jd] = other.br[js];
-        this.bi[jd] = other.bi[js];
-        this.ar[jd] = other.ar[js];
-        this.ai[jd] = other.ai[js];
-        this.aDel2[jd] = other.ar[js] * other.ar[js] + other.ai[js] * other.ai[js];
-        for (let k = 0; k < this.cap; k++) {
-          this.ringRe[jd * this.cap + k] = other.ar[js];
-          this.ringIm[jd * this.cap + k] = other.ai[js];
-        }
-      }
-      return;
-    }
-    const src = other;
+    copyLaneFields(this, other, from, to);
+    const src = other instanceof ExactEngine && other.ring.cap === this.ring.cap ? other : null;
     const M = this.M;
     for (let m = 0; m < M; m++) {
       const js = from * M + m;
       const jd = to * M + m;
-      this.Er[jd] = src.Er[js];
-      this.Ei[jd] = src.Ei[js];
-      this.N[jd] = src.N[js];
-      this.br[jd] = src.br[js];
-      this.bi[jd] = src.bi[js];
-      this.ar[jd] = src.ar[js];
-      this.ai[jd] = src.ai[js];
-      this.aDel2[jd] = src.aDel2[js];
-      // align the ring so that src's newest sample becomes this engine's newest sample
-      for (let k = 0; k < this.cap; k++) {
-        const is = js * this.cap + ((src.head - k) & src.mask);
-        const id = jd * this.cap + ((this.head - k) & this.mask);
-        this.ringRe[id] = src.ringRe[is];
-        this.ringIm[id] = src.ringIm[is];
+      if (src !== null) {
+        this.aDel2[jd] = src.aDel2[js];
+        this.ring.copyLine(src.ring, js, jd);
+      } else {
+        this.aDel2[jd] = other.ar[js] * other.ar[js] + other.ai[js] * other.ai[js];
+        this.ring.fill(jd, other.ar[js], other.ai[js]);
       }
     }
   }
@@ -210,9 +181,7 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     for (let j = 0; j < this.L * this.M; j++) {
       this.ar[j] = p.couplingOut * this.Er[j] - p.r2 * this.br[j];
       this.ai[j] = p.couplingOut * this.Ei[j] - p.r2 * this.bi[j];
-      const base = j * this.cap + this.head;
-      this.ringRe[base] = this.ar[j];
-      this.ringIm[base] = this.ai[j];
+      this.ring.set(j, this.ar[j], this.ai[j]);
     }
   }
 
@@ -223,26 +192,8 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
   externalEnergy(l: number): number {
     if (!this.p.hasExternal) return 0;
     const D = this.delaySamples(this.t, l);
-    const whole = Math.floor(D);
-    const frac = D - whole;
     let s = 0;
-    for (let m = 0; m < this.M; m++) {
-      const j = l * this.M + m;
-      const base = j * this.cap;
-      let prev = 0;
-      for (let k = 0; k <= whole; k++) {
-        const i = base + ((this.head - k) & this.mask);
-        const v = this.ringRe[i] * this.ringRe[i] + this.ringIm[i] * this.ringIm[i];
-        if (k > 0) s += 0.5 * (v + prev);
-        prev = v;
-      }
-      if (frac > 0) {
-        const i = base + ((this.head - whole - 1) & this.mask);
-        const next = this.ringRe[i] * this.ringRe[i] + this.ringIm[i] * this.ringIm[i];
-        const vEnd = prev + (next - prev) * frac;
-        s += 0.5 * (prev + vEnd) * frac;
-      }
-    }
+    for (let m = 0; m < this.M; m++) s = this.ring.addStored(l * this.M + m, D, s);
     return s * this.dt;
   }
 
@@ -253,21 +204,6 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       SPEED_OF_LIGHT_m_s /
       this.dt
     );
-  }
-
-  private readonly weights = new Float64Array(5);
-
-  /** Lagrange weights for nodes start, start+1, start+2, start+3 (in samples back) at `back`. */
-  private lagrangeWeights(back: number): void {
-    let start = Math.floor(back) - 1;
-    if (start < 0) start = 0;
-    const u = back - start;
-    const w = this.weights;
-    w[0] = (-(u - 1) * (u - 2) * (u - 3)) / 6;
-    w[1] = (u * (u - 2) * (u - 3)) / 2;
-    w[2] = (-u * (u - 1) * (u - 3)) / 2;
-    w[3] = (u * (u - 1) * (u - 2)) / 6;
-    w[4] = start;
   }
 
   /**
@@ -285,31 +221,18 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
   ): void {
     const p = this.p;
     const back = this.delayPerMetre * (p.externalLength_m + x) - s;
-    this.lagrangeWeights(back);
-    const w = this.weights;
-    const w0 = w[0],
-      w1 = w[1],
-      w2 = w[2],
-      w3 = w[3];
+    const ring = this.ring;
+    ring.prepare(back);
     const M = this.M;
     const r3 = p.r3eff;
-    const cap = this.cap;
-    const mask = this.mask;
-    const h = this.head - w[4];
-    const o0 = h & mask,
-      o1 = (h - 1) & mask,
-      o2 = (h - 2) & mask,
-      o3 = (h - 3) & mask;
-    const rr = this.ringRe;
-    const ri = this.ringIm;
+    const tmp = this.tmp;
     this.phases.at(x);
     const pc = this.phases.cos;
     const ps = this.phases.sin;
-    const base0 = l * M * cap;
     for (let m = 0; m < M; m++) {
-      const base = base0 + m * cap;
-      const ar = w0 * rr[base + o0] + w1 * rr[base + o1] + w2 * rr[base + o2] + w3 * rr[base + o3];
-      const ai = w0 * ri[base + o0] + w1 * ri[base + o1] + w2 * ri[base + o2] + w3 * ri[base + o3];
+      ring.readPrepared(l * M + m, tmp, 0);
+      const ar = tmp[0];
+      const ai = tmp[1];
       if (ad !== null) ad[m] = ar * ar + ai * ai;
       const c = pc[m];
       const sn = ps[m];
@@ -401,7 +324,6 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
     const ext = p.hasExternal;
     const xh = ext ? this.motion.position(this.t + half) : 0;
     const x1 = ext ? this.motion.position(this.t + dt) : 0;
-    const newHead = (this.head + 1) & this.mask;
     const varying = p.couplingAt !== null;
     let etaT2 = this.kCouple * this.kCouple;
     for (let l = 0; l < this.L; l++) {
@@ -552,9 +474,7 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
           this.ar[j] = a1r;
           this.ai[j] = a1i;
           this.aDel2[j] = this.ad1[m];
-          const ri = j * this.cap + newHead;
-          this.ringRe[ri] = a1r;
-          this.ringIm[ri] = a1i;
+          this.ring.setNext(j, a1r, a1i);
         }
       }
       if (p.classA) {
@@ -571,7 +491,7 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       e.mismatch += mis * dt;
       e.mismatchScale += misScale * dt;
     }
-    this.head = newHead;
+    this.ring.advance();
     this.t += dt;
   }
 

@@ -24,6 +24,7 @@
 import type { CoupledParams } from './params';
 import { LaneEngineBase } from './lane-base';
 import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
+import { copyLaneFields } from './lane-engine';
 
 const FLUSH = 1e-150;
 /** sub-intervals of each step for the energy quadrature (composite Simpson; even) */
@@ -84,18 +85,10 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
 
   copyLane(other: LaneEngine, from: number, to: number): void {
     // any engine kind: the mean field needs only the present fields
-    if (other.M !== this.M) throw new Error('copyLane: engines differ in mode count');
+    copyLaneFields(this, other, from, to);
     for (let m = 0; m < this.M; m++) {
-      const js = from * this.M + m;
       const jd = to * this.M + m;
-      this.Er[jd] = other.Er[js];
-      this.Ei[jd] = other.Ei[js];
-      this.N[jd] = other.N[js];
-      this.ar[jd] = other.ar[js];
-      this.ai[jd] = other.ai[js];
-      this.br[jd] = other.br[js];
-      this.bi[jd] = other.bi[js];
-      this.dw[jd] = other instanceof FastEngine ? other.dw[js] : 0;
+      this.dw[jd] = other instanceof FastEngine ? other.dw[from * this.M + m] : 0;
     }
   }
 

@@ -4,7 +4,7 @@
  * round-trip phase of every mode.
  */
 import type { CoupledParams } from './params';
-import { emptyEnergy } from './lane-engine';
+import { emptyEnergy, LaneStore } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 import {
   coldLossShares,
@@ -77,23 +77,11 @@ export class ModePhases {
   }
 }
 
-export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyLane' | 'externalEnergy'> {
-  readonly L: number;
-  readonly M: number;
-  readonly dt: number;
-  /** time, s */
-  t = 0;
-  readonly Er: Float64Array;
-  readonly Ei: Float64Array;
-  readonly N: Float64Array;
-  readonly ar: Float64Array;
-  readonly ai: Float64Array;
-  readonly br: Float64Array;
-  readonly bi: Float64Array;
-  readonly offset: Float64Array;
+export abstract class LaneEngineBase
+  extends LaneStore
+  implements Omit<LaneEngine, 'kind' | 'copyLane' | 'externalEnergy'>
+{
   energy: LaneEnergy[];
-  failed = false;
-  failMessage = '';
   /**
    * Spontaneous emission is added every noiseEvery steps with the variance of that many
    * steps (independent increments add): a white-noise source sampled on a grid far finer
@@ -116,24 +104,13 @@ export abstract class LaneEngineBase implements Omit<LaneEngine, 'kind' | 'copyL
   private readonly shares: ColdLossShares;
 
   constructor(
-    readonly p: CoupledParams,
+    p: CoupledParams,
     lanes: number,
     dt: number,
     readonly motion: MirrorMotion,
     readonly rng: NormalSource,
   ) {
-    this.L = lanes;
-    this.M = p.M;
-    this.dt = dt;
-    const LM = lanes * p.M;
-    this.Er = new Float64Array(LM);
-    this.Ei = new Float64Array(LM);
-    this.N = new Float64Array(LM);
-    this.ar = new Float64Array(LM);
-    this.ai = new Float64Array(LM);
-    this.br = new Float64Array(LM);
-    this.bi = new Float64Array(LM);
-    this.offset = new Float64Array(lanes);
+    super(p, lanes, dt);
     this.energy = Array.from({ length: lanes }, () => emptyEnergy());
     this.noiseEvery = Math.max(1, Math.min(64, Math.floor(0.02 / (p.gammaC * dt))));
     this.noiseWeight = Float64Array.from(p.gainRel, (f) => Math.sqrt(Math.max(0, f)));

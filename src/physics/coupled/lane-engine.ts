@@ -54,14 +54,15 @@ export function emptyEnergy(): LaneEnergy {
   };
 }
 
-export interface LaneEngine {
-  readonly kind: 'exact' | 'fast' | 'roundtrip';
-  readonly p: CoupledParams;
+/**
+ * The lane state every engine keeps (see LaneEngine): fields and inversions per lane-mode
+ * (index lane * M + m), the rest offset per lane, the time and the failure flag.
+ */
+export class LaneStore {
   readonly L: number;
   readonly M: number;
-  /** time step, s */
-  readonly dt: number;
-  t: number;
+  /** time, s */
+  t = 0;
   /** laser fields and inversions, index lane * M + m */
   readonly Er: Float64Array;
   readonly Ei: Float64Array;
@@ -74,11 +75,59 @@ export interface LaneEngine {
   readonly bi: Float64Array;
   /** rest offset of the return mirror per lane, m */
   readonly offset: Float64Array;
+  failed = false;
+  failMessage = '';
+
+  /**
+   * @param p engine parameters
+   * @param lanes number of lanes
+   * @param dt time step, s
+   */
+  constructor(
+    readonly p: CoupledParams,
+    lanes: number,
+    readonly dt: number,
+  ) {
+    this.L = lanes;
+    this.M = p.M;
+    const LM = lanes * p.M;
+    this.Er = new Float64Array(LM);
+    this.Ei = new Float64Array(LM);
+    this.N = new Float64Array(LM);
+    this.ar = new Float64Array(LM);
+    this.ai = new Float64Array(LM);
+    this.br = new Float64Array(LM);
+    this.bi = new Float64Array(LM);
+    this.offset = new Float64Array(lanes);
+  }
+}
+
+/**
+ * Copy the laser fields, inversions and gap fields of every mode of lane `from` of `src`
+ * into lane `to` of `dst` (the part of LaneEngine.copyLane every engine shares).
+ */
+export function copyLaneFields(dst: LaneStore, src: LaneStore, from: number, to: number): void {
+  if (src.M !== dst.M) throw new Error('copyLane: engines differ in mode count');
+  const M = dst.M;
+  for (let m = 0; m < M; m++) {
+    const js = from * M + m;
+    const jd = to * M + m;
+    dst.Er[jd] = src.Er[js];
+    dst.Ei[jd] = src.Ei[js];
+    dst.N[jd] = src.N[js];
+    dst.br[jd] = src.br[js];
+    dst.bi[jd] = src.bi[js];
+    dst.ar[jd] = src.ar[js];
+    dst.ai[jd] = src.ai[js];
+  }
+}
+
+/** An engine: the lane state (LaneStore) and what can be done with it. */
+export interface LaneEngine extends LaneStore {
+  readonly kind: 'exact' | 'fast' | 'roundtrip';
   readonly energy: LaneEnergy[];
   /** the energy bookkeeping of lane l (without building every lane's) */
   laneEnergy(l: number): LaneEnergy;
-  failed: boolean;
-  failMessage: string;
   setLaserState(Er: ArrayLike<number>, Ei: ArrayLike<number>, N: ArrayLike<number>): void;
   /** copy the whole state of lane `from` of `src` (an engine of the same kind and shape) into lane `to` */
   copyLane(src: LaneEngine, from: number, to: number): void;

@@ -35,7 +35,7 @@ import { SPEED_OF_LIGHT_m_s } from '../constants';
 import { ComplexDelayLines, MIN_CENTRED_DELAY } from '../../numerics/delay-line';
 import { bankResponse, buildPacketBank, PacketBank } from '../laser/gain-packets';
 import type { CoupledParams } from './params';
-import { emptyEnergy } from './lane-engine';
+import { emptyEnergy, LaneStore } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 import { chooseRoundTripStep, RoundTripStep } from './roundtrip-step';
 import {
@@ -70,22 +70,8 @@ function frac(x: number): number {
   return x - Math.floor(x);
 }
 
-export class RoundTripEngine implements LaneEngine {
+export class RoundTripEngine extends LaneStore implements LaneEngine {
   readonly kind = 'roundtrip' as const;
-  readonly L: number;
-  readonly M: number;
-  readonly dt: number;
-  t = 0;
-  readonly Er: Float64Array;
-  readonly Ei: Float64Array;
-  readonly N: Float64Array;
-  readonly ar: Float64Array;
-  readonly ai: Float64Array;
-  readonly br: Float64Array;
-  readonly bi: Float64Array;
-  readonly offset: Float64Array;
-  failed = false;
-  failMessage = '';
   readonly step: RoundTripStep;
   readonly bank: PacketBank;
   /** gain sheets per round trip */
@@ -175,29 +161,19 @@ export class RoundTripEngine implements LaneEngine {
   private laneNoise: readonly NormalSource[] | null = null;
 
   constructor(
-    readonly p: CoupledParams,
+    p: CoupledParams,
     lanes: number,
     readonly motion: MirrorMotion,
     readonly rng: NormalSource,
     maxExcursion_m: number,
     step?: RoundTripStep,
   ) {
+    const chosen = step ?? roundTripStepFor(p);
+    super(p, lanes, chosen.dt);
     const c = SPEED_OF_LIGHT_m_s;
-    this.L = lanes;
-    this.M = p.M;
-    this.step = step ?? roundTripStepFor(p);
-    const dt = this.step.dt;
-    this.dt = dt;
+    this.step = chosen;
+    const dt = this.dt;
     this.NL = this.step.laserSteps;
-    const LM = lanes * p.M;
-    this.Er = new Float64Array(LM);
-    this.Ei = new Float64Array(LM);
-    this.N = new Float64Array(LM);
-    this.ar = new Float64Array(LM);
-    this.ai = new Float64Array(LM);
-    this.br = new Float64Array(LM);
-    this.bi = new Float64Array(LM);
-    this.offset = new Float64Array(lanes);
     this.acc = new Float64Array(lanes * ACC);
     this.start = new Float64Array(lanes * 2);
     this.m2Closure = new Float64Array(lanes);
@@ -363,7 +339,6 @@ export class RoundTripEngine implements LaneEngine {
     const NL = this.NL;
     let sE = 0;
     let sV = 0;
-    const p = this.p;
     for (let k = 0; k < NL; k++) {
       const iw = this.laser.index(l, k);
       sV += this.laser.re[iw] * this.laser.re[iw] + this.laser.im[iw] * this.laser.im[iw];
@@ -387,21 +362,36 @@ export class RoundTripEngine implements LaneEngine {
     this.sumV[l] = sV;
     this.sumA[l] = 0;
     this.sumB[l] = 0;
-    // demodulated mode amplitudes of the window
+    this.demodulateWindow(l);
+  }
+
+  /**
+   * The mode amplitudes E_m and a_m of a lane demodulated from its window rings at this
+   * engine's time: the mean over the last round trip of e and a times exp(-i 2 pi delta_m t).
+   */
+  private demodulateWindow(l: number): void {
+    const NL = this.NL;
     const M = this.M;
+    const p = this.p;
     for (let m = 0; m < M; m++) {
       let xr = 0;
       let xi = 0;
+      let yr = 0;
+      let yi = 0;
       for (let k = 0; k < NL; k++) {
         const j = l * NL + ((this.slot - k + NL * 4) % NL);
         const th = -2 * Math.PI * frac(p.modes.detuning_Hz[m] * (this.t - k * this.dt));
-        xr += this.eRe[j] * Math.cos(th) - this.eIm[j] * Math.sin(th);
-        xi += this.eRe[j] * Math.sin(th) + this.eIm[j] * Math.cos(th);
+        const c = Math.cos(th);
+        const s = Math.sin(th);
+        xr += this.eRe[j] * c - this.eIm[j] * s;
+        xi += this.eRe[j] * s + this.eIm[j] * c;
+        yr += this.aRe[j] * c - this.aIm[j] * s;
+        yi += this.aRe[j] * s + this.aIm[j] * c;
       }
       this.Er[l * M + m] = xr / NL;
       this.Ei[l * M + m] = xi / NL;
-      this.ar[l * M + m] = 0;
-      this.ai[l * M + m] = 0;
+      this.ar[l * M + m] = yr / NL;
+      this.ai[l * M + m] = yi / NL;
     }
   }
 
@@ -473,27 +463,9 @@ export class RoundTripEngine implements LaneEngine {
     this.sumA[to] = sA;
     this.sumB[to] = sB;
     this.sumV[to] = src.sumV[from];
+    this.demodulateWindow(to);
     const M = this.M;
-    const p = this.p;
     for (let m = 0; m < M; m++) {
-      let xr = 0;
-      let xi = 0;
-      let yr = 0;
-      let yi = 0;
-      for (let k = 0; k < NL; k++) {
-        const j = to * NL + ((this.slot - k + NL * 4) % NL);
-        const th = -2 * Math.PI * frac(p.modes.detuning_Hz[m] * (this.t - k * this.dt));
-        const c = Math.cos(th);
-        const s = Math.sin(th);
-        xr += this.eRe[j] * c - this.eIm[j] * s;
-        xi += this.eRe[j] * s + this.eIm[j] * c;
-        yr += this.aRe[j] * c - this.aIm[j] * s;
-        yi += this.aRe[j] * s + this.aIm[j] * c;
-      }
-      this.Er[to * M + m] = xr / NL;
-      this.Ei[to * M + m] = xi / NL;
-      this.ar[to * M + m] = yr / NL;
-      this.ai[to * M + m] = yi / NL;
       this.N[to * M + m] = src.N[from * M + m];
       this.br[to * M + m] = src.br[from * M + m];
       this.bi[to * M + m] = src.bi[from * M + m];
@@ -539,23 +511,7 @@ export class RoundTripEngine implements LaneEngine {
   externalEnergy(l: number): number {
     if (!this.gap) return 0;
     const D = this.delayPerMetre * (this.p.externalLength_m + this.offset[l] + this.motion.position(this.t));
-    const whole = Math.floor(D);
-    const fr = D - whole;
-    let s = 0;
-    let prev = 0;
-    for (let k = 0; k <= whole; k++) {
-      const i = this.gap.index(l, k);
-      const v = this.gap.re[i] * this.gap.re[i] + this.gap.im[i] * this.gap.im[i];
-      if (k > 0) s += 0.5 * (v + prev);
-      prev = v;
-    }
-    if (fr > 0) {
-      const i = this.gap.index(l, whole + 1);
-      const next = this.gap.re[i] * this.gap.re[i] + this.gap.im[i] * this.gap.im[i];
-      const vEnd = prev + (next - prev) * fr;
-      s += 0.5 * (prev + vEnd) * fr;
-    }
-    return s * this.dt;
+    return this.gap.addStored(l, D, 0) * this.dt;
   }
 
   externalPower(l: number): number {
