@@ -14,17 +14,7 @@ import { freeRunning, freeRunningRoundTrip } from '../src/simulate/references';
 import { deriveAll } from '../src/physics/derive';
 import { loadScenarioFile } from '../src/scenario/load';
 import { STILL } from './fixtures/engine/build';
-import { flatGap, onMode } from './fixtures/engine/roundtrip';
-
-// homogeneous Lorentzian gain: both engine families use the same saturation law there
-const GAIN = {
-  shape: 'lorentzian',
-  linewidth: '10 GHz',
-  pump_ratio: 1.5,
-  inversion_lifetime: '10 ns',
-  saturation_power: '1 mW',
-  spontaneous_power: 1e-12,
-} as const;
+import { flatGap, LORENTZ_10GHZ as GAIN, onMode } from './fixtures/engine/roundtrip';
 
 function withGap(R3: number): CoupledParams {
   return onMode('10 cm', GAIN, 0.95, flatGap(R3));

@@ -9,17 +9,11 @@ import { runScenarioThreaded } from '../src/simulate/parallel-run';
 import { aitkenLimit } from '../src/simulate/references';
 import { deriveAll } from '../src/physics/derive';
 import { laserInput, scenario } from './fixtures/engine/build';
+import { LORENTZ_10GHZ } from './fixtures/engine/roundtrip';
 
 // homogeneous Lorentzian gain 10 GHz wide on a 10 cm laser: a band the round-trip engine
-// steps cheaply (the fixtures of test/engine-choice-roundtrip.test.ts)
-const GAIN = {
-  shape: 'lorentzian',
-  linewidth: '10 GHz',
-  pump_ratio: 1.5,
-  inversion_lifetime: '10 ns',
-  saturation_power: '1 mW',
-  spontaneous_power: 1e-12,
-} as const;
+// steps cheaply
+const GAIN = LORENTZ_10GHZ;
 
 /** A strongly coupled gap on the round-trip engine, 8 rest offsets (two lane groups), short windows. */
 function coupled() {
