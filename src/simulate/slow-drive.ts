@@ -182,6 +182,27 @@ function findTurningPoints(
   return res;
 }
 
+/**
+ * Running statistics with a variance added (the speed curve's own scatter, per sample) and
+ * the extremes widened to the curve's: the sample variance and std follow.
+ */
+function widened<T extends { count: number; variance: number; min: number; max: number }>(
+  st: T,
+  addVar: number,
+  min = st.min,
+  max = st.max,
+): T & { sampleVariance: number; std: number } {
+  const v = st.variance + addVar;
+  return {
+    ...st,
+    variance: v,
+    sampleVariance: st.count > 1 ? (v * st.count) / (st.count - 1) : 0,
+    std: Math.sqrt(v),
+    min: Math.min(st.min, min),
+    max: Math.max(st.max, max),
+  };
+}
+
 /** Run the slow-drive path; see the file comment. */
 export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult {
   const L = o.laneOffsets_m.length;
@@ -458,32 +479,9 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     const n = off.external.count;
     const addE = extraVar[l] / Math.max(1, n);
     const addO = extraOutVar[l] / Math.max(1, n);
-    const ev = off.external.variance + addE;
-    off.external = {
-      ...off.external,
-      variance: ev,
-      sampleVariance: n > 1 ? (ev * n) / (n - 1) : 0,
-      std: Math.sqrt(ev),
-      min: Math.min(off.external.min, curveMin[l]),
-      max: Math.max(off.external.max, curveMax[l]),
-    };
-    const ov = off.laserOutput.variance + addO;
-    off.laserOutput = {
-      ...off.laserOutput,
-      variance: ov,
-      sampleVariance: n > 1 ? (ov * n) / (n - 1) : 0,
-      std: Math.sqrt(ov),
-    };
-    const fb = off.band.fullBand;
-    const fbv = fb.variance + addE;
-    const fullBand = {
-      ...fb,
-      variance: fbv,
-      sampleVariance: fb.count > 1 ? (fbv * fb.count) / (fb.count - 1) : 0,
-      std: Math.sqrt(fbv),
-      min: Math.min(fb.min, curveMin[l]),
-      max: Math.max(fb.max, curveMax[l]),
-    };
+    off.external = widened(off.external, addE, curveMin[l], curveMax[l]);
+    off.laserOutput = widened(off.laserOutput, addO);
+    const fullBand = widened(off.band.fullBand, addE, curveMin[l], curveMax[l]);
     off.band = {
       ...off.band,
       fullBand,
