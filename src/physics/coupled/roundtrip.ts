@@ -772,33 +772,20 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         this.xpi[xs] = xi;
         let gr = 0;
         let gi = 0;
-        if (s === 0) {
-          for (let j = 0; j < F; j++) {
-            const q = fb + j;
-            const y0r = yr[q];
-            const y0i = yi[q];
-            const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
-            const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
-            yr[q] = y1r;
-            yi[q] = y1i;
-            const wn = wE[fl + j];
-            gr += wn * y1r;
-            gi += wn * y1i;
-            ySq[fl + j] += y1r * y1r + y1i * y1i;
-          }
-        } else {
-          for (let j = 0; j < F; j++) {
-            const q = fb + j;
-            const y0r = yr[q];
-            const y0i = yi[q];
-            const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
-            const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
-            yr[q] = y1r;
-            yi[q] = y1i;
-            const wn = wE[fl + j];
-            gr += wn * y1r;
-            gi += wn * y1i;
-          }
+        // the first sheet also accumulates each filter's power for the inversions
+        const first = s === 0;
+        for (let j = 0; j < F; j++) {
+          const q = fb + j;
+          const y0r = yr[q];
+          const y0i = yi[q];
+          const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
+          const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
+          yr[q] = y1r;
+          yi[q] = y1i;
+          const wn = wE[fl + j];
+          gr += wn * y1r;
+          gi += wn * y1i;
+          if (first) ySq[fl + j] += y1r * y1r + y1i * y1i;
         }
         // x <- x + (G0[x] - chi0/2 x) / K
         xr += (hc * gr - hc * xr) / K;
