@@ -330,9 +330,7 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
       const off = l * M;
       const e = this.energy[l];
       if (varying) {
-        // docs/model.md §2.5: the coupling follows the mirror (taken at the step's midpoint)
-        const f = this.couplingFactor(this.offset[l] + xh);
-        this.couplingNow[l] = f;
+        const f = this.followCoupling(l, this.offset[l] + xh);
         this.kKappa = p.kappa * f;
         this.kCouple = p.couplingOut * f;
         etaT2 = this.kCouple * this.kCouple;

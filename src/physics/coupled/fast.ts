@@ -236,9 +236,7 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
       const off = l * M;
       const e = this.energy[l];
       if (varying) {
-        // docs/model.md §2.5: the coupling follows the mirror (taken at the step's midpoint)
-        const f = this.couplingFactor(this.offset[l] + xMid);
-        this.couplingNow[l] = f;
+        const f = this.followCoupling(l, this.offset[l] + xMid);
         kap = p.kappa * f;
         cpl = p.couplingOut * f;
         etaT2 = cpl * cpl;

@@ -130,6 +130,16 @@ export abstract class LaneEngineBase
     return law === null ? 1 : law(x);
   }
 
+  /**
+   * docs/model.md §2.5: the coupling of lane l follows the mirror, taken at displacement x
+   * (the step's midpoint); records it in couplingNow and returns its amplitude factor.
+   */
+  protected followCoupling(l: number, x: number): number {
+    const f = this.couplingFactor(x);
+    this.couplingNow[l] = f;
+    return f;
+  }
+
   /** See LaneEngine.powerFlows and power-flows.ts for the slots. */
   powerFlows(l: number, out: Float64Array): void {
     const p = this.p;
