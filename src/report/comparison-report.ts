@@ -16,7 +16,7 @@ import { axis, baseLayout, plotDiv, PlotSpec, renderPage } from './html';
 import { readRunArtifacts, readSweepMap } from './read-results';
 import { detectResultFolder } from './rebuild';
 import { html, HtmlValue } from './safe-html';
-import { cellEdges, classColorscale, grid, mapAxes, mapLayout } from './sweep-report';
+import { classColorscale, heatmapOf, mapAxes, mapLayout } from './sweep-report';
 
 /** The default file a comparison is written to, under reports/. */
 export const COMPARISON_FILE = 'comparison.html';
@@ -185,10 +185,7 @@ function mapsBody(a: SweepMap, b: SweepMap, la: string, lb: string, plots: PlotS
       id,
       data: [
         {
-          type: 'heatmap',
-          x: cellEdges(m.axes[xy.x]),
-          y: cellEdges(m.axes[xy.y]),
-          z: grid(
+          ...heatmapOf(
             m,
             m.classes.map((c) => (c === null ? null : RUN_CLASSES.indexOf(c))),
             xy,
@@ -197,7 +194,6 @@ function mapsBody(a: SweepMap, b: SweepMap, la: string, lb: string, plots: PlotS
           zmin: -0.5,
           zmax: RUN_CLASSES.length - 0.5,
           showscale: false,
-          hoverongaps: false,
         },
       ],
       layout: mapLayout(m, xy),
@@ -245,13 +241,9 @@ function mapsBody(a: SweepMap, b: SweepMap, la: string, lb: string, plots: PlotS
       id: 'cmp-gap-diff',
       data: [
         {
-          type: 'heatmap',
-          x: cellEdges(a.axes[xy.x]),
-          y: cellEdges(a.axes[xy.y]),
-          z: grid(a, diff, xy),
+          ...heatmapOf(a, diff, xy),
           colorscale: 'RdBu',
           zmid: 0,
-          hoverongaps: false,
           colorbar: { thickness: 14, len: 0.8, title: { text: 'W' } },
         },
       ],
@@ -261,10 +253,7 @@ function mapsBody(a: SweepMap, b: SweepMap, la: string, lb: string, plots: PlotS
       id: 'cmp-decoupled',
       data: [
         {
-          type: 'heatmap',
-          x: cellEdges(a.axes[xy.x]),
-          y: cellEdges(a.axes[xy.y]),
-          z: grid(a, only, xy),
+          ...heatmapOf(a, only, xy),
           colorscale: [
             [0, '#e4e7ec'],
             [0.33, '#e4e7ec'],
@@ -276,7 +265,6 @@ function mapsBody(a: SweepMap, b: SweepMap, la: string, lb: string, plots: PlotS
           zmin: -0.5,
           zmax: 2.5,
           showscale: false,
-          hoverongaps: false,
         },
       ],
       layout: mapLayout(a, xy),

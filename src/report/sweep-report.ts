@@ -266,6 +266,17 @@ export function grid<T>(m: SweepMap, values: (T | null)[], xy: { x: number; y: n
   return z;
 }
 
+/** A plotly heatmap of a per-point array over the map axes: cell edges on both axes, gaps left empty. */
+export function heatmapOf<T>(m: SweepMap, values: (T | null)[], xy: { x: number; y: number }) {
+  return {
+    type: 'heatmap',
+    x: cellEdges(m.axes[xy.x]),
+    y: cellEdges(m.axes[xy.y]),
+    z: grid(m, values, xy),
+    hoverongaps: false,
+  };
+}
+
 /** Axis range covering the grid's cells (cellEdges), in plotly's units (log10 on a log axis). */
 function gridRange(a: MapAxis): [number, number] | undefined {
   if (a.values.length === 0 || !a.values.every(isNum)) return undefined;
@@ -684,17 +695,13 @@ function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
     id: 'map-class',
     data: [
       {
-        type: 'heatmap',
-        x: cellEdges(m.axes[xy.x]),
-        y: cellEdges(m.axes[xy.y]),
-        z: grid(m, classIdx, xy),
+        ...heatmapOf(m, classIdx, xy),
         text,
         hovertemplate: '%{text}<extra></extra>',
         colorscale: classColorscale(),
         zmin: -0.5,
         zmax: RUN_CLASSES.length - 0.5,
         showscale: false,
-        hoverongaps: false,
       },
       ...over,
     ],
@@ -717,15 +724,11 @@ function twoAxisMaps(m: SweepMap, plots: PlotSpec[]): SafeHtml {
       id,
       data: [
         {
-          type: 'heatmap',
-          x: cellEdges(m.axes[xy.x]),
-          y: cellEdges(m.axes[xy.y]),
-          z: grid(m, m.metrics[name], xy),
+          ...heatmapOf(m, m.metrics[name], xy),
           text,
           hovertemplate: '%{text}<extra></extra>',
           colorscale: st.colorscale,
           showscale: true,
-          hoverongaps: false,
           colorbar: colourBar(name),
         },
         ...over,
