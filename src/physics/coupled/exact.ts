@@ -26,12 +26,10 @@ import { ComplexDelayLines } from '../../numerics/delay-line';
 import type { CoupledParams } from './params';
 import { LaneEngineBase } from './lane-base';
 import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
-import { copyLaneFields } from './lane-engine';
+import { copyLaneFields, FIELD_FLUSH } from './lane-engine';
 
 export type { LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 export { balanceErrors } from './lane-engine';
-
-const FLUSH = 1e-150;
 
 export class ExactEngine extends LaneEngineBase implements LaneEngine {
   readonly kind = 'exact' as const;
@@ -426,13 +424,12 @@ export class ExactEngine extends LaneEngineBase implements LaneEngine {
           im += sg * this.rng.normal();
           noiseE += re * re + im * im - before;
         }
-        if (re * re + im * im < FLUSH) {
+        if (re * re + im * im < FIELD_FLUSH) {
           re = 0;
           im = 0;
         }
         if (!(Number.isFinite(re) && Number.isFinite(im) && Number.isFinite(nn))) {
-          this.failed = true;
-          this.failMessage = `non-finite laser field in mode ${p.modes.index[m]} at t = ${this.t.toExponential(3)} s`;
+          this.failNonFinite(m, 'laser field');
           return;
         }
         const oldE2 = this.Er[j] * this.Er[j] + this.Ei[j] * this.Ei[j];

@@ -24,9 +24,8 @@
 import type { CoupledParams } from './params';
 import { LaneEngineBase } from './lane-base';
 import type { LaneEngine, MirrorMotion, NormalSource } from './lane-engine';
-import { copyLaneFields } from './lane-engine';
+import { copyLaneFields, FIELD_FLUSH } from './lane-engine';
 
-const FLUSH = 1e-150;
 /** sub-intervals of each step for the energy quadrature (composite Simpson; even) */
 const QUAD_INTERVALS = 4;
 
@@ -324,17 +323,16 @@ export class FastEngine extends LaneEngineBase implements LaneEngine {
           E2i += sg * this.rng.normal();
           noiseE += E2r * E2r + E2i * E2i - before;
         }
-        if (E2r * E2r + E2i * E2i < FLUSH) {
+        if (E2r * E2r + E2i * E2i < FIELD_FLUSH) {
           E2r = 0;
           E2i = 0;
         }
-        if (A2r * A2r + A2i * A2i < FLUSH) {
+        if (A2r * A2r + A2i * A2i < FIELD_FLUSH) {
           A2r = 0;
           A2i = 0;
         }
         if (!(Number.isFinite(E2r) && Number.isFinite(E2i) && Number.isFinite(A2r) && Number.isFinite(A2i))) {
-          this.failed = true;
-          this.failMessage = `non-finite field in mode ${p.modes.index[m]} at t = ${this.t.toExponential(3)} s (fast engine)`;
+          this.failNonFinite(m, 'field', ' (fast engine)');
           return;
         }
         this.Er[j] = E2r;

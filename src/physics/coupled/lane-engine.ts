@@ -54,6 +54,9 @@ export function emptyEnergy(): LaneEnergy {
   };
 }
 
+/** A field whose power falls below this is set to zero (no denormal arithmetic in the step loops). */
+export const FIELD_FLUSH = 1e-150;
+
 /**
  * The lane state every engine keeps (see LaneEngine): fields and inversions per lane-mode
  * (index lane * M + m), the rest offset per lane, the time and the failure flag.
@@ -77,6 +80,12 @@ export class LaneStore {
   readonly offset: Float64Array;
   failed = false;
   failMessage = '';
+
+  /** Fail the engine at a non-finite `what` of mode slot m (the message names the mode and the time). */
+  protected failNonFinite(m: number, what: string, suffix = ''): void {
+    this.failed = true;
+    this.failMessage = `non-finite ${what} in mode ${this.p.modes.index[m]} at t = ${this.t.toExponential(3)} s${suffix}`;
+  }
 
   /**
    * @param p engine parameters

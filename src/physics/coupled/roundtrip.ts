@@ -35,7 +35,7 @@ import { SPEED_OF_LIGHT_m_s } from '../constants';
 import { ComplexDelayLines, MIN_CENTRED_DELAY } from '../../numerics/delay-line';
 import { bankResponse, buildPacketBank, PacketBank } from '../laser/gain-packets';
 import type { CoupledParams } from './params';
-import { emptyEnergy, LaneStore } from './lane-engine';
+import { emptyEnergy, FIELD_FLUSH, LaneStore } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
 import { chooseRoundTripStep, RoundTripStep } from './roundtrip-step';
 import {
@@ -53,7 +53,6 @@ import {
   FLOW_UNMATCHED,
 } from './power-flows';
 
-const FLUSH = 1e-150;
 const ACC_GAIN = 0;
 const ACC_COLD = 1;
 const ACC_INJ = 2;
@@ -724,7 +723,7 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         eI += this.ahead[q + 1];
         this.ahead[q] = 0;
         this.ahead[q + 1] = 0;
-        if (eR * eR + eI * eI < FLUSH) {
+        if (eR * eR + eI * eI < FIELD_FLUSH) {
           eR = 0;
           eI = 0;
         }
