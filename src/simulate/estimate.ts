@@ -15,7 +15,7 @@ import { createDrive } from '../physics/drive';
 import { createRng } from '../numerics/rng';
 import { planEngines } from './engine-choice';
 import type { DrivenEngine } from './engine-choice';
-import { staticSettleTime } from './run';
+import { drivenWindows, staticSettleTime } from './run';
 
 /** The step plan of one driven run. */
 export interface DrivenStepPlan {
@@ -28,10 +28,9 @@ export interface DrivenStepPlan {
 }
 
 /**
- * The engine and lane-steps of the driven run of `s`, as runScenario plans them: settle
- * max(3 t_static, 1/f) unless set, analysed max(simulation.periods, 4 f / detection
- * bandwidth) drive periods (a still mirror: max(4 / bandwidth, 20 t_static)), times
- * simulation.drive_offsets lanes. The adiabatic path steps no lanes.
+ * The engine and lane-steps of the driven run of `s`, as runScenario plans them (the
+ * settle and analysed windows of drivenWindows), times simulation.drive_offsets lanes.
+ * The adiabatic path steps no lanes.
  */
 export function drivenStepPlan(s: Scenario): DrivenStepPlan {
   const { derived, params } = deriveAll(s);
@@ -44,17 +43,9 @@ export function drivenStepPlan(s: Scenario): DrivenStepPlan {
   // turning-point windows and speed curve are not counted: an estimate from below)
   if (kind === 'adiabatic' || kind === 'speedcurve')
     return { engine: kind, dt_s: 0, lane_steps: 0, modes: params.M };
-  const d = s.drive;
-  const moving =
-    d.waveform !== 'off' && (d.amplitude > 0 || (d.waveform === 'two-tone' && d.second_amplitude > 0));
-  const f = moving ? d.frequency : null;
-  const settle = s.simulation.settle === 'auto' ? Math.max(3 * tStatic, f ? 1 / f : 0) : s.simulation.settle;
-  const minWindow = 4 / s.analysis.detection_bandwidth;
-  const analysed = f
-    ? Math.max(s.simulation.periods, Math.ceil(minWindow * f)) / f
-    : Math.max(minWindow, 20 * tStatic);
+  const w = drivenWindows(s, kind, tStatic);
   const dt = plan.driven.dt;
-  const laneSteps = (Math.ceil(settle / dt) + Math.ceil(analysed / dt)) * s.simulation.drive_offsets;
+  const laneSteps = (Math.ceil(w.settle_s / dt) + Math.ceil(w.analysed_s / dt)) * s.simulation.drive_offsets;
   return { engine: kind, dt_s: dt, lane_steps: laneSteps, modes: params.M };
 }
 

@@ -225,8 +225,6 @@ export function planRun(
   const seed = opts.seed ?? s.simulation.seed;
   const requested = opts.engine ?? s.simulation.engine;
   const { stat } = refs.data;
-  const drive = s.drive;
-  const f = driveMoves(drive) ? drive.frequency : null;
   const tContStatic = staticSettleTime(params);
   const engines: EnginePlan = planEngines(
     s,
@@ -277,20 +275,10 @@ export function planRun(
   if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
   // the lanes start from settled static states: one drive period (both turning points) and
   // a few response times bring them to the periodic regime
-  // (lanes that run alone start from the free-running state instead, and also let the
-  // modes regrow and the gap fill: LANE_SETTLE_FROM_FREE_s more, docs/model.md §4.2)
-  const fromFree = lanesIndependent(engine);
-  plan.settle_s =
-    s.simulation.settle === 'auto'
-      ? Math.max(3 * tContStatic, f ? 1 / f : 0, fromFree ? LANE_SETTLE_FROM_FREE_s : 0)
-      : s.simulation.settle;
-  // analysed window: whole drive periods, holding enough detection windows (the first fills, then >= 3)
-  const minWindow = MIN_DETECTION_WINDOWS / s.analysis.detection_bandwidth;
-  if (f) {
-    const periods = Math.max(s.simulation.periods, Math.ceil(minWindow * f));
-    plan.periods = periods;
-    plan.analysed_s = periods / f;
-  } else plan.analysed_s = Math.max(minWindow, 20 * tContStatic);
+  const w = drivenWindows(s, engine, tContStatic);
+  plan.settle_s = w.settle_s;
+  plan.analysed_s = w.analysed_s;
+  plan.periods = w.periods;
   plan.settleSteps = Math.ceil(plan.settle_s / plan.dt);
   plan.analysedSteps = Math.ceil(plan.analysed_s / plan.dt);
   const lanes = s.simulation.drive_offsets;
@@ -302,6 +290,31 @@ export function planRun(
   plan.laneOffsets_m = stratifiedDraw(lanes, s.laser.wavelength / 2, offsetRng(seed));
   plan.drives = true;
   return plan;
+}
+
+/**
+ * The settle and analysed windows of a driven run, s, and its analysed periods (null for a
+ * still mirror): the settle one drive period and a few static response times (lanes that
+ * start from the free-running state also LANE_SETTLE_FROM_FREE_s, docs/model.md §4.2);
+ * the analysed window whole drive periods holding MIN_DETECTION_WINDOWS detection windows
+ * (the first fills, then the rest count), at least simulation.periods.
+ */
+export function drivenWindows(
+  s: Scenario,
+  engine: DrivenEngine,
+  tContStatic: number,
+): { settle_s: number; analysed_s: number; periods: number | null } {
+  const f = driveMoves(s.drive) ? s.drive.frequency : null;
+  const settle_s =
+    s.simulation.settle === 'auto'
+      ? Math.max(3 * tContStatic, f ? 1 / f : 0, lanesIndependent(engine) ? LANE_SETTLE_FROM_FREE_s : 0)
+      : s.simulation.settle;
+  const minWindow = MIN_DETECTION_WINDOWS / s.analysis.detection_bandwidth;
+  if (f) {
+    const periods = Math.max(s.simulation.periods, Math.ceil(minWindow * f));
+    return { settle_s, analysed_s: periods / f, periods };
+  }
+  return { settle_s, analysed_s: Math.max(minWindow, 20 * tContStatic), periods: null };
 }
 
 /** The random stream the rest offsets are drawn from (first batch and every refinement, in order). */
