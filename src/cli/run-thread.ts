@@ -5,9 +5,9 @@
  * Loaded from the compiled dist/cli/run-thread.js.
  */
 import { parentPort, workerData } from 'node:worker_threads';
-import { runScenario } from '../simulate/run';
 import { runScenarioThreaded } from '../simulate/parallel-run';
 import type { EngineChoice } from '../simulate/run';
+import type { RunArtifacts } from '../results/artifacts';
 import type { Scenario } from '../scenario/schema';
 import type { SpeedCurve } from '../results/speed-curve';
 import { InputError } from '../scenario/errors';
@@ -27,7 +27,7 @@ export interface RunThreadInput {
 /** What the thread posts back. */
 export type RunThreadMessage =
   | { type: 'progress'; fraction: number; label: string }
-  | { type: 'done'; artifacts: ReturnType<typeof runScenario> }
+  | { type: 'done'; artifacts: RunArtifacts }
   | { type: 'error'; message: string; stack: string | null }
   | { type: 'input-error'; file: string | null; problems: InputProblem[] };
 

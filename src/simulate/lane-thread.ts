@@ -65,7 +65,7 @@ export default function work(
   const report = reporter(task.port);
   try {
     if (task.type === 'static') {
-      const stat = computeStatic(task.scenario, task.free, task.staticKind, {
+      const stat = computeStatic(task.scenario, task.free, {
         ...task.options,
         onProgress: (f) => report(f),
       });

@@ -114,50 +114,47 @@ export function staticEngineRequest(s: Scenario, opts: RunOptions): EngineReques
     : 'auto';
 }
 
+/** The engine (kind and step) that settles the references of `s`: the planner's static choice. */
+function staticPlan(s: Scenario, opts: RunOptions) {
+  const { derived, params } = deriveAll(s);
+  const plan = planEngines(
+    s,
+    params,
+    derived.finesse_external,
+    staticSettleTime(params),
+    staticEngineRequest(s, opts),
+  );
+  return { derived, params, kind: plan.static.kind, dt: plan.static.dt };
+}
+
 /** The free-running reference and the engine that settles the static one. */
 export function computeFreeRunning(
   s: Scenario,
   opts: RunOptions = {},
 ): { free: FreeRunningResult; staticKind: EngineKind } {
   const seed = opts.seed ?? s.simulation.seed;
-  const { derived, params } = deriveAll(s);
-  const plan = planEngines(
-    s,
-    params,
-    derived.finesse_external,
-    staticSettleTime(params),
-    staticEngineRequest(s, opts),
-  );
+  const { params, kind } = staticPlan(s, opts);
   const rng = createRng(seed).fork(1);
-  const free =
-    plan.static.kind === 'roundtrip' ? freeRunningRoundTrip(params, rng) : freeRunning(params, rng);
-  return { free, staticKind: plan.static.kind };
+  const free = kind === 'roundtrip' ? freeRunningRoundTrip(params, rng) : freeRunning(params, rng);
+  return { free, staticKind: kind };
 }
 
 /** The static reference from the free-running state (null without an external cavity). */
 export function computeStatic(
   s: Scenario,
   free: FreeRunningResult,
-  staticKind: EngineKind,
   opts: RunOptions = {},
 ): StaticResult | null {
   const seed = opts.seed ?? s.simulation.seed;
-  const { derived, params } = deriveAll(s);
+  const { derived, params, kind, dt } = staticPlan(s, opts);
   if (!params.hasExternal || !Number.isFinite(params.gammaC)) return null;
-  const plan = planEngines(
-    s,
-    params,
-    derived.finesse_external,
-    staticSettleTime(params),
-    staticEngineRequest(s, opts),
-  );
   return staticReference(params, {
     positions: s.simulation.static_positions,
     finesse: derived.finesse_external,
-    settle_s: staticKind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
-    dt: plan.static.dt,
-    engine: staticKind,
-    adaptive: staticKind === 'roundtrip',
+    settle_s: kind === 'roundtrip' ? roundTripStaticSettleTime(params) : staticSettleTime(params),
+    dt,
+    engine: kind,
+    adaptive: kind === 'roundtrip',
     halfWavelength_m: s.laser.wavelength / 2,
     rest_m: s.drive.offset,
     initial: free,
@@ -171,7 +168,7 @@ export function computeReferences(s: Scenario, opts: RunOptions = {}): Reference
   const seed = opts.seed ?? s.simulation.seed;
   const { free, staticKind } = opts.freeRunning ?? computeFreeRunning(s, opts);
   opts.onProgress?.(0, 'static reference');
-  const stat = computeStatic(s, free, staticKind, opts);
+  const stat = computeStatic(s, free, opts);
   return {
     key: referenceKey(s, seed, staticEngineRequest(s, opts)),
     data: { free, stat, wall_s: (Date.now() - t0) / 1000, staticEngine: staticKind },
@@ -549,6 +546,7 @@ export function executeLanes(
   onProgress: (fraction: number) => void,
 ): DrivenResult {
   const half = s.laser.wavelength / 2;
+  const rngs = indices.map((i) => laneRng(plan.seed, batch, i));
   return drivenRun(params, {
     engine: plan.engine as EngineKind,
     dt: plan.dt,
@@ -559,8 +557,9 @@ export function executeLanes(
     settleSteps: plan.settleSteps,
     analysedSteps: plan.analysedSteps,
     ...drivenCommon(s, derived, refs, plan),
-    rng: laneRng(plan.seed, batch, 0),
-    laneRngs: indices.map((i) => laneRng(plan.seed, batch, i)),
+    // the engine draws from laneRngs alone; rng is the first of them, not a stream of its own
+    rng: rngs[0],
+    laneRngs: rngs,
     maxExcursion_m: maxExcursion(s.drive, half, plan.settle_s + plan.analysed_s),
     onProgress,
   });
