@@ -7,8 +7,8 @@
  *
  * Validation: at each validation point the map's mean gap power (computed, or inferred from
  * its cell's corners) is compared with a direct run of that point (directScenario: other
- * rest offsets and noise; the stepping engine `auto` picks, the exact engine when `auto`
- * picks a path that does not step the motion), in units of the combined standard error
+ * rest offsets and noise; the stepping engine `auto` picks, the round-trip engine (the
+ * reference, docs/model.md §3.5) when `auto` picks a path that does not step the motion), in units of the combined standard error
  *   z = |P_map - P_direct| / sqrt(se_map^2 + se_direct^2).
  * The standard error is the summary's `driven.external_mean_stderr_W` where present, else the
  * spread of the per-offset means over the rest offsets, s / sqrt(n) (drivenStderr); for an
@@ -104,7 +104,7 @@ export interface ValidationPoint {
   /** where the errors came from: the summaries' stated error or the spread over offsets */
   stderr_from: string;
   z: number | null;
-  /** the direct run's own wall time (the summary's timing; a rerun on the exact engine counts alone) */
+  /** the direct run's own wall time (the summary's timing; a rerun on the round-trip engine counts alone) */
   direct_wall_s: number;
 }
 
@@ -153,8 +153,8 @@ function mapAnswer(
 /**
  * A direct run of one point, independent of the map's: another noise seed (seed + 1) and
  * the rest offsets moved by half their spacing (lambda / (4 n) for n offsets over lambda / 2),
- * so it samples the positions between the map's; the stepping engine of `auto`, the exact
- * engine where `auto` picks a path that does not step the motion.
+ * so it samples the positions between the map's; the stepping engine of `auto`, the
+ * round-trip engine where `auto` picks a path that does not step the motion.
  */
 export function directScenario(point: Scenario): Scenario {
   const n = point.simulation.drive_offsets;
@@ -165,12 +165,15 @@ export function directScenario(point: Scenario): Scenario {
   };
 }
 
+/** Engines that step the motion itself (the rest build the drive's statistics from references or curves). */
+const STEPPING_ENGINES = new Set(['roundtrip', 'exact', 'fast']);
+
 async function directRun(exec: Executor, point: Scenario): Promise<RunArtifacts> {
   const s = directScenario(point);
   const first = await exec.run({ type: 'run', scenario: s });
-  const stepped = first.summary.engine === 'exact' || first.summary.engine === 'fast';
-  if (stepped || first.summary.status !== 'ok') return first;
-  return exec.run({ type: 'run', scenario: { ...s, simulation: { ...s.simulation, engine: 'exact' } } });
+  if (STEPPING_ENGINES.has(first.summary.engine ?? '') || first.summary.status !== 'ok') return first;
+  // `auto` took a path that does not step the motion: step it on the reference engine
+  return exec.run({ type: 'run', scenario: { ...s, simulation: { ...s.simulation, engine: 'roundtrip' } } });
 }
 
 /**
