@@ -8,7 +8,7 @@ import { executeLanes, laneGroups, planRun, runScenario, computeReferences } fro
 import { runScenarioThreaded } from '../src/simulate/parallel-run';
 import { aitkenLimit } from '../src/simulate/references';
 import { deriveAll } from '../src/physics/derive';
-import { laserInput, scenario } from './fixtures/engine/build';
+import { laserInput, scenario, slowDriveScenario } from './fixtures/engine/build';
 import { LORENTZ_10GHZ } from './fixtures/engine/roundtrip';
 
 // homogeneous Lorentzian gain 10 GHz wide on a 10 cm laser: a band the round-trip engine
@@ -56,6 +56,24 @@ describe('threaded run', () => {
     expect(withoutTiming(two as unknown as Record<string, unknown>)).toEqual(
       withoutTiming(one as unknown as Record<string, unknown>),
     );
+  });
+
+  it('gives the one-thread summary on the slow-drive path (speed points and window lane groups as tasks)', async () => {
+    // 8 rest offsets: two lane groups per turning-point window
+    const base = slowDriveScenario('4 kHz', 'speedcurve');
+    const s = { ...base, simulation: { ...base.simulation, drive_offsets: 8 } };
+    const one = runScenario(s);
+    const two = await runScenarioThreaded(s, { threads: 2 });
+    expect(one.summary.status).toBe('ok');
+    expect(one.summary.engine).toBe('speedcurve');
+    expect(one.summary.driven!.offsets_used).toBe(8);
+    // every point and window part starts from the free-running state on its own noise stream
+    expect(withoutTiming(two.summary as unknown as Record<string, unknown>)).toEqual(
+      withoutTiming(one.summary as unknown as Record<string, unknown>),
+    );
+    const points = (c: typeof one.speed_curve) =>
+      c ? [...c.forward, ...c.backward].map((q) => [q.speed_m_s, q.external_mean_W]) : null;
+    expect(points(two.speed_curve)).toEqual(points(one.speed_curve));
   });
 
   it('steps each round-trip lane the same whichever lanes share its engine', () => {

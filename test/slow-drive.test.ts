@@ -11,28 +11,9 @@ import { deriveAll } from '../src/physics/derive';
 import { ensureSpeedCurve, memoryTime, speedCurveKey } from '../src/simulate/speed-curve';
 import { planEngines, slowDriveCheck, SLOW_DRIVE_MAX_MEMORY_RATIO } from '../src/simulate/engine-choice';
 import type { SpeedCurve } from '../src/results/speed-curve';
-import { laserInput, scenario } from './fixtures/engine/build';
+import { slowDriveScenario } from './fixtures/engine/build';
 
-/** A fast test laser: photon lifetime 9 ns, memory time about 0.45 us; a 5 cm gap of finesse about 30. */
-const mk = (frequency: string, engine: string, returnToLaser = true) =>
-  scenario({
-    laser: laserInput({
-      cavity_length: '15 cm',
-      R1: 0.999,
-      R2: 0.9,
-      gain: { pump_ratio: 2, inversion_lifetime: '2 ns', spontaneous_power: 1e-9, saturation_power: '10 mW' },
-    }),
-    external: {
-      length: '5 cm',
-      return_mirror: { reflectivity: 0.9 },
-      feedback_efficiency: 0.3,
-      roundtrip_efficiency: 1,
-      return_to_laser: returnToLaser,
-    },
-    drive: { waveform: 'sine', amplitude: '4 um', frequency },
-    simulation: { engine: engine as 'auto', drive_offsets: 4, periods: 2, static_positions: 32, seed: 3 },
-    analysis: { detection_bandwidth: '10 kHz', hop_dwell: '20 ns' },
-  });
+const mk = slowDriveScenario;
 
 describe('speed curve', () => {
   it('with the feedback ignored, a mirror at constant speed fills the gap with the Airy phase average', () => {
@@ -50,7 +31,6 @@ describe('speed curve', () => {
         p: params,
         finesse: derived.finesse_external,
         regrowth_s: 4e-6,
-        stat: refs.data.stat!,
         free: refs.data.free,
         seed: 3,
         requested: 'auto',

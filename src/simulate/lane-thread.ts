@@ -1,6 +1,8 @@
 /**
  * The work one thread of a threaded run does (parallel-run.ts, docs/model.md §4.2): the
- * static reference, or a group of independent driven lanes. Each task carries the scenario, the
+ * static reference, a group of independent driven lanes, a point of the slow-drive path's
+ * speed curve or a lane group of one of its turning-point windows (docs/model.md §3.6).
+ * Each task carries the scenario, the
  * free-running reference and (for a lane) the plan, so the thread recomputes nothing
  * that could differ from the caller's. Progress goes back on the task's own port.
  *
@@ -12,8 +14,13 @@ import type { EngineKind } from '../physics/coupled/factory';
 import { deriveAll } from '../physics/derive';
 import type { FreeRunningResult, StaticResult } from './references';
 import type { DrivenResult } from './driven';
-import { computeStatic, executeLanes } from './run';
+import { computeStatic, executeLanes, slowInput, staticSettleTime } from './run';
 import type { RunOptions, RunPlan } from './run';
+import type { SpeedPoint } from '../results/speed-curve';
+import { speedPoint } from './speed-curve';
+import type { SpeedTodo } from './speed-curve';
+import { planSlow, slowStepOptions, stepSlowWindow } from './slow-drive';
+import type { WindowPart } from './slow-drive';
 
 interface TaskBase {
   scenario: Scenario;
@@ -39,7 +46,24 @@ export interface LaneTask extends TaskBase {
   indices: number[];
 }
 
-export type LaneThreadTask = StaticTask | LaneTask;
+/** One point of the speed curve (speed-curve.ts speedPoint). */
+export interface SpeedPointTask extends TaskBase {
+  type: 'speed-point';
+  point: SpeedTodo;
+  memory_s: number;
+}
+
+/** Lanes `lanes` of turning-point window `window` of a batch (slow-drive.ts stepSlowWindow). */
+export interface WindowTask extends TaskBase {
+  type: 'window';
+  plan: RunPlan;
+  offsets_m: number[];
+  batch: number;
+  window: number;
+  lanes: number[];
+}
+
+export type LaneThreadTask = StaticTask | LaneTask | SpeedPointTask | WindowTask;
 
 /** What a task returns: its result and the thread-seconds it took. */
 export interface LaneThreadResult<R> {
@@ -60,9 +84,14 @@ function reporter(port: MessagePort): (fraction: number) => void {
 
 export default function work(
   task: LaneThreadTask,
-): LaneThreadResult<StaticResult | null> | LaneThreadResult<DrivenResult> {
+):
+  | LaneThreadResult<StaticResult | null>
+  | LaneThreadResult<DrivenResult>
+  | LaneThreadResult<SpeedPoint | string>
+  | LaneThreadResult<WindowPart> {
   const t0 = Date.now();
   const report = reporter(task.port);
+  const done = <R>(result: R): LaneThreadResult<R> => ({ result, wall_s: (Date.now() - t0) / 1000 });
   try {
     if (task.type === 'static') {
       const stat = computeStatic(task.scenario, task.free, {
@@ -70,25 +99,34 @@ export default function work(
         onProgress: (f) => report(f),
       });
       // the settled states stay on this thread: the lanes of a threaded run start from the free-running state
-      return { result: stat ? { ...stat, store: null } : null, wall_s: (Date.now() - t0) / 1000 };
+      return done(stat ? { ...stat, store: null } : null);
     }
     const { derived, params } = deriveAll(task.scenario);
+    const s = task.scenario;
+    if (task.type === 'speed-point') {
+      const ctx = {
+        s,
+        p: params,
+        finesse: derived.finesse_external,
+        regrowth_s: staticSettleTime(params),
+        free: task.free,
+        seed: task.options.seed ?? s.simulation.seed,
+        requested: s.simulation.engine,
+      };
+      return done(speedPoint(ctx, task.point[0], task.point[1], task.memory_s));
+    }
     const refs = {
       key: '',
       data: { free: task.free, stat: null, wall_s: 0, staticEngine: task.staticKind },
     };
-    const result = executeLanes(
-      task.scenario,
-      params,
-      derived,
-      refs,
-      task.plan,
-      task.offsets_m,
-      task.batch,
-      task.indices,
-      report,
+    if (task.type === 'window') {
+      const input = slowInput(s, params, derived, refs, task.plan, task.offsets_m, task.batch);
+      const o = slowStepOptions(input);
+      return done(stepSlowWindow(params, o, planSlow(o), task.window, task.lanes));
+    }
+    return done(
+      executeLanes(s, params, derived, refs, task.plan, task.offsets_m, task.batch, task.indices, report),
     );
-    return { result, wall_s: (Date.now() - t0) / 1000 };
   } finally {
     task.port.close();
   }

@@ -25,10 +25,24 @@ import {
   planRun,
   referenceKey,
   runScenario,
+  slowInput,
   staticEngineRequest,
 } from './run';
 import type { BatchRequest, ConvergedRun, References, RunOptions } from './run';
-import type { LaneTask, LaneThreadResult, StaticTask } from './lane-thread';
+import type { LaneTask, LaneThreadResult, SpeedPointTask, StaticTask, WindowTask } from './lane-thread';
+import type { SpeedCurve, SpeedPoint } from '../results/speed-curve';
+import {
+  addSpeedPoint,
+  finishSpeedCurve,
+  FREE_START_MEMORY_TIMES,
+  speedPointCost,
+  speedRefinement,
+  startSpeedCurve,
+} from './speed-curve';
+import type { SpeedTodo } from './speed-curve';
+import { planSlow, slowNote, slowOptions, slowSpeedRange, slowStepOptions, spliceSlow } from './slow-drive';
+import type { WindowPart } from './slow-drive';
+import { failedDriven } from './driven';
 
 /** The compiled thread file: beside this module in dist/, else dist/simulate/ of the package. */
 export function laneThreadFile(): string {
@@ -62,7 +76,9 @@ export async function runScenarioThreaded(
     data: { free, stat: null, wall_s: 0, staticEngine: staticKind },
   };
   const plan = planRun(s, params, derived, refs, { ...rest, seed });
-  if (!plan.drives || !lanesIndependent(plan.engine)) return runScenario(s, { ...rest, freeRunning });
+  const slow = plan.engine === 'speedcurve';
+  if (!plan.drives || !(lanesIndependent(plan.engine) || slow))
+    return runScenario(s, { ...rest, freeRunning });
 
   const pool = new Piscina({
     filename: laneThreadFile(),
@@ -86,7 +102,11 @@ export async function runScenarioThreaded(
   };
   /** Run a task on the pool, its progress on a port of its own. */
   const submit = <R>(
-    task: Omit<StaticTask, 'port'> | Omit<LaneTask, 'port'>,
+    task:
+      | Omit<StaticTask, 'port'>
+      | Omit<LaneTask, 'port'>
+      | Omit<SpeedPointTask, 'port'>
+      | Omit<WindowTask, 'port'>,
     onFraction: (f: number) => void,
   ) => {
     const { port1, port2 } = new MessageChannel();
@@ -112,6 +132,100 @@ export async function runScenarioThreaded(
     let drivenThread_s = 0;
     const loop = convergingBatches(s, plan);
     let step = loop.next();
+    // the slow-drive path (docs/model.md §3.6): its speed curve's points and its windows' lane
+    // groups are tasks beside the static reference; the splice waits for the static reference
+    // (its energy balance joins the result's), as on one thread
+    let curve: SpeedCurve | null = plan.slow.curve ?? plan.slow.prior;
+    while (slow && !step.done) {
+      const q = step.value;
+      batch = q;
+      const input = slowInput(s, params, derived, refs, plan, q.offsets, q.batch);
+      const stepOpts = slowStepOptions(input);
+      const slowPlan = planSlow(stepOpts);
+      const range = slowSpeedRange(input);
+      const started = startSpeedCurve(curve, input, range.vLo, range.vHi);
+      const work = started.work;
+      // weights for the progress bar: lane-steps of each task (a window's lanes at the step of its slowest stretch)
+      const windowDt = stepOpts.windowEngine(range.vLo).dt;
+      const windowCost = slowPlan.chosen.map(
+        (tp) => (tp.before + tp.after + FREE_START_MEMORY_TIMES * work.memory_s) / windowDt,
+      );
+      const tasks: { weight: number; fraction: number }[] = [];
+      const track = (weight: number) => {
+        const entry = { weight, fraction: 0 };
+        tasks.push(entry);
+        laneFractions = [0];
+        return (f: number) => {
+          entry.fraction = f;
+          const total = tasks.reduce((a, x) => a + x.weight, 0);
+          laneFractions = [tasks.reduce((a, x) => a + x.weight * x.fraction, 0) / Math.max(1e-300, total)];
+          tell();
+        };
+      };
+      const windowParts = Promise.all(
+        slowPlan.chosen.flatMap((_tp, w) =>
+          input.laneGroups.map((lanes) => {
+            const onFraction = track(windowCost[w] * lanes.length);
+            return submit<WindowPart>(
+              {
+                type: 'window',
+                scenario: s,
+                options,
+                free,
+                staticKind,
+                plan,
+                offsets_m: q.offsets,
+                batch: q.batch,
+                window: w,
+                lanes,
+              },
+              onFraction,
+            ).then((r) => {
+              onFraction(1);
+              drivenThread_s += r.wall_s;
+              return r.result;
+            });
+          }),
+        ),
+      );
+      const points = async (todo: SpeedTodo[]): Promise<string | null> => {
+        const results = await Promise.all(
+          todo.map((point) => {
+            const onFraction = track(speedPointCost(input, point[0], work.memory_s));
+            return submit<SpeedPoint | string>(
+              { type: 'speed-point', scenario: s, options, free, staticKind, point, memory_s: work.memory_s },
+              onFraction,
+            ).then((r) => {
+              onFraction(1);
+              drivenThread_s += r.wall_s;
+              return r.result;
+            });
+          }),
+        );
+        for (let i = 0; i < todo.length; i++) {
+          const r = results[i];
+          if (typeof r === 'string') return r;
+          addSpeedPoint(work, input, todo[i], r);
+        }
+        return null;
+      };
+      const curveError = (await points(started.todo)) ?? (await points(speedRefinement(work)));
+      const parts = await windowParts;
+      let driven: DrivenResult;
+      if (curveError !== null) {
+        driven = failedDriven(`speed curve: ${curveError}`, 0, 0);
+      } else {
+        curve = finishSpeedCurve(work);
+        const statResult = await statTask;
+        const withStat = { ...input, stat: statResult.result };
+        driven = spliceSlow(params, slowOptions(withStat, curve), slowPlan, parts);
+        const noted = slowNote(curve, driven, plan.analysed_s);
+        plan.slow.curve = curve;
+        plan.slow.note = noted.note;
+        plan.analysed_s = noted.analysed_s;
+      }
+      step = loop.next(driven);
+    }
     while (!step.done) {
       const q = step.value;
       batch = q;

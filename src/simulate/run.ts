@@ -32,6 +32,7 @@ import { combineBudgets, peakIntensityOf } from './budget';
 import type { SpeedCurve } from '../results/speed-curve';
 import { memoryTime } from './speed-curve';
 import { slowDriveRun } from './slow-drive';
+import type { SlowDriveRunInput } from './slow-drive';
 import { drivenRun, DrivenResult } from './driven';
 import { drivenAdiabatic } from './adiabatic';
 import {
@@ -524,8 +525,12 @@ function drivenCommon(s: Scenario, derived: Derived, refs: References, plan: Run
     traceBuckets: Math.floor(s.simulation.trace_points / 2),
     spectralSpread_Hz: spread,
     // mode slot of the optical spectrum: the strongest mode of the static reference (up
-    // branch at position 0), or of the free-running laser when the lanes run alone
-    spectrumMode: lanesIndependent(plan.engine) || !stat ? strongest(free.modePowers_W) : stat.up[0].dominant,
+    // branch at position 0), or of the free-running laser when the lanes (or the slow
+    // path's windows) start from it
+    spectrumMode:
+      lanesIndependent(plan.engine) || plan.engine === 'speedcurve' || !stat
+        ? strongest(free.modePowers_W)
+        : stat.up[0].dominant,
   };
 }
 
@@ -565,6 +570,36 @@ export function executeLanes(
   });
 }
 
+/**
+ * What the slow-drive path needs for one batch of lanes, on any thread (docs/model.md §3.6):
+ * the stepping engines follow the scenario's request, the windows' noise the batch.
+ */
+export function slowInput(
+  s: Scenario,
+  params: CoupledParams,
+  derived: Derived,
+  refs: References,
+  plan: RunPlan,
+  laneOffsets_m: number[],
+  batch: number,
+): Omit<SlowDriveRunInput, 'prior' | 'onProgress'> {
+  return {
+    laneGroups: laneGroups(laneOffsets_m.length),
+    batch,
+    s,
+    p: params,
+    finesse: derived.finesse_external,
+    regrowth_s: staticSettleTime(params),
+    stat: refs.data.stat,
+    free: refs.data.free,
+    seed: plan.seed,
+    requested: s.simulation.engine,
+    laneOffsets_m,
+    analysed_s: plan.analysed_s,
+    common: drivenCommon(s, derived, refs, plan),
+  };
+}
+
 /** Step the planned driven run (time-stepping engine or adiabatic path) for the given lanes; batch numbers the noise stream. */
 export function executeRun(
   s: Scenario,
@@ -584,18 +619,8 @@ export function executeRun(
     // slow-drive path (docs/model.md §3.6): its own module, the same DrivenResult shape; the
     // speed curve is computed once and extended by later batches
     const slow = slowDriveRun({
-      s,
-      p: params,
-      finesse: derived.finesse_external,
-      regrowth_s: staticSettleTime(params),
-      stat,
-      free,
-      seed: plan.seed,
-      requested: s.simulation.engine,
+      ...slowInput(s, params, derived, refs, plan, laneOffsets_m, batch),
       prior: plan.slow.curve ?? plan.slow.prior,
-      laneOffsets_m,
-      analysed_s: plan.analysed_s,
-      common,
       onProgress,
     });
     plan.slow.curve = slow.curve;

@@ -12,10 +12,13 @@
  *   falls below v_w (windowEdge: the largest of WINDOW_EDGE a tau_mem, a the acceleration
  *   at the turning point; a fiftieth of the peak speed; and the speed at which a detector
  *   window spans WINDOW_BAND_HALF_WAVES half wavelengths)
- *   to TAIL memory times after it rises above v_w again, preceded by LEAD memory times of
- *   lead-in from the settled static state at the lane's position (the static curve at a
- *   random rest position: the lanes keep the run's rest offsets); the lanes' fields there
- *   are the real ones, with the true turning-point dip, the lag after it, and its hops;
+ *   to TAIL memory times after it rises above v_w again, preceded by a lead-in of
+ *   FREE_START_MEMORY_TIMES memory times from the free-running state (the lanes keep the
+ *   run's rest offsets, so the turning points fall at random places on the fringes); the
+ *   lanes' fields there are the real ones, with the true turning-point dip, the lag after
+ *   it, and its hops. Windows and speed points depend on nothing but the scenario and
+ *   the free-running state, so a threaded run computes them beside the static reference
+ *   (parallel-run.ts, docs/model.md §4.2);
  * - both are spliced, sample by sample, into one series per lane, which goes through the
  *   same analysis as every engine's (DrivenAnalysis): statistics, the detection-band
  *   boxcar (so the in-band ripple comes from the stepped turning points, not from the
@@ -41,7 +44,13 @@ import type { SpeedCurve } from '../results/speed-curve';
 import { AnalysisOptions, DrivenAnalysis, DrivenResult, failedDriven } from './driven';
 import { externalPowerOf, laserOutputOf } from './references';
 import type { FreeRunningResult, StaticResult } from './references';
-import { curveAt, ensureSpeedCurve, memoryTime, startFromStatic, steppingEngineFor } from './speed-curve';
+import {
+  curveAt,
+  ensureSpeedCurve,
+  FREE_START_MEMORY_TIMES,
+  memoryTime,
+  steppingEngineFor,
+} from './speed-curve';
 import type { SpeedCurveContext } from './speed-curve';
 import { totalPeakSpeed } from './engine-choice';
 
@@ -65,7 +74,7 @@ export const WINDOW_BAND_HALF_WAVES = 3;
 export const WINDOW_TAIL = 3;
 /** Memory times collected before the speed falls below v_w. */
 export const WINDOW_BEFORE = 1;
-/** Memory times of lead-in from the static state before collection starts. */
+/** Memory times of lead-in before collection starts (at least FREE_START_MEMORY_TIMES: the lanes start from the free-running state). */
 export const WINDOW_LEAD = 3;
 /** Most distinct turning points stepped for a drive that does not repeat every period. */
 export const MAX_WINDOWS = 16;
@@ -83,8 +92,13 @@ export interface SlowDriveOptions extends Omit<AnalysisOptions, 'hopMargin'> {
   /** stepping engine for the turning-point windows */
   windowEngine: (maxSpeed_m_s: number) => { kind: EngineKind; dt: number };
   curve: SpeedCurve;
-  stat: StaticResult;
+  /** the static reference, for its energy balance in the result's (null: not counted) */
+  stat: StaticResult | null;
   free: FreeRunningResult;
+  /** the batch's lanes in the groups their windows are stepped in (one part per group and window) */
+  laneGroups: number[][];
+  /** batch number: the windows' noise streams */
+  batch?: number;
   onProgress?: (fraction: number) => void;
 }
 
@@ -203,10 +217,35 @@ function widened<T extends { count: number; variance: number; min: number; max: 
   };
 }
 
-/** Run the slow-drive path; see the file comment. */
-export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult {
-  const L = o.laneOffsets_m.length;
-  const M = p.M;
+/** The slow path's plan: its sample grid and turning points, the same on every thread. */
+export interface SlowPlan {
+  dt_s: number;
+  samples: number;
+  /** time the samples cover, s */
+  T: number;
+  analysed_s: number;
+  f: number;
+  periodic: boolean;
+  tps: TurningPoint[];
+  /** the turning points stepped (windows), in order */
+  chosen: TurningPoint[];
+}
+
+/** What planning the slow path needs. */
+export type SlowPlanOptions = Pick<
+  SlowDriveOptions,
+  | 'drive'
+  | 'seed'
+  | 'driveFrequency_Hz'
+  | 'detectionBandwidth_Hz'
+  | 'hopDwell_s'
+  | 'analysed_s'
+  | 'halfWavelength_m'
+  | 'memory_s'
+>;
+
+/** The sample grid and the turning points of the drive, and which of them are stepped. */
+export function planSlow(o: SlowPlanOptions): SlowPlan {
   const tau = o.memory_s;
   const motion = createDrive(o.drive, o.seed);
   const f = o.driveFrequency_Hz ?? 0;
@@ -226,8 +265,6 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     dt_s = analysed_s / samples;
   }
   const T = samples * dt_s;
-
-  // ---- turning points and their windows
   const vPeakLocal = (t: number) => {
     let vp = 0;
     const span = f > 0 ? 0.5 / f : T;
@@ -248,7 +285,6 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     while (Math.abs(motion.velocity(r.t + a)) < vw && a < 0.5 / Math.max(f, 1 / T)) a += stepT;
     return { ...r, before: b + WINDOW_BEFORE * tau, after: a + WINDOW_TAIL * tau, stepped: -1 };
   });
-
   const chosen: TurningPoint[] = [];
   for (const tp of tps) {
     const same = chosen.filter((c) => c.dir === tp.dir);
@@ -256,12 +292,7 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
       tp.stepped = chosen.indexOf(same[0]);
       continue;
     }
-    if (!periodic && chosen.length < MAX_WINDOWS) {
-      tp.stepped = chosen.length;
-      chosen.push(tp);
-      continue;
-    }
-    if (periodic) {
+    if (periodic || chosen.length < MAX_WINDOWS) {
       tp.stepped = chosen.length;
       chosen.push(tp);
       continue;
@@ -277,56 +308,221 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
     tp.before = chosen[tp.stepped].before;
     tp.after = chosen[tp.stepped].after;
   }
+  return { dt_s, samples, T, analysed_s, f, periodic, tps, chosen };
+}
 
-  // ---- step the chosen windows
-  const windows: SteppedWindow[] = [];
-  let laneSteps = 0;
-  let steps = 0;
-  let worstBalance = 0;
-  let mismatch = 0;
-  const rng = createRng(o.seed).fork(7);
+/** Some lanes of one stepped turning-point window. */
+export interface WindowPart {
+  window: number;
+  /** the lanes' places in the batch */
+  lanes: number[];
+  /** per lane of `lanes`, per sample bin: gap power, laser output, intracavity, returned, dominant mode */
+  ext: Float64Array[];
+  out: Float64Array[];
+  ic: Float64Array[];
+  ret: Float64Array[];
+  dom: Int32Array[];
+  /** per lane, mode powers, bin-major (M per bin) */
+  modes: Float64Array[];
+  steps: number;
+  laneSteps: number;
+  worstBalance: number;
+  /** sum over the lanes of their mode mismatch */
+  mismatchSum: number;
+  failed: string | null;
+}
+
+/** What stepping a window needs (no curve, no static reference). */
+export type SlowStepOptions = SlowPlanOptions &
+  Pick<SlowDriveOptions, 'laneOffsets_m' | 'windowEngine' | 'free'> & { batch: number };
+
+/**
+ * Step window `w` of the plan for the lanes `lanes` (places in the batch) of batch `batch`:
+ * from the free-running state, FREE_START_MEMORY_TIMES memory times of lead-in before the
+ * collection starts, on a noise stream of its own (seed, batch, window, first lane), so a
+ * part's result does not depend on the thread or the order it runs in.
+ */
+export function stepSlowWindow(
+  p: CoupledParams,
+  o: SlowStepOptions,
+  plan: SlowPlan,
+  w: number,
+  lanes: number[],
+): WindowPart {
+  const M = p.M;
+  const L = lanes.length;
+  const tau = o.memory_s;
+  const motion = createDrive(o.drive, o.seed);
+  const { dt_s } = plan;
+  const tp = plan.chosen[w];
   const half = o.halfWavelength_m;
   const rest = o.drive.offset;
-  for (let w = 0; w < chosen.length; w++) {
-    const tp = chosen[w];
-    const tStart = tp.t - tp.before - WINDOW_LEAD * tau;
-    const tEnd = tp.t + tp.after;
-    let vMax = 0;
-    for (let i = 0; i <= 64; i++)
-      vMax = Math.max(vMax, Math.abs(motion.velocity(tStart + ((tEnd - tStart) * i) / 64)));
-    const eng = o.windowEngine(Math.max(vMax, 1e-12));
-    // The window runs with the motion translated by whole half wavelengths to near the rest
-    // position: the fields depend on the position modulo lambda / 2 (up to the gap length's
-    // own change, 2 A / L2, a shift of the modes' phases by under 0.1 rad for a 1 mm stroke on
-    // a 9 cm gap), the lanes start from static states settled there, and the delay line's
-    // history stays sized for a short excursion.
-    const shift = Math.round((motion.position(tp.t) - rest) / half) * half;
-    const local = {
-      position: (t: number) => motion.position(t) - shift,
-      velocity: (t: number) => motion.velocity(t),
-    };
-    const e = createLaneEngine(
-      {
-        kind: eng.kind,
-        dt: eng.dt,
-        maxExcursion_m: Math.abs(rest) + 2 * half + windowTravel(local, tStart, tEnd),
-      },
-      p,
-      L,
-      local,
-      rng.fork(w),
-    );
-    e.setLaserState(o.free.Er, o.free.Ei, o.free.N);
-    o.laneOffsets_m.forEach((x, l) => (e.offset[l] = x));
-    const x0 = local.position(tStart) - rest;
-    startFromStatic(e, o.stat, (l) => o.laneOffsets_m[l] + x0);
-    e.t = tStart;
-    const lead = Math.max(1, Math.round((tp.t - tp.before - tStart) / eng.dt));
-    if (!e.advance(lead)) return failedDriven(e.failMessage, steps, laneSteps);
-    e.resetEnergy();
+  const lead_s = Math.max(WINDOW_LEAD, FREE_START_MEMORY_TIMES) * tau;
+  const tStart = tp.t - tp.before - lead_s;
+  const tEnd = tp.t + tp.after;
+  let vMax = 0;
+  for (let i = 0; i <= 64; i++)
+    vMax = Math.max(vMax, Math.abs(motion.velocity(tStart + ((tEnd - tStart) * i) / 64)));
+  const eng = o.windowEngine(Math.max(vMax, 1e-12));
+  // The window runs with the motion translated by whole half wavelengths to near the rest
+  // position: the fields depend on the position modulo lambda / 2 (up to the gap length's
+  // own change, 2 A / L2, a shift of the modes' phases by under 0.1 rad for a 1 mm stroke on
+  // a 9 cm gap), and the delay line's history stays sized for a short excursion.
+  const shift = Math.round((motion.position(tp.t) - rest) / half) * half;
+  const local = {
+    position: (t: number) => motion.position(t) - shift,
+    velocity: (t: number) => motion.velocity(t),
+  };
+  const rng = createRng(o.seed)
+    .fork(7)
+    .fork(o.batch)
+    .fork(w)
+    .fork(lanes[0] ?? 0);
+  const e = createLaneEngine(
+    {
+      kind: eng.kind,
+      dt: eng.dt,
+      maxExcursion_m: Math.abs(rest) + 2 * half + windowTravel(local, tStart, tEnd),
+    },
+    p,
+    L,
+    local,
+    rng,
+  );
+  e.setLaserState(o.free.Er, o.free.Ei, o.free.N);
+  lanes.forEach((i, l) => (e.offset[l] = o.laneOffsets_m[i]));
+  e.t = tStart;
+  const k0 = Math.round((tp.t - tp.before) / dt_s) - Math.round(tp.t / dt_s);
+  const k1 = Math.round((tp.t + tp.after) / dt_s) - Math.round(tp.t / dt_s);
+  const nBins = k1 - k0;
+  const part: WindowPart = {
+    window: w,
+    lanes,
+    ext: Array.from({ length: L }, () => new Float64Array(nBins)),
+    out: Array.from({ length: L }, () => new Float64Array(nBins)),
+    ic: Array.from({ length: L }, () => new Float64Array(nBins)),
+    ret: Array.from({ length: L }, () => new Float64Array(nBins)),
+    dom: Array.from({ length: L }, () => new Int32Array(nBins)),
+    modes: Array.from({ length: L }, () => new Float64Array(nBins * M)),
+    steps: 0,
+    laneSteps: 0,
+    worstBalance: 0,
+    mismatchSum: 0,
+    failed: null,
+  };
+  const lead = Math.max(1, Math.round((tp.t - tp.before - tStart) / eng.dt));
+  if (!e.advance(lead)) return { ...part, failed: e.failMessage, steps: lead, laneSteps: lead * L };
+  e.resetEnergy();
+  const count = new Float64Array(nBins);
+  const kTp = Math.round(tp.t / dt_s);
+  const total = Math.ceil((tp.t + tp.after - e.t) / eng.dt);
+  const ok = e.advance(total, (en) => {
+    const bin = Math.floor(en.t / dt_s + 0.5) - kTp - k0;
+    if (bin < 0 || bin >= nBins) return;
+    count[bin]++;
+    for (let l = 0; l < L; l++) {
+      part.ext[l][bin] += externalPowerOf(en, l);
+      part.out[l][bin] += laserOutputOf(en, l);
+      for (let m = 0; m < M; m++) {
+        const j = l * M + m;
+        const pm = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
+        part.ic[l][bin] += pm;
+        part.ret[l][bin] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
+        part.modes[l][bin * M + m] += pm;
+      }
+    }
+  });
+  part.steps = lead + total;
+  part.laneSteps = (lead + total) * L;
+  if (!ok) return { ...part, failed: e.failMessage };
+  for (let l = 0; l < L; l++) {
+    const bal = balanceErrors(e, l);
+    part.worstBalance = Math.max(part.worstBalance, bal.laser, bal.external);
+    part.mismatchSum += bal.mismatch;
+  }
+  // bins the engine's step skipped (dt_s < engine step) take the previous bin's values
+  for (let k = 0; k < nBins; k++) {
+    const c = count[k];
+    for (let l = 0; l < L; l++) {
+      for (const a of [part.ext[l], part.out[l], part.ic[l], part.ret[l]]) {
+        if (c > 0) a[k] /= c;
+        else if (k > 0) a[k] = a[k - 1];
+      }
+      const mp = part.modes[l];
+      for (let m = 0; m < M; m++) {
+        if (c > 0) mp[k * M + m] /= c;
+        else if (k > 0) mp[k * M + m] = mp[(k - 1) * M + m];
+      }
+      // dominant mode of the bin from its mean mode powers
+      let d = 0;
+      for (let m = 1; m < M; m++) if (mp[k * M + m] > mp[k * M + d]) d = m;
+      part.dom[l][k] = d;
+    }
+  }
+  return part;
+}
+
+/**
+ * Every window of the plan for every lane of the batch, on this thread, in the lane groups
+ * given (the same parts a threaded run computes).
+ */
+export function stepSlowWindows(
+  p: CoupledParams,
+  o: SlowStepOptions,
+  plan: SlowPlan,
+  groups: number[][],
+  onProgress?: (fraction: number) => void,
+): WindowPart[] {
+  const parts: WindowPart[] = [];
+  const n = plan.chosen.length * groups.length;
+  for (let w = 0; w < plan.chosen.length; w++)
+    for (const g of groups) {
+      const part = stepSlowWindow(p, o, plan, w, g);
+      parts.push(part);
+      onProgress?.(parts.length / n);
+      if (part.failed) return parts;
+    }
+  return parts;
+}
+
+/** Run the slow-drive path on this thread; see the file comment. */
+export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult {
+  const plan = planSlow(o);
+  const parts = stepSlowWindows(p, { ...o, batch: o.batch ?? 0 }, plan, o.laneGroups, (x) =>
+    o.onProgress?.(0.8 * x),
+  );
+  return spliceSlow(p, o, plan, parts);
+}
+
+/**
+ * Splice the stepped windows (parts, in any order) into the speed curve's statistics and
+ * analyse the series (see the file comment).
+ */
+export function spliceSlow(
+  p: CoupledParams,
+  o: SlowDriveOptions,
+  plan: SlowPlan,
+  parts: WindowPart[],
+): DrivenResult {
+  const L = o.laneOffsets_m.length;
+  const M = p.M;
+  const tau = o.memory_s;
+  const motion = createDrive(o.drive, o.seed);
+  const { dt_s, samples, analysed_s, T, f, tps, chosen } = plan;
+  let steps = 0;
+  let laneSteps = 0;
+  let worstBalance = 0;
+  let mismatch = 0;
+  for (const part of parts) {
+    steps += part.steps;
+    laneSteps += part.laneSteps;
+    worstBalance = Math.max(worstBalance, part.worstBalance);
+    mismatch += part.mismatchSum / (L * chosen.length);
+  }
+  const failed = parts.find((x) => x.failed !== null);
+  if (failed) return failedDriven(failed.failed as string, steps, laneSteps);
+  const windows: SteppedWindow[] = chosen.map((tp, w) => {
     const k0 = Math.round((tp.t - tp.before) / dt_s) - Math.round(tp.t / dt_s);
-    const k1 = Math.round((tp.t + tp.after) / dt_s) - Math.round(tp.t / dt_s);
-    const nBins = k1 - k0;
     const sw: SteppedWindow = {
       t: tp.t,
       dir: tp.dir,
@@ -334,70 +530,29 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
       before: tp.before,
       after: tp.after,
       rel0: k0,
-      ext: Array.from({ length: L }, () => new Float64Array(nBins)),
-      out: Array.from({ length: L }, () => new Float64Array(nBins)),
-      ic: Array.from({ length: L }, () => new Float64Array(nBins)),
-      ret: Array.from({ length: L }, () => new Float64Array(nBins)),
-      dom: Array.from({ length: L }, () => new Int32Array(nBins)),
-      modes: Array.from({ length: L }, () => new Float64Array(nBins * M)),
+      ext: new Array<Float64Array>(L),
+      out: new Array<Float64Array>(L),
+      ic: new Array<Float64Array>(L),
+      ret: new Array<Float64Array>(L),
+      dom: new Array<Int32Array>(L),
+      modes: new Array<Float64Array>(L),
       spliceMismatch: 0,
     };
-    const count = new Float64Array(nBins);
-    const kTp = Math.round(tp.t / dt_s);
-    const total = Math.ceil((tp.t + tp.after - e.t) / eng.dt);
-    const ok = e.advance(total, (en) => {
-      const bin = Math.floor(en.t / dt_s + 0.5) - kTp - k0;
-      if (bin < 0 || bin >= nBins) return;
-      count[bin]++;
-      for (let l = 0; l < L; l++) {
-        sw.ext[l][bin] += externalPowerOf(en, l);
-        sw.out[l][bin] += laserOutputOf(en, l);
-        for (let m = 0; m < M; m++) {
-          const j = l * M + m;
-          const pm = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
-          sw.ic[l][bin] += pm;
-          sw.ret[l][bin] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
-          sw.modes[l][bin * M + m] += pm;
-        }
-      }
-    });
-    steps += lead + total;
-    laneSteps += (lead + total) * L;
-    if (!ok) return failedDriven(e.failMessage, steps, laneSteps);
-    for (let l = 0; l < L; l++) {
-      const bal = balanceErrors(e, l);
-      worstBalance = Math.max(worstBalance, bal.laser, bal.external);
-      mismatch += bal.mismatch / (L * chosen.length);
+    for (const part of parts) {
+      if (part.window !== w) continue;
+      part.lanes.forEach((i, l) => {
+        sw.ext[i] = part.ext[l];
+        sw.out[i] = part.out[l];
+        sw.ic[i] = part.ic[l];
+        sw.ret[i] = part.ret[l];
+        sw.dom[i] = part.dom[l];
+        sw.modes[i] = part.modes[l];
+      });
     }
-    // bins the engine's step skipped (dt_s < engine step) take the previous bin's values
-    for (let k = 0; k < nBins; k++) {
-      const c = count[k];
-      for (let l = 0; l < L; l++) {
-        if (c > 0) {
-          sw.ext[l][k] /= c;
-          sw.out[l][k] /= c;
-          sw.ic[l][k] /= c;
-          sw.ret[l][k] /= c;
-        } else if (k > 0) {
-          sw.ext[l][k] = sw.ext[l][k - 1];
-          sw.out[l][k] = sw.out[l][k - 1];
-          sw.ic[l][k] = sw.ic[l][k - 1];
-          sw.ret[l][k] = sw.ret[l][k - 1];
-        }
-      }
-      for (let l = 0; l < L; l++) {
-        const mp = sw.modes[l];
-        for (let m = 0; m < M; m++) {
-          if (c > 0) mp[k * M + m] /= c;
-          else if (k > 0) mp[k * M + m] = mp[(k - 1) * M + m];
-        }
-        // dominant mode of the bin from its mean mode powers
-        let d = 0;
-        for (let m = 1; m < M; m++) if (mp[k * M + m] > mp[k * M + d]) d = m;
-        sw.dom[l][k] = d;
-      }
-    }
-    // splice check: the window's last memory time against the curve at that speed and direction
+    for (let l = 0; l < L; l++)
+      if (!sw.ext[l]) throw new Error(`spliceSlow: window ${w} has no stepped part for lane ${l}`);
+    // splice check: the window's last memory times against the curve at that speed and direction
+    const nBins = sw.ext[0].length;
     const nTail = Math.max(1, Math.min(nBins, Math.round((WINDOW_TAIL * tau) / dt_s)));
     let winMean = 0;
     for (let l = 0; l < L; l++) for (let k = nBins - nTail; k < nBins; k++) winMean += sw.ext[l][k];
@@ -407,9 +562,8 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
       curveMean += curveAt(o.curve, motion.velocity(tp.t + (k + k0) * dt_s)).external_W;
     curveMean /= nTail;
     sw.spliceMismatch = curveMean > 0 ? winMean / curveMean - 1 : 0;
-    windows.push(sw);
-    o.onProgress?.((0.8 * (w + 1)) / chosen.length);
-  }
+    return sw;
+  });
 
   // ---- splice and analyse
   const an = new DrivenAnalysis(p, L, dt_s, samples, 0, { ...o, motion }, false);
@@ -502,7 +656,7 @@ export function drivenSlow(p: CoupledParams, o: SlowDriveOptions): DrivenResult 
   return {
     ...res,
     balance: {
-      laser: Math.max(worstBalance, o.stat.worstBalance),
+      laser: Math.max(worstBalance, o.stat?.worstBalance ?? 0),
       external: worstBalance,
       mismatch,
     },
@@ -542,12 +696,78 @@ export interface SlowDriveRunInput extends SpeedCurveContext {
   laneOffsets_m: number[];
   analysed_s: number;
   common: Omit<AnalysisOptions, 'hopMargin'>;
+  /** the static reference (its energy balance joins the result's) */
+  stat: StaticResult | null;
+  laneGroups: number[][];
+  batch: number;
+}
+
+/** The speeds the drive's curve must cover: from the window edge of its turning points to its peak speed. */
+export function slowSpeedRange(i: Pick<SlowDriveRunInput, 's' | 'p' | 'free'>): {
+  vLo: number;
+  vHi: number;
+  memory_s: number;
+} {
+  const { s, p } = i;
+  const memory_s = memoryTime(p, i.free);
+  const vPeak = totalPeakSpeed(s);
+  const aPeak = peakAcceleration(s.drive);
+  const twoTone = s.drive.waveform === 'two-tone' && s.drive.second_amplitude > 0;
+  const vEdge = windowEdge(aPeak, vPeak, memory_s, s.laser.wavelength / 2, s.analysis.detection_bandwidth);
+  return { vLo: Math.max(1e-9, Math.min(vPeak, vEdge) * (twoTone ? 0.5 : 1)), vHi: vPeak, memory_s };
+}
+
+/** What stepping the windows of a run's batch needs (no curve, no static reference). */
+export function slowStepOptions(i: Omit<SlowDriveRunInput, 'prior' | 'onProgress'>): SlowStepOptions {
+  const { s, p } = i;
+  return {
+    ...i.common,
+    drive: s.drive,
+    seed: i.seed,
+    laneOffsets_m: i.laneOffsets_m,
+    analysed_s: i.analysed_s,
+    halfWavelength_m: s.laser.wavelength / 2,
+    memory_s: memoryTime(p, i.free),
+    windowEngine: (v) => steppingEngineFor(s, p, i.finesse, i.regrowth_s, v, i.requested),
+    free: i.free,
+    batch: i.batch,
+  };
+}
+
+/** The path's options for a run's batch (the curve is only read by spliceSlow). */
+export function slowOptions(
+  i: Omit<SlowDriveRunInput, 'prior' | 'onProgress'>,
+  curve: SpeedCurve,
+  onProgress?: (fraction: number) => void,
+): SlowDriveOptions {
+  return {
+    ...i.common,
+    ...slowStepOptions(i),
+    curve,
+    stat: i.stat,
+    laneGroups: i.laneGroups,
+    onProgress,
+  };
+}
+
+/** The engine-reason note of a finished slow-path result, and the time its statistics cover. */
+export function slowNote(
+  curve: SpeedCurve,
+  driven: DrivenResult,
+  fallback_s: number,
+): { note: string; analysed_s: number } {
+  const info = (driven as DrivenResult & { slow?: SlowDriveInfo }).slow;
+  const fmt = (x: number) => x.toPrecision(3);
+  const note = info
+    ? `; statistics over ${fmt(info.analysed_s)} s (the spliced series repeats every period); speed curve ${curve.forward.length} + ${curve.backward.length} speeds from ${fmt(curve.forward[0].speed_m_s)} to ${fmt(curve.forward[curve.forward.length - 1].speed_m_s)} m/s; turning points stepped directly (${info.windows} windows, ${fmt(100 * info.window_fraction)} % of the time), splice mismatch ${fmt(100 * info.splice_mismatch_rel)} %`
+    : '';
+  return { note, analysed_s: info ? info.analysed_s : fallback_s };
 }
 
 /**
- * The speed curve over the speeds this drive needs (from the window edge of its turning
- * points to its peak speed), then the path itself. Returns the driven result, the curve
- * (to be written with the results) and a note for the engine's reason.
+ * The speed curve over the speeds this drive needs (slowSpeedRange), then the path itself,
+ * on this thread. Returns the driven result, the curve (to be written with the results)
+ * and a note for the engine's reason.
  */
 export function slowDriveRun(i: SlowDriveRunInput): {
   driven: DrivenResult;
@@ -556,25 +776,13 @@ export function slowDriveRun(i: SlowDriveRunInput): {
   /** time the statistics cover, s */
   analysed_s: number;
 } {
-  const { s, p } = i;
-  const memory_s = memoryTime(p, i.free);
-  const vPeak = totalPeakSpeed(s);
-  const aPeak = peakAcceleration(s.drive);
-  const twoTone = s.drive.waveform === 'two-tone' && s.drive.second_amplitude > 0;
-  const vEdge = windowEdge(aPeak, vPeak, memory_s, s.laser.wavelength / 2, s.analysis.detection_bandwidth);
-  const vLo = Math.max(1e-9, Math.min(vPeak, vEdge) * (twoTone ? 0.5 : 1));
-  const ctx = {
-    s,
-    p,
-    finesse: i.finesse,
-    regrowth_s: i.regrowth_s,
-    stat: i.stat,
-    free: i.free,
-    seed: i.seed,
-    requested: i.requested,
-    onProgress: (x: number) => i.onProgress?.(0.6 * x),
-  };
-  const curve = ensureSpeedCurve(i.prior, ctx, vLo, vPeak);
+  const { vLo, vHi } = slowSpeedRange(i);
+  const curve = ensureSpeedCurve(
+    i.prior,
+    { ...i, onProgress: (x: number) => i.onProgress?.(0.6 * x) },
+    vLo,
+    vHi,
+  );
   if (typeof curve === 'string')
     return {
       driven: failedDriven(`speed curve: ${curve}`, 0, 0),
@@ -582,24 +790,9 @@ export function slowDriveRun(i: SlowDriveRunInput): {
       note: '',
       analysed_s: i.analysed_s,
     };
-  const driven = drivenSlow(p, {
-    ...i.common,
-    drive: s.drive,
-    seed: i.seed,
-    laneOffsets_m: i.laneOffsets_m,
-    analysed_s: i.analysed_s,
-    halfWavelength_m: s.laser.wavelength / 2,
-    memory_s,
-    windowEngine: (v) => steppingEngineFor(s, p, i.finesse, i.regrowth_s, v, i.requested),
-    curve,
-    stat: i.stat,
-    free: i.free,
-    onProgress: (x) => i.onProgress?.(0.6 + 0.4 * x),
-  });
-  const info = (driven as DrivenResult & { slow?: SlowDriveInfo }).slow;
-  const fmt = (x: number) => x.toPrecision(3);
-  const note = info
-    ? `; statistics over ${fmt(info.analysed_s)} s (the spliced series repeats every period); speed curve ${curve.forward.length} + ${curve.backward.length} speeds from ${fmt(curve.forward[0].speed_m_s)} to ${fmt(curve.forward[curve.forward.length - 1].speed_m_s)} m/s; turning points stepped directly (${info.windows} windows, ${fmt(100 * info.window_fraction)} % of the time), splice mismatch ${fmt(100 * info.splice_mismatch_rel)} %`
-    : '';
-  return { driven, curve, note, analysed_s: info ? info.analysed_s : i.analysed_s };
+  const driven = drivenSlow(
+    i.p,
+    slowOptions(i, curve, (x) => i.onProgress?.(0.6 + 0.4 * x)),
+  );
+  return { driven, curve, ...slowNote(curve, driven, i.analysed_s) };
 }

@@ -4,13 +4,14 @@
  * in both directions, on a fixed lattice of speeds (8 per decade), so that curves computed
  * for different drives share their points. Each point is stepped by the engine the planner
  * would pick for a mirror at that speed (whatever engines exist), over SPEED_LANES lanes
- * at stratified random rest offsets, each lane started from the settled static state
- * nearest its position.
+ * at stratified random rest offsets, each lane started from the free-running state and
+ * settled FREE_START_MEMORY_TIMES memory times at speed (so every point is independent of
+ * the static reference and of the other points, and can run on any thread: docs/model.md §4.2).
  */
 import { createHash } from 'node:crypto';
 import type { Scenario } from '../scenario/schema';
 import type { CoupledParams } from '../physics/coupled/params';
-import type { LaneEngine, MirrorMotion } from '../physics/coupled/lane-engine';
+import type { MirrorMotion } from '../physics/coupled/lane-engine';
 import { createLaneEngine } from '../physics/coupled/factory';
 import type { EngineKind } from '../physics/coupled/factory';
 import { createRng } from '../numerics/rng';
@@ -18,7 +19,7 @@ import { RunningStats } from '../analysis/stats';
 import { HopDetector } from '../analysis/hops';
 import type { SpeedCurve, SpeedPoint } from '../results/speed-curve';
 import { externalPowerOf, laserOutputOf } from './references';
-import type { FreeRunningResult, StaticResult } from './references';
+import type { FreeRunningResult } from './references';
 import { planEngines } from './engine-choice';
 import type { EngineRequest } from './engine-choice';
 
@@ -34,6 +35,14 @@ export const SPEED_LATTICE_PER_DECADE = 8;
  * fraction, the points between it and both neighbours are added.
  */
 export const SPEED_REFINE_BEND = 0.05;
+
+/**
+ * Memory times a lane started from the free-running state settles before its statistics
+ * count (speed points and turning-point windows): the memory time is the regrowth of a
+ * suppressed mode (memoryTime), so four of them forget the start; on the demo laser and gap
+ * 33 us, the 32 us of docs/model.md §4.2 for driven lanes started the same way.
+ */
+export const FREE_START_MEMORY_TIMES = 4;
 
 /**
  * Memory time of the coupled system, s: the regrowth of a mode from the noise floor to the
@@ -121,7 +130,6 @@ export interface SpeedCurveContext {
   finesse: number;
   /** the regrowth time the planner is given (the static settle time) */
   regrowth_s: number;
-  stat: StaticResult;
   free: FreeRunningResult;
   seed: number;
   requested: string;
@@ -133,21 +141,17 @@ function constantMotion(rest_m: number, velocity: number): MirrorMotion {
   return { position: (t) => rest_m + velocity * t, velocity: () => velocity };
 }
 
-/** Copy into each lane of e the settled static state nearest its rest position. */
-export function startFromStatic(e: LaneEngine, stat: StaticResult, x_m: (l: number) => number): void {
-  const pos = stat.positions_m;
-  const span = pos.length > 1 ? (pos[1] - pos[0]) * pos.length : 1;
-  const store = stat.store;
-  if (store === null) throw new Error('startFromStatic: the static reference holds no settled states');
-  for (let l = 0; l < e.L; l++) {
-    const x = ((x_m(l) % span) + span) % span;
-    const j = Math.round(x / (span / pos.length)) % pos.length;
-    e.copyLane(store, j, l);
-  }
-}
-
-/** Step SPEED_LANES lanes at constant speed and collect their statistics; null on a numerical failure. */
-function speedPoint(ctx: SpeedCurveContext, k: number, dir: 1 | -1, memory_s: number): SpeedPoint | string {
+/**
+ * Step SPEED_LANES lanes at constant speed dir x 10^(k / 8) m/s from the free-running state
+ * and collect their statistics; a message instead on a numerical failure. Its own noise
+ * stream (seed, k, dir): the same point wherever and whenever it is computed.
+ */
+export function speedPoint(
+  ctx: Pick<SpeedCurveContext, 's' | 'p' | 'finesse' | 'regrowth_s' | 'free' | 'seed' | 'requested'>,
+  k: number,
+  dir: 1 | -1,
+  memory_s: number,
+): SpeedPoint | string {
   const { s, p } = ctx;
   const v = latticeSpeed(k);
   const eng = steppingEngineFor(s, p, ctx.finesse, ctx.regrowth_s, v, ctx.requested);
@@ -156,8 +160,8 @@ function speedPoint(ctx: SpeedCurveContext, k: number, dir: 1 | -1, memory_s: nu
   const M = p.M;
   const rng = createRng(ctx.seed).fork(100000 + 2 * (k + 1000) + (dir > 0 ? 0 : 1));
   const offsets = Array.from({ length: L }, (_, l) => ((l + rng.uniform()) * half) / L);
-  const settle_s = Math.max(2 * memory_s, (2 * half) / v);
-  const analysed_s = Math.max((SPEED_HALF_WAVES * half) / v, 2 * memory_s);
+  const settle_s = speedSettle(memory_s, half, v);
+  const analysed_s = speedAnalysed(memory_s, half, v);
   const settleSteps = Math.ceil(settle_s / eng.dt);
   const steps = Math.ceil(analysed_s / eng.dt);
   const rest = s.drive.offset;
@@ -174,7 +178,6 @@ function speedPoint(ctx: SpeedCurveContext, k: number, dir: 1 | -1, memory_s: nu
   );
   e.setLaserState(ctx.free.Er, ctx.free.Ei, ctx.free.N);
   offsets.forEach((o, l) => (e.offset[l] = o));
-  startFromStatic(e, ctx.stat, (l) => offsets[l]);
   if (!e.advance(settleSteps)) return e.failMessage || 'numerical failure';
   const ext = Array.from({ length: L }, () => new RunningStats());
   const out = Array.from({ length: L }, () => new RunningStats());
@@ -273,28 +276,50 @@ function speedPoint(ctx: SpeedCurveContext, k: number, dir: 1 | -1, memory_s: nu
   };
 }
 
-/** Cost of one speed point in lane-steps (for progress and the planner's budget). */
-export function speedPointCost(ctx: SpeedCurveContext, v: number, memory_s: number): number {
+/** Settle time of a speed point, s: the free start forgotten, and two half wavelengths crossed. */
+function speedSettle(memory_s: number, half: number, v: number): number {
+  return Math.max(FREE_START_MEMORY_TIMES * memory_s, (2 * half) / v);
+}
+
+/** Analysed time of a speed point, s: SPEED_HALF_WAVES half wavelengths, at least two memory times. */
+function speedAnalysed(memory_s: number, half: number, v: number): number {
+  return Math.max((SPEED_HALF_WAVES * half) / v, 2 * memory_s);
+}
+
+/** Cost of one speed point in lane-steps (for progress and for ordering the work, longest first). */
+export function speedPointCost(
+  ctx: Pick<SpeedCurveContext, 's' | 'p' | 'finesse' | 'regrowth_s' | 'requested'>,
+  k: number,
+  memory_s: number,
+): number {
+  const v = latticeSpeed(k);
   const eng = steppingEngineFor(ctx.s, ctx.p, ctx.finesse, ctx.regrowth_s, v, ctx.requested);
   const half = ctx.s.laser.wavelength / 2;
-  const T = Math.max(2 * memory_s, (2 * half) / v) + Math.max((SPEED_HALF_WAVES * half) / v, 2 * memory_s);
-  return (SPEED_LANES * T) / eng.dt;
+  return (SPEED_LANES * (speedSettle(memory_s, half, v) + speedAnalysed(memory_s, half, v))) / eng.dt;
+}
+
+/** A speed point to compute: lattice index and direction. */
+export type SpeedTodo = [k: number, dir: 1 | -1];
+
+/** A curve being extended: its points so far and the base lattice it is refined on. */
+export interface SpeedCurveWork {
+  curve: SpeedCurve;
+  memory_s: number;
+  base: number[];
+  started: number;
 }
 
 /**
- * The curve over [vLo, vHi] (lattice points around both ends included), extending `prior`
- * when it has the same key: points already there are kept, only missing ones computed.
- * The base grid is every second lattice point; where the curve bends at a base point
- * (SPEED_REFINE_BEND), the lattice points on both sides of it are added in that direction.
- * Returns a message instead on a numerical failure.
+ * Start the curve over [vLo, vHi] (lattice points around both ends included), from `prior`
+ * when it has the same key (its points are kept): the base grid is every second lattice
+ * point; `todo` lists the base points still missing, longest first.
  */
-export function ensureSpeedCurve(
+export function startSpeedCurve(
   prior: SpeedCurve | null,
   ctx: SpeedCurveContext,
   vLo: number,
   vHi: number,
-): SpeedCurve | string {
-  const t0 = Date.now();
+): { work: SpeedCurveWork; todo: SpeedTodo[] } {
   const key = speedCurveKey(ctx.s, ctx.seed, ctx.requested);
   const memory_s = memoryTime(ctx.p, ctx.free);
   const curve: SpeedCurve =
@@ -313,30 +338,44 @@ export function ensureSpeedCurve(
   let kHi = Math.ceil(SPEED_LATTICE_PER_DECADE * Math.log10(Math.max(vHi, vLo)));
   if (kLo % 2 !== 0) kLo--;
   if (kHi % 2 !== 0) kHi++;
-  const has = (list: SpeedPoint[], k: number) => list.some((q) => latticeIndex(q.speed_m_s) === k);
   const base: number[] = [];
   for (let k = kLo; k <= kHi; k += 2) base.push(k);
-  const todo: [number, 1 | -1][] = [];
+  const todo: SpeedTodo[] = [];
   for (const k of base) {
-    if (!has(curve.forward, k)) todo.push([k, 1]);
-    if (!has(curve.backward, k)) todo.push([k, -1]);
+    if (!hasSpeed(curve.forward, k)) todo.push([k, 1]);
+    if (!hasSpeed(curve.backward, k)) todo.push([k, -1]);
   }
-  const totalCost = todo.reduce((a, [k]) => a + speedPointCost(ctx, latticeSpeed(k), memory_s), 0);
-  let done = 0;
-  const add = (k: number, dir: 1 | -1): string | null => {
-    const r = speedPoint(ctx, k, dir, memory_s);
-    if (typeof r === 'string') return r;
-    const cost = speedPointCost(ctx, latticeSpeed(k), memory_s);
-    curve.lane_steps += cost;
-    done += cost;
-    ctx.onProgress?.(Math.min(1, done / Math.max(1, totalCost * 1.3)));
-    (dir > 0 ? curve.forward : curve.backward).push(r);
-    return null;
-  };
-  for (const [k, dir] of todo) {
-    const err = add(k, dir);
-    if (err) return err;
-  }
+  return { work: { curve, memory_s, base, started: Date.now() }, todo: longestFirst(todo) };
+}
+
+function hasSpeed(list: SpeedPoint[], k: number): boolean {
+  return list.some((q) => latticeIndex(q.speed_m_s) === k);
+}
+
+/** Slowest (costliest) first, forward before backward: the order the work is handed out in. */
+function longestFirst(todo: SpeedTodo[]): SpeedTodo[] {
+  return [...todo].sort((a, b) => a[0] - b[0] || b[1] - a[1]);
+}
+
+/** Add a computed point to the curve (its cost counted in lane_steps). */
+export function addSpeedPoint(
+  work: SpeedCurveWork,
+  ctx: Pick<SpeedCurveContext, 's' | 'p' | 'finesse' | 'regrowth_s' | 'requested'>,
+  [k, dir]: SpeedTodo,
+  point: SpeedPoint,
+): void {
+  work.curve.lane_steps += speedPointCost(ctx, k, work.memory_s);
+  (dir > 0 ? work.curve.forward : work.curve.backward).push(point);
+}
+
+/**
+ * The refinement the base points call for: where the mean gap power at a base point departs
+ * from the straight line (in log speed) through its two base neighbours by more than
+ * SPEED_REFINE_BEND, the lattice points on both sides of it, in that direction.
+ */
+export function speedRefinement(work: SpeedCurveWork): SpeedTodo[] {
+  const { base, curve } = work;
+  const todo: SpeedTodo[] = [];
   for (const dir of [1, -1] as const) {
     const list = dir > 0 ? curve.forward : curve.backward;
     const at = (k: number) => list.find((q) => latticeIndex(q.speed_m_s) === k) as SpeedPoint;
@@ -351,16 +390,47 @@ export function ensureSpeedCurve(
         refine.add(base[i] + 1);
       }
     }
-    for (const mid of [...refine].sort((x, y) => x - y)) {
-      if (has(list, mid)) continue;
-      const err = add(mid, dir);
-      if (err) return err;
-    }
+    for (const mid of refine) if (!hasSpeed(list, mid)) todo.push([mid, dir]);
   }
-  curve.forward.sort((a, b) => a.speed_m_s - b.speed_m_s);
-  curve.backward.sort((a, b) => a.speed_m_s - b.speed_m_s);
-  curve.wall_s += (Date.now() - t0) / 1000;
-  return curve;
+  return longestFirst(todo);
+}
+
+/** The finished curve: points in speed order, its wall time counted. */
+export function finishSpeedCurve(work: SpeedCurveWork): SpeedCurve {
+  const c = work.curve;
+  c.forward.sort((a, b) => a.speed_m_s - b.speed_m_s);
+  c.backward.sort((a, b) => a.speed_m_s - b.speed_m_s);
+  c.wall_s += (Date.now() - work.started) / 1000;
+  return c;
+}
+
+/**
+ * The curve over [vLo, vHi] on this thread: startSpeedCurve, its base points, then the
+ * refinement (speedRefinement), extending `prior` when it has the same key. Returns a
+ * message instead on a numerical failure.
+ */
+export function ensureSpeedCurve(
+  prior: SpeedCurve | null,
+  ctx: SpeedCurveContext,
+  vLo: number,
+  vHi: number,
+): SpeedCurve | string {
+  const { work, todo } = startSpeedCurve(prior, ctx, vLo, vHi);
+  const cost = (list: SpeedTodo[]) => list.reduce((a, [k]) => a + speedPointCost(ctx, k, work.memory_s), 0);
+  const total = cost(todo) * 1.3;
+  let done = 0;
+  const run = (list: SpeedTodo[]): string | null => {
+    for (const item of list) {
+      const r = speedPoint(ctx, item[0], item[1], work.memory_s);
+      if (typeof r === 'string') return r;
+      addSpeedPoint(work, ctx, item, r);
+      done += speedPointCost(ctx, item[0], work.memory_s);
+      ctx.onProgress?.(Math.min(1, done / Math.max(1, total)));
+    }
+    return null;
+  };
+  const err = run(todo) ?? run(speedRefinement(work));
+  return err ?? finishSpeedCurve(work);
 }
 
 /** The numeric fields of a speed point interpolated in log(speed) (clamped at the ends). */
