@@ -2,9 +2,11 @@
  * A run on several threads (docs/model.md §4.2): when the driven lanes are independent
  * (lanesIndependent: the round-trip engine), the static reference and groups of lanes are
  * tasks of one pool, the static reference first, so it settles beside the first batch of
- * lanes. Every lane's result is the one the single-thread runScenario computes (the lanes
- * start from the free-running state on their own noise streams), so the summary does not
- * depend on the thread count; anything else runs on the calling thread (runScenario).
+ * lanes; on the slow-drive path (docs/model.md §3.6) the static reference, the lane groups
+ * of the turning-point windows and the speed curve's points are the tasks. Every lane's
+ * and point's result is the one the single-thread runScenario computes (they start from the
+ * free-running state on their own noise streams), so the summary does not depend on the
+ * thread count; anything else runs on the calling thread (runScenario).
  */
 import * as fs from 'node:fs';
 import * as path from 'node:path';
@@ -28,19 +30,26 @@ import {
   slowInput,
   staticEngineRequest,
 } from './run';
-import type { BatchRequest, ConvergedRun, References, RunOptions } from './run';
+import type { BatchRequest, ConvergedRun, References, RunOptions, RunPlan } from './run';
 import type { LaneTask, LaneThreadResult, SpeedPointTask, StaticTask, WindowTask } from './lane-thread';
-import type { SpeedCurve, SpeedPoint } from '../results/speed-curve';
+import type { SpeedPoint } from '../results/speed-curve';
 import {
   addSpeedPoint,
   finishSpeedCurve,
-  FREE_START_MEMORY_TIMES,
   speedPointCost,
   speedRefinement,
   startSpeedCurve,
 } from './speed-curve';
 import type { SpeedTodo } from './speed-curve';
-import { planSlow, slowNote, slowOptions, slowSpeedRange, slowStepOptions, spliceSlow } from './slow-drive';
+import {
+  planSlow,
+  slowNote,
+  slowOptions,
+  slowSpeedRange,
+  slowStepOptions,
+  spliceSlow,
+  windowSpan,
+} from './slow-drive';
 import type { WindowPart } from './slow-drive';
 import { failedDriven } from './driven';
 
@@ -129,104 +138,33 @@ export async function runScenarioThreaded(
       tell();
       return r;
     });
+    // awaited later; a task failing first must not leave this rejection unhandled
+    statTask.catch(() => undefined);
     let drivenThread_s = 0;
     const loop = convergingBatches(s, plan);
     let step = loop.next();
     // the slow-drive path (docs/model.md §3.6): its speed curve's points and its windows' lane
     // groups are tasks beside the static reference; the splice waits for the static reference
     // (its energy balance joins the result's), as on one thread
-    let curve: SpeedCurve | null = plan.slow.curve ?? plan.slow.prior;
     while (slow && !step.done) {
       const q = step.value;
       batch = q;
-      const input = slowInput(s, params, derived, refs, plan, q.offsets, q.batch);
-      const stepOpts = slowStepOptions(input);
-      const slowPlan = planSlow(stepOpts);
-      const range = slowSpeedRange(input);
-      const started = startSpeedCurve(curve, input, range.vLo, range.vHi);
-      const work = started.work;
-      // weights for the progress bar: lane-steps of each task (a window's lanes at the step of its slowest stretch)
-      const windowDt = stepOpts.windowEngine(range.vLo).dt;
-      const windowCost = slowPlan.chosen.map(
-        (tp) => (tp.before + tp.after + FREE_START_MEMORY_TIMES * work.memory_s) / windowDt,
-      );
-      const tasks: { weight: number; fraction: number }[] = [];
-      const track = (weight: number) => {
-        const entry = { weight, fraction: 0 };
-        tasks.push(entry);
-        laneFractions = [0];
-        return (f: number) => {
-          entry.fraction = f;
-          const total = tasks.reduce((a, x) => a + x.weight, 0);
-          laneFractions = [tasks.reduce((a, x) => a + x.weight * x.fraction, 0) / Math.max(1e-300, total)];
+      laneFractions = [0];
+      tell();
+      const r = await slowBatch(
+        { s, params, derived, refs, plan, submit, task: { options, free, staticKind } },
+        q,
+        statTask,
+        (f) => {
+          laneFractions = [f];
           tell();
-        };
-      };
-      const windowParts = Promise.all(
-        slowPlan.chosen.flatMap((_tp, w) =>
-          input.laneGroups.map((lanes) => {
-            const onFraction = track(windowCost[w] * lanes.length);
-            return submit<WindowPart>(
-              {
-                type: 'window',
-                scenario: s,
-                options,
-                free,
-                staticKind,
-                plan,
-                offsets_m: q.offsets,
-                batch: q.batch,
-                window: w,
-                lanes,
-              },
-              onFraction,
-            ).then((r) => {
-              onFraction(1);
-              drivenThread_s += r.wall_s;
-              return r.result;
-            });
-          }),
-        ),
+        },
       );
-      const points = async (todo: SpeedTodo[]): Promise<string | null> => {
-        const results = await Promise.all(
-          todo.map((point) => {
-            const onFraction = track(speedPointCost(input, point[0], work.memory_s));
-            return submit<SpeedPoint | string>(
-              { type: 'speed-point', scenario: s, options, free, staticKind, point, memory_s: work.memory_s },
-              onFraction,
-            ).then((r) => {
-              onFraction(1);
-              drivenThread_s += r.wall_s;
-              return r.result;
-            });
-          }),
-        );
-        for (let i = 0; i < todo.length; i++) {
-          const r = results[i];
-          if (typeof r === 'string') return r;
-          addSpeedPoint(work, input, todo[i], r);
-        }
-        return null;
-      };
-      const curveError = (await points(started.todo)) ?? (await points(speedRefinement(work)));
-      const parts = await windowParts;
-      let driven: DrivenResult;
-      if (curveError !== null) {
-        driven = failedDriven(`speed curve: ${curveError}`, 0, 0);
-      } else {
-        curve = finishSpeedCurve(work);
-        const statResult = await statTask;
-        const withStat = { ...input, stat: statResult.result };
-        driven = spliceSlow(params, slowOptions(withStat, curve), slowPlan, parts);
-        const noted = slowNote(curve, driven, plan.analysed_s);
-        plan.slow.curve = curve;
-        plan.slow.note = noted.note;
-        plan.analysed_s = noted.analysed_s;
-      }
-      step = loop.next(driven);
+      drivenThread_s += r.thread_s;
+      if (r.staticFailed) break;
+      step = loop.next(r.driven);
     }
-    while (!step.done) {
+    while (!slow && !step.done) {
       const q = step.value;
       batch = q;
       // the batch's groups of lanes, as on one thread (laneGroups), shared out over the threads
@@ -259,7 +197,8 @@ export async function runScenarioThreaded(
     }
     const statResult = await statTask;
     const stat = statResult.result;
-    let converged: ConvergedRun | null = step.value;
+    // the loops end with the converged run, or (slow path) break early on a failed static reference
+    let converged: ConvergedRun | null = step.done ? step.value : null;
     if (stat && stat.failed) {
       // the one-thread run would not have stepped the lanes: neither does this one's summary
       plan.failure = `static reference: ${stat.failed}`;
@@ -278,4 +217,121 @@ export async function runScenarioThreaded(
   } finally {
     await pool.destroy();
   }
+}
+
+type Submit = <R>(
+  task:
+    | Omit<StaticTask, 'port'>
+    | Omit<LaneTask, 'port'>
+    | Omit<SpeedPointTask, 'port'>
+    | Omit<WindowTask, 'port'>,
+  onFraction: (f: number) => void,
+) => Promise<LaneThreadResult<R>>;
+
+/**
+ * One batch of the slow-drive path on the pool: the windows' lane groups and the speed
+ * points still missing (base grid, then its refinement) as tasks, then the splice on this
+ * thread once the static reference is in; plan.slow and plan.analysed_s are set as
+ * executeRun sets them on one thread. Progress: lane-steps done over those planned (the
+ * refinement's share reserved as on one thread), never decreasing.
+ */
+async function slowBatch(
+  c: {
+    s: Scenario;
+    params: ReturnType<typeof deriveAll>['params'];
+    derived: ReturnType<typeof deriveAll>['derived'];
+    refs: References;
+    plan: RunPlan;
+    submit: Submit;
+    task: Pick<WindowTask, 'options' | 'free' | 'staticKind'>;
+  },
+  q: BatchRequest,
+  statTask: Promise<LaneThreadResult<StaticResult | null>>,
+  onFraction: (f: number) => void,
+): Promise<{ driven: DrivenResult; thread_s: number; staticFailed: boolean }> {
+  const { s, params, plan, submit } = c;
+  const input = slowInput(s, params, c.derived, c.refs, plan, q.offsets, q.batch);
+  const stepOpts = slowStepOptions(input);
+  const slowPlan = planSlow(stepOpts);
+  const range = slowSpeedRange(input);
+  const started = startSpeedCurve(plan.slow.curve ?? plan.slow.prior, input, range.vLo, range.vHi);
+  const work = started.work;
+  // a thread needs the plan's settings, not the curve it carries
+  const lean: RunPlan = { ...plan, slow: { curve: null, note: '', prior: null } };
+  let thread_s = 0;
+  let shown = 0;
+  let done = 0;
+  const windowSteps = slowPlan.chosen.map((_tp, w) => windowSpan(stepOpts, slowPlan, w).laneSteps);
+  const pointSteps = (k: number) => speedPointCost(input, k, work.memory_s);
+  const planned =
+    windowSteps.reduce((a, x) => a + x, 0) * q.offsets.length +
+    1.3 * started.todo.reduce((a, [k]) => a + pointSteps(k), 0);
+  const run = <R>(task: Parameters<Submit>[0], weight: number): Promise<R> => {
+    let last = 0;
+    const advance = (f: number) => {
+      done += weight * (f - last);
+      last = f;
+      shown = Math.max(shown, Math.min(1, done / Math.max(1, planned)));
+      onFraction(shown);
+    };
+    return submit<R>(task, advance).then((r) => {
+      advance(1);
+      thread_s += r.wall_s;
+      return r.result;
+    });
+  };
+  const windowParts = Promise.all(
+    slowPlan.chosen.flatMap((_tp, w) =>
+      input.laneGroups.map((lanes) =>
+        run<WindowPart>(
+          {
+            type: 'window',
+            ...c.task,
+            scenario: s,
+            plan: lean,
+            offsets_m: q.offsets,
+            batch: q.batch,
+            window: w,
+            lanes,
+          },
+          windowSteps[w] * lanes.length,
+        ),
+      ),
+    ),
+  );
+  windowParts.catch(() => undefined);
+  const points = async (todo: SpeedTodo[]): Promise<string | null> => {
+    const results = await Promise.all(
+      todo.map((point) =>
+        run<SpeedPoint | string>(
+          { type: 'speed-point', ...c.task, scenario: s, point, memory_s: work.memory_s },
+          pointSteps(point[0]),
+        ),
+      ),
+    );
+    for (let i = 0; i < todo.length; i++) {
+      const r = results[i];
+      if (typeof r === 'string') return r;
+      addSpeedPoint(work, input, todo[i], r);
+    }
+    return null;
+  };
+  const curveError = (await points(started.todo)) ?? (await points(speedRefinement(work)));
+  const parts = await windowParts;
+  if (curveError !== null) {
+    // as on one thread (slowDriveRun): no curve and no note after a failed curve
+    plan.slow.curve = null;
+    plan.slow.note = '';
+    return { driven: failedDriven(`speed curve: ${curveError}`, 0, 0), thread_s, staticFailed: false };
+  }
+  const curve = finishSpeedCurve(work);
+  const stat = (await statTask).result;
+  // a failed static reference ends the run (finishRun reports it), as on one thread
+  if (stat?.failed) return { driven: failedDriven(stat.failed, 0, 0), thread_s, staticFailed: true };
+  const driven = spliceSlow(params, slowOptions({ ...input, stat }, curve), slowPlan, parts);
+  const noted = slowNote(curve, driven, plan.analysed_s);
+  plan.slow.curve = curve;
+  plan.slow.note = noted.note;
+  plan.analysed_s = noted.analysed_s;
+  return { driven, thread_s, staticFailed: false };
 }

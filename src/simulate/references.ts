@@ -332,7 +332,8 @@ export const STATIC_CHUNK_LANES = 256;
  * from the settled state of its neighbour (up, then back down), with a warm-up of three
  * positions before each chain so no chain starts cold. Refinement (auto): each new
  * midpoint starts from its left neighbour's up state and its right neighbour's down
- * state, all midpoints and both branches batched as lanes of one time loop.
+ * state, all midpoints and both branches stepped as independent lanes, in engines of at
+ * most STATIC_CHUNK_LANES lanes.
  */
 export function staticReference(p: CoupledParams, o: StaticOptions): StaticResult {
   const still: MirrorMotion = { position: () => o.rest_m, velocity: () => 0 };

@@ -271,8 +271,9 @@ export function planRun(
       ((engine === 'speedcurve' || engine === 'adiabatic') && refs.data.staticEngine === 'roundtrip'),
   };
   if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
-  // the lanes start from settled static states: one drive period (both turning points) and
-  // a few response times bring them to the periodic regime
+  // the lanes start from settled static states (modal engines) or from the free-running
+  // state (round-trip engine, LANE_SETTLE_FROM_FREE_s more): one drive period (both turning
+  // points) and a few response times bring them to the periodic regime
   const w = drivenWindows(s, engine, tContStatic);
   plan.settle_s = w.settle_s;
   plan.analysed_s = w.analysed_s;

@@ -74,8 +74,8 @@ export const WINDOW_BAND_HALF_WAVES = 3;
 export const WINDOW_TAIL = 3;
 /** Memory times collected before the speed falls below v_w. */
 export const WINDOW_BEFORE = 1;
-/** Memory times of lead-in before collection starts (at least FREE_START_MEMORY_TIMES: the lanes start from the free-running state). */
-export const WINDOW_LEAD = 3;
+/** Memory times of lead-in before collection starts: the lanes start from the free-running state. */
+export const WINDOW_LEAD = FREE_START_MEMORY_TIMES;
 /** Most distinct turning points stepped for a drive that does not repeat every period. */
 export const MAX_WINDOWS = 16;
 /** Largest number of analysis samples per lane. */
@@ -337,6 +337,26 @@ export type SlowStepOptions = SlowPlanOptions &
   Pick<SlowDriveOptions, 'laneOffsets_m' | 'windowEngine' | 'free'> & { batch: number };
 
 /**
+ * Where window `w` of the plan is stepped (lead-in included) and on which engine: the one
+ * the planner picks for the fastest speed the window reaches; `laneSteps` is its cost per lane.
+ */
+export function windowSpan(
+  o: Pick<SlowStepOptions, 'drive' | 'seed' | 'memory_s' | 'windowEngine'>,
+  plan: SlowPlan,
+  w: number,
+): { tStart: number; tEnd: number; eng: { kind: EngineKind; dt: number }; laneSteps: number } {
+  const motion = createDrive(o.drive, o.seed);
+  const tp = plan.chosen[w];
+  const tStart = tp.t - tp.before - WINDOW_LEAD * o.memory_s;
+  const tEnd = tp.t + tp.after;
+  let vMax = 0;
+  for (let i = 0; i <= 64; i++)
+    vMax = Math.max(vMax, Math.abs(motion.velocity(tStart + ((tEnd - tStart) * i) / 64)));
+  const eng = o.windowEngine(Math.max(vMax, 1e-12));
+  return { tStart, tEnd, eng, laneSteps: (tEnd - tStart) / eng.dt };
+}
+
+/**
  * Step window `w` of the plan for the lanes `lanes` (places in the batch) of batch `batch`:
  * from the free-running state, FREE_START_MEMORY_TIMES memory times of lead-in before the
  * collection starts, on a noise stream of its own (seed, batch, window, first lane), so a
@@ -351,19 +371,12 @@ export function stepSlowWindow(
 ): WindowPart {
   const M = p.M;
   const L = lanes.length;
-  const tau = o.memory_s;
   const motion = createDrive(o.drive, o.seed);
   const { dt_s } = plan;
   const tp = plan.chosen[w];
   const half = o.halfWavelength_m;
   const rest = o.drive.offset;
-  const lead_s = Math.max(WINDOW_LEAD, FREE_START_MEMORY_TIMES) * tau;
-  const tStart = tp.t - tp.before - lead_s;
-  const tEnd = tp.t + tp.after;
-  let vMax = 0;
-  for (let i = 0; i <= 64; i++)
-    vMax = Math.max(vMax, Math.abs(motion.velocity(tStart + ((tEnd - tStart) * i) / 64)));
-  const eng = o.windowEngine(Math.max(vMax, 1e-12));
+  const { tStart, tEnd, eng } = windowSpan(o, plan, w);
   // The window runs with the motion translated by whole half wavelengths to near the rest
   // position: the fields depend on the position modulo lambda / 2 (up to the gap length's
   // own change, 2 A / L2, a shift of the modes' phases by under 0.1 rad for a 1 mm stroke on
@@ -423,12 +436,11 @@ export function stepSlowWindow(
     for (let l = 0; l < L; l++) {
       part.ext[l][bin] += externalPowerOf(en, l);
       part.out[l][bin] += laserOutputOf(en, l);
+      part.ic[l][bin] += en.intracavityPower(l);
+      part.ret[l][bin] += en.returnedPower(l);
       for (let m = 0; m < M; m++) {
         const j = l * M + m;
-        const pm = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
-        part.ic[l][bin] += pm;
-        part.ret[l][bin] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
-        part.modes[l][bin * M + m] += pm;
+        part.modes[l][bin * M + m] += en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
       }
     }
   });
@@ -466,7 +478,7 @@ export function stepSlowWindow(
  * Every window of the plan for every lane of the batch, on this thread, in the lane groups
  * given (the same parts a threaded run computes).
  */
-export function stepSlowWindows(
+function stepSlowWindows(
   p: CoupledParams,
   o: SlowStepOptions,
   plan: SlowPlan,
@@ -596,7 +608,9 @@ export function spliceSlow(
         occ[l * M + dom]++;
         an.returned2 += sw.ret[l][bin];
         if (l === 0) for (let m = 0; m < M; m++) row[5 + m] = sw.modes[0][bin * M + m];
-        an.push(l, sw.ext[l][bin], sw.out[l][bin], sw.ic[l][bin], dom, t, o.laneOffsets_m[0], 0, 0);
+        // the bin's mode powers: the hop margin applies as in a stepped run
+        const powers = sw.modes[l].subarray(bin * M, bin * M + M);
+        an.push(l, sw.ext[l][bin], sw.out[l][bin], sw.ic[l][bin], dom, t, o.laneOffsets_m[0], 0, 0, powers);
       }
     } else {
       curveAt(o.curve, v, cv);

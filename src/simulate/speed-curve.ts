@@ -110,6 +110,11 @@ export function speedCurveKey(s: Scenario, seed: number, requested: string): str
     lattice: SPEED_LATTICE_PER_DECADE,
     lanes: SPEED_LANES,
     halfWaves: SPEED_HALF_WAVES,
+    // how a point starts and settles, and the hop margin it counts with: a curve saved
+    // before either changed is not mixed with new points
+    start: 'free-running',
+    settleMemoryTimes: FREE_START_MEMORY_TIMES,
+    hopMargin: s.analysis.hop_margin,
   };
   return createHash('sha256')
     .update(JSON.stringify(relevant, (_k, v) => (v === Infinity ? 'flat' : v)))
@@ -195,29 +200,29 @@ export function speedPoint(
         dt_s: eng.dt,
         dwell_s: s.analysis.hop_dwell,
         modeCount: M,
+        // the scenario's margin, as the analysis of every stepped run applies it (docs/model.md §4.3)
+        margin: s.analysis.hop_margin,
         driveFrequency_Hz: null,
       }),
   );
+  const lanePowers = new Float64Array(M);
   let n = 0;
   const ok = e.advance(steps, (en) => {
     for (let l = 0; l < L; l++) {
       const pe = externalPowerOf(en, l);
       ext[l].push(pe);
       out[l].push(laserOutputOf(en, l));
-      let dom = 0;
-      let domP = -1;
+      // intracavity and returned power as the engine defines them (on the round-trip engine
+      // the whole band, not only the demodulated modes), as every stepped run reports them
+      ic[l] += en.intracavityPower(l);
+      ret[l] += en.returnedPower(l);
       for (let m = 0; m < M; m++) {
         const j = l * M + m;
         const pm = en.Er[j] * en.Er[j] + en.Ei[j] * en.Ei[j];
-        ic[l] += pm;
         modeP[m] += pm;
-        ret[l] += en.br[j] * en.br[j] + en.bi[j] * en.bi[j];
-        if (pm > domP) {
-          domP = pm;
-          dom = m;
-        }
+        lanePowers[m] = pm;
       }
-      hops[l].push(dom);
+      hops[l].pushPowers(lanePowers);
       blockSum[l] += pe;
     }
     n++;
