@@ -14,7 +14,7 @@ import type { EngineKind } from '../physics/coupled/factory';
 import { deriveAll } from '../physics/derive';
 import type { FreeRunningResult, StaticResult } from './references';
 import type { DrivenResult } from './driven';
-import { computeStatic, executeLanes, slowInput, staticSettleTime } from './run';
+import { computeStatic, executeLanes, slowInput } from './run';
 import type { RunOptions, RunPlan } from './run';
 import type { SpeedPoint } from '../results/speed-curve';
 import { speedPoint } from './speed-curve';
@@ -49,6 +49,7 @@ export interface LaneTask extends TaskBase {
 /** One point of the speed curve (speed-curve.ts speedPoint). */
 export interface SpeedPointTask extends TaskBase {
   type: 'speed-point';
+  plan: RunPlan;
   point: SpeedTodo;
   memory_s: number;
 }
@@ -103,22 +104,15 @@ export default function work(
     }
     const { derived, params } = deriveAll(task.scenario);
     const s = task.scenario;
-    if (task.type === 'speed-point') {
-      const ctx = {
-        s,
-        p: params,
-        finesse: derived.finesse_external,
-        regrowth_s: staticSettleTime(params),
-        free: task.free,
-        seed: task.options.seed ?? s.simulation.seed,
-        requested: s.simulation.engine,
-      };
-      return done(speedPoint(ctx, task.point[0], task.point[1], task.memory_s));
-    }
     const refs = {
       key: '',
       data: { free: task.free, stat: null, wall_s: 0, staticEngine: task.staticKind },
     };
+    if (task.type === 'speed-point') {
+      // the curve's context as the run builds it on one thread (slowInput)
+      const ctx = slowInput(s, params, derived, refs, task.plan, [], 0);
+      return done(speedPoint(ctx, task.point[0], task.point[1], task.memory_s));
+    }
     if (task.type === 'window') {
       const input = slowInput(s, params, derived, refs, task.plan, task.offsets_m, task.batch);
       const o = slowStepOptions(input);

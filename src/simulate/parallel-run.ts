@@ -109,19 +109,11 @@ export async function runScenarioThreaded(
       : `static reference and ${batch?.label ?? 'driven run'}`;
     progress(STATIC_SHARE * staticFraction + (1 - STATIC_SHARE) * inBatch, label);
   };
-  /** Run a task on the pool, its progress on a port of its own. */
-  const submit = <R>(
-    task:
-      | Omit<StaticTask, 'port'>
-      | Omit<LaneTask, 'port'>
-      | Omit<SpeedPointTask, 'port'>
-      | Omit<WindowTask, 'port'>,
-    onFraction: (f: number) => void,
-  ) => {
+  const submit: Submit = (task, onFraction) => {
     const { port1, port2 } = new MessageChannel();
     port1.on('message', (m: { fraction: number }) => onFraction(m.fraction));
     return (
-      pool.run({ ...task, port: port2 }, { transferList: [port2] }) as Promise<LaneThreadResult<R>>
+      pool.run({ ...task, port: port2 }, { transferList: [port2] }) as Promise<LaneThreadResult<never>>
     ).finally(() => port1.close());
   };
 
@@ -219,6 +211,7 @@ export async function runScenarioThreaded(
   }
 }
 
+/** Run a task on the pool, its progress on a port of its own. */
 type Submit = <R>(
   task:
     | Omit<StaticTask, 'port'>
@@ -304,7 +297,7 @@ async function slowBatch(
     const results = await Promise.all(
       todo.map((point) =>
         run<SpeedPoint | string>(
-          { type: 'speed-point', ...c.task, scenario: s, point, memory_s: work.memory_s },
+          { type: 'speed-point', ...c.task, scenario: s, plan: lean, point, memory_s: work.memory_s },
           pointSteps(point[0]),
         ),
       ),

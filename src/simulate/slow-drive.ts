@@ -115,7 +115,21 @@ interface TurningPoint {
   stepped: number;
 }
 
-interface SteppedWindow {
+/** Per lane, per sample bin of a stepped window: what the splice takes from it. */
+interface WindowSeries {
+  /** gap power, laser output, intracavity, returned power, dominant mode */
+  ext: Float64Array[];
+  out: Float64Array[];
+  ic: Float64Array[];
+  ret: Float64Array[];
+  dom: Int32Array[];
+  /** mode powers, bin-major (M per bin) */
+  modes: Float64Array[];
+}
+
+const SERIES_KEYS = ['ext', 'out', 'ic', 'ret', 'dom', 'modes'] as const;
+
+interface SteppedWindow extends WindowSeries {
   /** time of the turning point this window was stepped around */
   t: number;
   dir: 1 | -1;
@@ -124,14 +138,6 @@ interface SteppedWindow {
   after: number;
   /** first sample index (k0 = round((t - before) / dt_s)) relative to round(t / dt_s) */
   rel0: number;
-  /** per lane, per sample: gap power, laser output, intracavity, returned, dominant mode */
-  ext: Float64Array[];
-  out: Float64Array[];
-  ic: Float64Array[];
-  ret: Float64Array[];
-  dom: Int32Array[];
-  /** per lane, mode powers, sample-major (M per sample) */
-  modes: Float64Array[];
   /** mean over lanes of the window's tail (after the speed rose above the edge) against the curve there: window / curve - 1 */
   spliceMismatch: number;
 }
@@ -311,19 +317,11 @@ export function planSlow(o: SlowPlanOptions): SlowPlan {
   return { dt_s, samples, T, analysed_s, f, periodic, tps, chosen };
 }
 
-/** Some lanes of one stepped turning-point window. */
-export interface WindowPart {
+/** Some lanes of one stepped turning-point window (the series per lane of `lanes`). */
+export interface WindowPart extends WindowSeries {
   window: number;
   /** the lanes' places in the batch */
   lanes: number[];
-  /** per lane of `lanes`, per sample bin: gap power, laser output, intracavity, returned, dominant mode */
-  ext: Float64Array[];
-  out: Float64Array[];
-  ic: Float64Array[];
-  ret: Float64Array[];
-  dom: Int32Array[];
-  /** per lane, mode powers, bin-major (M per bin) */
-  modes: Float64Array[];
   steps: number;
   laneSteps: number;
   worstBalance: number;
@@ -453,14 +451,15 @@ export function stepSlowWindow(
     part.mismatchSum += bal.mismatch;
   }
   // bins the engine's step skipped (dt_s < engine step) take the previous bin's values
-  for (let k = 0; k < nBins; k++) {
-    const c = count[k];
-    for (let l = 0; l < L; l++) {
-      for (const a of [part.ext[l], part.out[l], part.ic[l], part.ret[l]]) {
+  for (let l = 0; l < L; l++) {
+    const series = [part.ext[l], part.out[l], part.ic[l], part.ret[l]];
+    const mp = part.modes[l];
+    for (let k = 0; k < nBins; k++) {
+      const c = count[k];
+      for (const a of series) {
         if (c > 0) a[k] /= c;
         else if (k > 0) a[k] = a[k - 1];
       }
-      const mp = part.modes[l];
       for (let m = 0; m < M; m++) {
         if (c > 0) mp[k * M + m] /= c;
         else if (k > 0) mp[k * M + m] = mp[(k - 1) * M + m];
@@ -542,24 +541,18 @@ export function spliceSlow(
       before: tp.before,
       after: tp.after,
       rel0: k0,
-      ext: new Array<Float64Array>(L),
-      out: new Array<Float64Array>(L),
-      ic: new Array<Float64Array>(L),
-      ret: new Array<Float64Array>(L),
-      dom: new Array<Int32Array>(L),
-      modes: new Array<Float64Array>(L),
+      ext: [],
+      out: [],
+      ic: [],
+      ret: [],
+      dom: [],
+      modes: [],
       spliceMismatch: 0,
     };
+    // each part's lanes into their places in the batch
     for (const part of parts) {
       if (part.window !== w) continue;
-      part.lanes.forEach((i, l) => {
-        sw.ext[i] = part.ext[l];
-        sw.out[i] = part.out[l];
-        sw.ic[i] = part.ic[l];
-        sw.ret[i] = part.ret[l];
-        sw.dom[i] = part.dom[l];
-        sw.modes[i] = part.modes[l];
-      });
+      for (const key of SERIES_KEYS) part.lanes.forEach((i, l) => ((sw[key] as unknown[])[i] = part[key][l]));
     }
     for (let l = 0; l < L; l++)
       if (!sw.ext[l]) throw new Error(`spliceSlow: window ${w} has no stepped part for lane ${l}`);

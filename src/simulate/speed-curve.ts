@@ -362,15 +362,17 @@ function longestFirst(todo: SpeedTodo[]): SpeedTodo[] {
   return [...todo].sort((a, b) => a[0] - b[0] || b[1] - a[1]);
 }
 
-/** Add a computed point to the curve (its cost counted in lane_steps). */
+/** Add a computed point to the curve; returns its cost in lane-steps (counted in lane_steps). */
 export function addSpeedPoint(
   work: SpeedCurveWork,
   ctx: Pick<SpeedCurveContext, 's' | 'p' | 'finesse' | 'regrowth_s' | 'requested'>,
   [k, dir]: SpeedTodo,
   point: SpeedPoint,
-): void {
-  work.curve.lane_steps += speedPointCost(ctx, k, work.memory_s);
+): number {
+  const cost = speedPointCost(ctx, k, work.memory_s);
+  work.curve.lane_steps += cost;
   (dir > 0 ? work.curve.forward : work.curve.backward).push(point);
+  return cost;
 }
 
 /**
@@ -428,8 +430,7 @@ export function ensureSpeedCurve(
     for (const item of list) {
       const r = speedPoint(ctx, item[0], item[1], work.memory_s);
       if (typeof r === 'string') return r;
-      addSpeedPoint(work, ctx, item, r);
-      done += speedPointCost(ctx, item[0], work.memory_s);
+      done += addSpeedPoint(work, ctx, item, r);
       ctx.onProgress?.(Math.min(1, done / Math.max(1, total)));
     }
     return null;
