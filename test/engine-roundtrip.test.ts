@@ -9,7 +9,17 @@
 import { describe, expect, it } from 'vitest';
 import { RoundTripEngine } from '../src/physics/coupled/roundtrip';
 import { balanceErrors } from '../src/physics/coupled/lane-engine';
-import { bankResponse, buildPacketBank } from '../src/physics/laser/gain-packets';
+import {
+  bankResponse,
+  buildPacketBank,
+  PACKET_SLOTS,
+  packetCoefficients,
+  SLOT_W,
+  SLOT_YI,
+  SLOT_YR,
+  SLOT_YSQ,
+  stepPacketLanes,
+} from '../src/physics/laser/gain-packets';
 import { createRng } from '../src/numerics/rng';
 import { freeRunningRoundTrip } from '../src/simulate/references';
 import { CHIP, laserInput, paramsOf, scenario, STILL } from './fixtures/engine/build';
@@ -49,6 +59,79 @@ describe('gain packets', () => {
     // Discrete-Time Signal Processing, 3rd ed., sec. 7.2): no gain floor across the band
     expect(Math.abs(bankResponse(bank, 1 / (2 * dt), null).re)).toBeLessThan(1e-12);
     expect(bankResponse(bank, 4.5e9, null).re).toBeLessThan(2e-3);
+  });
+
+  it('lanes stepped together follow the bilinear recursion of every filter and gain sum exactly as one lane alone', () => {
+    const gain = {
+      broadening: 'inhomogeneous',
+      shape: 'gaussian',
+      linewidth: 1.5e9,
+      homogeneous_width: 100e6,
+    } as never;
+    const bank = buildPacketBank(gain, 1.2e-10);
+    const F = bank.filters;
+    const coef = packetCoefficients(bank);
+    const lanes = 7;
+    const rng = createRng(5);
+    const inputs = Array.from({ length: lanes }, () =>
+      Array.from({ length: 40 }, () => [rng.normal(), rng.normal()]),
+    );
+    const weights = Array.from({ length: lanes }, () => Array.from({ length: F }, () => 0.5 + rng.uniform()));
+    // the recursion written out per filter: y_n = A y_{n-1} + B (x_n + x_{n-1}) (the
+    // bilinear transform, Oppenheim and Schafer, 3rd ed., sec. 7.2), G = sum_j w_j y_j
+    const want = inputs.map((xs, l) => {
+      const y = Array.from({ length: F }, () => [0, 0]);
+      const sq = new Array<number>(F).fill(0);
+      let prev = [0, 0];
+      let G = [0, 0];
+      for (const x of xs) {
+        const s = [x[0] + prev[0], x[1] + prev[1]];
+        prev = x;
+        G = [0, 0];
+        for (let j = 0; j < F; j++) {
+          const [yr, yi] = y[j];
+          const nr = bank.Ar[j] * yr - bank.Ai[j] * yi + bank.Br[j] * s[0] - bank.Bi[j] * s[1];
+          const ni = bank.Ar[j] * yi + bank.Ai[j] * yr + bank.Br[j] * s[1] + bank.Bi[j] * s[0];
+          y[j] = [nr, ni];
+          sq[j] += nr * nr + ni * ni;
+          G = [G[0] + weights[l][j] * nr, G[1] + weights[l][j] * ni];
+        }
+      }
+      return { y, sq, G };
+    });
+    // groups of 4 + 3 (2 + 1) lanes, and 1 + 2 + 4, must give the same, to the last bit
+    for (const groups of [
+      [4, 3],
+      [1, 2, 4],
+    ]) {
+      const state = new Float64Array(lanes * F * PACKET_SLOTS);
+      for (let l = 0; l < lanes; l++)
+        for (let j = 0; j < F; j++) state[(l * F + j) * PACKET_SLOTS + SLOT_W] = weights[l][j];
+      const io = new Float64Array(4 * lanes);
+      const prev = new Float64Array(2 * lanes);
+      for (let n = 0; n < 40; n++) {
+        for (let l = 0; l < lanes; l++) {
+          const x = inputs[l][n];
+          io[4 * l] = x[0] + prev[2 * l];
+          io[4 * l + 1] = x[1] + prev[2 * l + 1];
+          prev[2 * l] = x[0];
+          prev[2 * l + 1] = x[1];
+        }
+        let l0 = 0;
+        for (const g of groups) {
+          stepPacketLanes(state, coef, F, l0 * F * PACKET_SLOTS, g, io, 4 * l0, true);
+          l0 += g;
+        }
+      }
+      for (let l = 0; l < lanes; l++) {
+        expect([io[4 * l + 2], io[4 * l + 3]]).toEqual(want[l].G);
+        for (let j = 0; j < F; j++) {
+          const q = (l * F + j) * PACKET_SLOTS;
+          expect([state[q + SLOT_YR], state[q + SLOT_YI]]).toEqual(want[l].y[j]);
+          expect(state[q + SLOT_YSQ]).toBe(want[l].sq[j]);
+        }
+      }
+    }
   });
 });
 

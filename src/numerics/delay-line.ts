@@ -21,21 +21,44 @@ export const READ_POINTS = 8;
 /** Smallest delay (samples back from the slot being written) a centred read allows. */
 export const MIN_CENTRED_DELAY = READ_POINTS / 2;
 
+/** 1 / prod_{j != i} (x_i - x_j) for the centred n-point stencil, by n. */
+const LAGRANGE_DENOMINATORS = new Map<number, Float64Array>();
+
+function lagrangeDenominators(n: number): Float64Array {
+  let d = LAGRANGE_DENOMINATORS.get(n);
+  if (d === undefined) {
+    d = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      // prod_{j != i} (i - j) = (-1)^(n - 1 - i) i! (n - 1 - i)!
+      let p = 1;
+      for (let j = 0; j < n; j++) if (j !== i) p *= i - j;
+      d[i] = 1 / p;
+    }
+    LAGRANGE_DENOMINATORS.set(n, d);
+  }
+  return d;
+}
+
+/** Scratch of lagrangeCentredN: prod_{j < i} (u - x_j). */
+let lagrangePrefix = new Float64Array(READ_POINTS + 1);
+
 /**
  * Weights of the centred n-point Lagrange read (n even) at fraction u in [0, 1) between
- * nodes 0 and 1 of the stencil -(n/2 - 1) .. n/2, into w[0..n-1].
+ * nodes 0 and 1 of the stencil -(n/2 - 1) .. n/2, into w[0..n-1]:
+ * w_i = prod_{j != i} (u - x_j) / prod_{j != i} (x_i - x_j), the numerator as a prefix
+ * product times a suffix product (3n multiplications, no division per read).
  */
 export function lagrangeCentredN(u: number, n: number, w: Float64Array): void {
   const lo = -(n / 2 - 1);
-  for (let i = 0; i < n; i++) {
-    const xi = lo + i;
-    let p = 1;
-    for (let j = 0; j < n; j++) {
-      if (j === i) continue;
-      const xj = lo + j;
-      p *= (u - xj) / (xi - xj);
-    }
-    w[i] = p;
+  const den = lagrangeDenominators(n);
+  if (lagrangePrefix.length < n + 1) lagrangePrefix = new Float64Array(n + 1);
+  const pre = lagrangePrefix;
+  pre[0] = 1;
+  for (let i = 0; i < n; i++) pre[i + 1] = pre[i] * (u - (lo + i));
+  let suf = 1;
+  for (let i = n - 1; i >= 0; i--) {
+    w[i] = pre[i] * suf * den[i];
+    suf *= u - (lo + i);
   }
 }
 

@@ -33,7 +33,18 @@
  */
 import { SPEED_OF_LIGHT_m_s } from '../constants';
 import { ComplexDelayLines, MIN_CENTRED_DELAY } from '../../numerics/delay-line';
-import { bankResponse, buildPacketBank, PacketBank } from '../laser/gain-packets';
+import {
+  bankResponse,
+  buildPacketBank,
+  PacketBank,
+  PACKET_SLOTS,
+  packetCoefficients,
+  SLOT_W,
+  SLOT_YI,
+  SLOT_YR,
+  SLOT_YSQ,
+  stepPacketLanes,
+} from '../laser/gain-packets';
 import type { CoupledParams } from './params';
 import { emptyEnergy, FIELD_FLUSH, LaneStore } from './lane-engine';
 import type { LaneEngine, LaneEnergy, MirrorMotion, NormalSource } from './lane-engine';
@@ -104,19 +115,25 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
   private readonly aRe: Float64Array;
   private readonly aIm: Float64Array;
   private slot = 0;
-  /** filter states (sheet, lane, filter) and previous inputs (sheet, lane) */
-  private readonly yr: Float64Array;
-  private readonly yi: Float64Array;
+  /**
+   * packet state per (sheet, lane, filter), PACKET_SLOTS each (gain-packets.ts): filter
+   * output, the lane's effective gain weight wA n[iA] + wB n[iB] (refreshed with the
+   * inversions, the same in every sheet) and, in sheet 0, the sum of |y|^2 since the
+   * lane's last inversion update; and the previous inputs per (sheet, lane)
+   */
+  private readonly pk: Float64Array;
+  /** the bank's coefficients interleaved per filter (Ar, Ai, Br, Bi) */
+  private readonly coef: Float64Array;
+  /** per lane: the medium's input x (re, im) through the sheets */
+  private readonly gx: Float64Array;
+  /** per lane: [s re, s im, G re, G im] of the sheet being stepped */
+  private readonly gio: Float64Array;
   private readonly xpr: Float64Array;
   private readonly xpi: Float64Array;
   /** inversions (lane, inversion) */
   private readonly inv: Float64Array;
   private readonly nInv: number;
   private readonly invSat: Float64Array;
-  /** per (lane, filter): effective gain weight wA n[iA] + wB n[iB], refreshed with the inversions */
-  private readonly wEff: Float64Array;
-  /** per (lane, filter): sum of |y|^2 since the last inversion update */
-  private readonly ySq: Float64Array;
   /** per lane: the peak-normalised mean inversion (for alpha) */
   private readonly nbar: Float64Array;
   /** inversions are advanced every invEvery steps with the mean saturating power of those steps */
@@ -207,15 +224,15 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const dMax = Math.max(this.halfChi0, this.halfChi0 * Math.abs(p.pump - 1));
     this.sheets = Math.max(1, Math.ceil(dMax / SHEET_LIMIT));
     const F = this.bank.filters;
-    this.yr = new Float64Array(this.sheets * lanes * F);
-    this.yi = new Float64Array(this.sheets * lanes * F);
+    this.pk = new Float64Array(this.sheets * lanes * F * PACKET_SLOTS);
+    this.coef = packetCoefficients(this.bank);
+    this.gx = new Float64Array(2 * lanes);
+    this.gio = new Float64Array(4 * lanes);
     this.xpr = new Float64Array(this.sheets * lanes);
     this.xpi = new Float64Array(this.sheets * lanes);
     this.nInv = this.bank.inversions;
     this.inv = new Float64Array(lanes * this.nInv).fill(1);
     this.invSat = new Float64Array(this.nInv);
-    this.wEff = new Float64Array(lanes * F);
-    this.ySq = new Float64Array(lanes * F);
     this.nbar = new Float64Array(lanes).fill(1);
     // 3 % of tau_N between inversion updates (at most 8 steps): the inversion relaxes over
     // tau_N / (1 + S), and what it integrates, the saturating power, is summed every step
@@ -311,7 +328,7 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     }
     this.inv.fill(1, l * this.nInv, (l + 1) * this.nInv);
     this.refreshWeights(l);
-    this.ySq.fill(0, l * this.bank.filters, (l + 1) * this.bank.filters);
+    this.setSatSums(l, null, 0, 0);
     for (let m = 0; m < M; m++) {
       this.N[l * M + m] = N[m] ?? 1;
       this.Er[l * M + m] = Er[m];
@@ -325,9 +342,11 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
   private clearLaneFilters(l: number): void {
     const F = this.bank.filters;
     for (let s = 0; s < this.sheets; s++) {
-      const base = (s * this.L + l) * F;
-      this.yr.fill(0, base, base + F);
-      this.yi.fill(0, base, base + F);
+      const base = (s * this.L + l) * F * PACKET_SLOTS;
+      for (let j = 0; j < F; j++) {
+        this.pk[base + PACKET_SLOTS * j + SLOT_YR] = 0;
+        this.pk[base + PACKET_SLOTS * j + SLOT_YI] = 0;
+      }
       this.xpr[s * this.L + l] = 0;
       this.xpi[s * this.L + l] = 0;
     }
@@ -415,24 +434,34 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     for (let i = 0; i < nI; i++) this.inv[to * nI + i] = src.inv[from * nI + i];
     this.refreshWeights(to);
     // the saturating power summed since the source's last update, rescaled to this engine's count
-    const F = this.bank.filters;
-    const scale = src.invCount > 0 ? this.invCount / src.invCount : 0;
-    for (let j = 0; j < F; j++) this.ySq[to * F + j] = src.ySq[from * F + j] * scale;
+    this.setSatSums(to, src, from, src.invCount > 0 ? this.invCount / src.invCount : 0);
     this.copyWindows(src, from, to);
   }
 
   private copyFilters(src: RoundTripEngine, from: number, to: number): void {
     const F = this.bank.filters;
     for (let s = 0; s < this.sheets; s++) {
-      const bs = (s * src.L + from) * F;
-      const bd = (s * this.L + to) * F;
+      const bs = (s * src.L + from) * F * PACKET_SLOTS;
+      const bd = (s * this.L + to) * F * PACKET_SLOTS;
       for (let j = 0; j < F; j++) {
-        this.yr[bd + j] = src.yr[bs + j];
-        this.yi[bd + j] = src.yi[bs + j];
+        this.pk[bd + PACKET_SLOTS * j + SLOT_YR] = src.pk[bs + PACKET_SLOTS * j + SLOT_YR];
+        this.pk[bd + PACKET_SLOTS * j + SLOT_YI] = src.pk[bs + PACKET_SLOTS * j + SLOT_YI];
       }
       this.xpr[s * this.L + to] = src.xpr[s * src.L + from];
       this.xpi[s * this.L + to] = src.xpi[s * src.L + from];
     }
+  }
+
+  /**
+   * Set lane `to`'s sums of |y|^2 since its last inversion update to lane `from` of `src`
+   * times `scale` (src null: to zero).
+   */
+  private setSatSums(to: number, src: RoundTripEngine | null, from: number, scale: number): void {
+    const F = this.bank.filters;
+    const bd = to * F * PACKET_SLOTS + SLOT_YSQ;
+    const bs = from * F * PACKET_SLOTS + SLOT_YSQ;
+    for (let j = 0; j < F; j++)
+      this.pk[bd + PACKET_SLOTS * j] = src === null ? 0 : src.pk[bs + PACKET_SLOTS * j] * scale;
   }
 
   /**
@@ -620,12 +649,6 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
       sA = bank.satA,
       sB = bank.satB;
     const inv = this.inv;
-    const Ar = bank.Ar,
-      Ai = bank.Ai,
-      Br = bank.Br,
-      Bi = bank.Bi;
-    const yr = this.yr,
-      yi = this.yi;
     const hc = this.halfChi0;
     const eh = this.expHalfChi0;
     const r2 = p.r2;
@@ -670,6 +693,7 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     this.stepCount++;
     if ((this.stepCount & 1023) === 0) this.resyncPhasors(t1);
 
+    // ---- per lane: the returned field, M2, the bookkeeping that does not need the medium's output
     for (let l = 0; l < L; l++) {
       const ea = l * ACC;
       const acc = this.acc;
@@ -755,86 +779,11 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         const errM2 = rhs > 0 ? Math.abs(lhs - rhs) / rhs : 0;
         if (errM2 > this.m2Closure[l]) this.m2Closure[l] = errM2;
       }
-      // ---- the gain medium: K sheets of (1 + D / K), D = G0 - chi0 / 2
-      let xr = uR;
-      let xi = uI;
-      const invBase = l * nI;
-      const fl = l * F;
-      const wE = this.wEff;
-      const ySq = this.ySq;
-      for (let s = 0; s < K; s++) {
-        const fb = (s * L + l) * F;
-        const xs = s * L + l;
-        const sr = xr + this.xpr[xs];
-        const si = xi + this.xpi[xs];
-        this.xpr[xs] = xr;
-        this.xpi[xs] = xi;
-        let gr = 0;
-        let gi = 0;
-        // the first sheet also accumulates each filter's power for the inversions
-        const first = s === 0;
-        for (let j = 0; j < F; j++) {
-          const q = fb + j;
-          const y0r = yr[q];
-          const y0i = yi[q];
-          const y1r = Ar[j] * y0r - Ai[j] * y0i + Br[j] * sr - Bi[j] * si;
-          const y1i = Ar[j] * y0i + Ai[j] * y0r + Br[j] * si + Bi[j] * sr;
-          yr[q] = y1r;
-          yi[q] = y1i;
-          const wn = wE[fl + j];
-          gr += wn * y1r;
-          gi += wn * y1i;
-          if (first) ySq[fl + j] += y1r * y1r + y1i * y1i;
-        }
-        // x <- x + (G0[x] - chi0/2 x) / K
-        xr += (hc * gr - hc * xr) / K;
-        xi += (hc * gi - hc * xi) / K;
-      }
-      // overall exp(chi0 / 2) and the alpha phase (alpha / 2) chi0 (nbar - 1)
-      let vR = eh * xr;
-      let vI = eh * xi;
-      if (p.alpha !== 0) {
-        const ph = alphaHalfChi * (this.nbar[l] - 1);
-        const c = Math.cos(ph);
-        const s = Math.sin(ph);
-        const r = vR * c - vI * s;
-        vI = vR * s + vI * c;
-        vR = r;
-      }
-      // ---- inversions every invEvery steps: exact exponential relaxation over those steps
-      // towards p / (1 + S / P_sat), S their mean saturating power (the relaxation factor
-      // e^{-x}, x = (1 + S) h / tau_N, to third order where x is small: the steady state is
-      // the target exactly either way)
-      if (updateInv) {
-        invSat.fill(0);
-        for (let j = 0; j < F; j++) {
-          const y2 = ySq[fl + j];
-          invSat[iA[j]] += sA[j] * y2;
-          invSat[iB[j]] += sB[j] * y2;
-          ySq[fl + j] = 0;
-        }
-        const x0 = invTauN * dt * invSteps;
-        const norm = satScale / invSteps;
-        for (let i = 0; i < nI; i++) {
-          const S = invSat[i] * norm;
-          const target = pump / (1 + S);
-          const xr = (1 + S) * x0;
-          const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
-          const k = invBase + i;
-          inv[k] = target + (inv[k] - target) * decay;
-        }
-        this.refreshWeights(l);
-      }
-      const v2 = vR * vR + vI * vI;
-      if (!(v2 < 1e30)) {
-        this.failed = true;
-        this.failMessage = `non-finite laser field in lane ${l} at t = ${t1.toExponential(3)} s (round-trip engine)`;
-        return;
-      }
-      this.laser.set(l, vR, vI);
+      // the medium's input, stepped for all lanes at once below
+      this.gx[2 * l] = uR;
+      this.gx[2 * l + 1] = uI;
       if (this.gap) this.gap.set(l, aR, aI);
       // ---- bookkeeping (docs/model.md §3.5): telescopes exactly to round-off
-      acc[ea + ACC_GAIN] += (v2 - u2) * dt;
       acc[ea + ACC_COLD] += ((1 - rho1 * rho1) * vOld2 + (1 - p.R2) * e2) * dt;
       acc[ea + ACC_INJ] += (u2 - p.R2 * e2) * dt;
       if (ext) {
@@ -842,11 +791,9 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         acc[ea + ACC_EXT_LOST] += aDel2 * dt;
         acc[ea + ACC_EXT_SCALE] += a2 * dt;
       }
-      this.sumV[l] += v2 - vOld2;
       const lb = 8 * l;
       this.last[lb] = e2;
       this.last[lb + 1] = u2;
-      this.last[lb + 2] = v2;
       this.last[lb + 3] = vOld2;
       this.last[lb + 4] = a2;
       this.last[lb + 5] = b2;
@@ -883,8 +830,87 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         this.ai[k] += inv1 * (aR * ci + aI * cr - (aOldR * oi + aOldI * or));
         this.br[k] = bR * cr - bI * ci;
         this.bi[k] = bR * ci + bI * cr;
-        this.N[k] = inv[invBase + this.modeInv[m]];
       }
+    }
+    // ---- the gain medium: K sheets of (1 + D / K), D = G0 - chi0 / 2; the packet filters
+    // of up to four lanes step together (they share the coefficient loads)
+    const gx = this.gx;
+    const gio = this.gio;
+    const pk = this.pk;
+    for (let s = 0; s < K; s++) {
+      for (let l = 0; l < L; l++) {
+        const xs = s * L + l;
+        const xr = gx[2 * l];
+        const xi = gx[2 * l + 1];
+        gio[4 * l] = xr + this.xpr[xs];
+        gio[4 * l + 1] = xi + this.xpi[xs];
+        this.xpr[xs] = xr;
+        this.xpi[xs] = xi;
+      }
+      // the first sheet also accumulates each filter's power for the inversions
+      for (let l = 0; l < L; l += 4) {
+        const n = Math.min(4, L - l);
+        stepPacketLanes(pk, this.coef, F, (s * L + l) * F * PACKET_SLOTS, n, gio, 4 * l, s === 0);
+      }
+      // x <- x + (G0[x] - chi0/2 x) / K
+      for (let l = 0; l < L; l++) {
+        const xr = gx[2 * l];
+        const xi = gx[2 * l + 1];
+        gx[2 * l] = xr + (hc * gio[4 * l + 2] - hc * xr) / K;
+        gx[2 * l + 1] = xi + (hc * gio[4 * l + 3] - hc * xi) / K;
+      }
+    }
+    // ---- per lane: the medium's output, the inversions, the laser ring
+    for (let l = 0; l < L; l++) {
+      const invBase = l * nI;
+      const fl = l * F;
+      // overall exp(chi0 / 2) and the alpha phase (alpha / 2) chi0 (nbar - 1)
+      let vR = eh * gx[2 * l];
+      let vI = eh * gx[2 * l + 1];
+      if (p.alpha !== 0) {
+        const ph = alphaHalfChi * (this.nbar[l] - 1);
+        const c = Math.cos(ph);
+        const s = Math.sin(ph);
+        const r = vR * c - vI * s;
+        vI = vR * s + vI * c;
+        vR = r;
+      }
+      // ---- inversions every invEvery steps: exact exponential relaxation over those steps
+      // towards p / (1 + S / P_sat), S their mean saturating power (the relaxation factor
+      // e^{-x}, x = (1 + S) h / tau_N, to third order where x is small: the steady state is
+      // the target exactly either way)
+      if (updateInv) {
+        invSat.fill(0);
+        for (let j = 0; j < F; j++) {
+          const q = (fl + j) * PACKET_SLOTS + SLOT_YSQ;
+          const y2 = pk[q];
+          invSat[iA[j]] += sA[j] * y2;
+          invSat[iB[j]] += sB[j] * y2;
+          pk[q] = 0;
+        }
+        const x0 = invTauN * dt * invSteps;
+        const norm = satScale / invSteps;
+        for (let i = 0; i < nI; i++) {
+          const S = invSat[i] * norm;
+          const target = pump / (1 + S);
+          const xr = (1 + S) * x0;
+          const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
+          const k = invBase + i;
+          inv[k] = target + (inv[k] - target) * decay;
+        }
+        this.refreshWeights(l);
+      }
+      const v2 = vR * vR + vI * vI;
+      if (!(v2 < 1e30)) {
+        this.failed = true;
+        this.failMessage = `non-finite laser field in lane ${l} at t = ${t1.toExponential(3)} s (round-trip engine)`;
+        return;
+      }
+      this.laser.set(l, vR, vI);
+      this.acc[l * ACC + ACC_GAIN] += (v2 - this.last[8 * l + 1]) * dt;
+      this.sumV[l] += v2 - this.last[8 * l + 3];
+      this.last[8 * l + 2] = v2;
+      for (let m = 0; m < M; m++) this.N[l * M + m] = inv[invBase + this.modeInv[m]];
     }
     this.t = t1;
   }
@@ -895,11 +921,21 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const F = b.filters;
     const nI = this.nInv;
     const base = l * nI;
-    for (let j = 0; j < F; j++)
-      this.wEff[l * F + j] =
-        b.weightA[j] * this.inv[base + b.invA[j]] + b.weightB[j] * this.inv[base + b.invB[j]];
+    const inv = this.inv;
+    const wA = b.weightA;
+    const wB = b.weightB;
+    const iA = b.invA;
+    const iB = b.invB;
+    const pk = this.pk;
+    const K = this.sheets;
+    const sheetStride = this.L * F * PACKET_SLOTS;
+    for (let j = 0, q = l * F * PACKET_SLOTS + SLOT_W; j < F; j++, q += PACKET_SLOTS) {
+      const w = wA[j] * inv[base + iA[j]] + wB[j] * inv[base + iB[j]];
+      pk[q] = w;
+      for (let s = 1; s < K; s++) pk[q + s * sheetStride] = w;
+    }
     let s = 0;
-    for (let i = 0; i < nI; i++) s += this.inv[base + i];
+    for (let i = 0; i < nI; i++) s += inv[base + i];
     this.nbar[l] = s / nI;
   }
 
