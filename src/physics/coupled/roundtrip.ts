@@ -32,7 +32,12 @@
  * nothing.
  */
 import { SPEED_OF_LIGHT_m_s } from '../constants';
-import { ComplexDelayLines, MIN_CENTRED_DELAY } from '../../numerics/delay-line';
+import {
+  ComplexDelayLines,
+  lagrangeCentredN,
+  MIN_CENTRED_DELAY,
+  READ_POINTS,
+} from '../../numerics/delay-line';
 import {
   bankResponse,
   buildPacketBank,
@@ -74,6 +79,9 @@ const ACC_EXT_SCALE = 6;
 const ACC = 7;
 /** Largest |D / K| per gain sheet. */
 export const SHEET_LIMIT = 0.1;
+
+/** Stands in for the gap's delay line where there is no gap (never read). */
+const NO_LINE = new Float64Array(0);
 
 /** Fraction of 2 pi of x (x may be large): keeps carrier phases exact. */
 function frac(x: number): number {
@@ -136,6 +144,8 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
   private readonly invSat: Float64Array;
   /** per lane: the peak-normalised mean inversion (for alpha) */
   private readonly nbar: Float64Array;
+  /** the bank is a Doppler bank whose filter j serves inversions j and F - 1 - j (the inversion update's fast path) */
+  private readonly mirrored: boolean;
   /** inversions are advanced every invEvery steps with the mean saturating power of those steps */
   readonly invEvery: number;
   private invCount = 0;
@@ -168,7 +178,8 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
   private readonly halfChi0: number;
   private readonly expHalfChi0: number;
   private readonly satScale: number;
-  private readonly tmp = new Float64Array(2);
+  /** weights of the gap's centred read (delay-line.ts), filled per lane and step */
+  private readonly gw = new Float64Array(READ_POINTS);
   /** a weak external probe arriving at M2 from the gap side: amplitude (W^0.5) and detuning (Hz) */
   private probeAmp = 0;
   private probeDet = 0;
@@ -237,6 +248,10 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     // 3 % of tau_N between inversion updates (at most 8 steps): the inversion relaxes over
     // tau_N / (1 + S), and what it integrates, the saturating power, is summed every step
     this.invEvery = Math.max(1, Math.min(8, Math.floor((0.03 * p.tauN) / dt)));
+    const bk = this.bank;
+    let mirrored = bk.inversions === F;
+    for (let j = 0; j < F && mirrored; j++) mirrored = bk.invA[j] === j && bk.invB[j] === F - 1 - j;
+    this.mirrored = mirrored;
     this.modeInv = Int32Array.from(p.modes.detuning_Hz, (_, m) => this.nearestInversion(m));
     for (let l = 0; l < lanes; l++) this.refreshWeights(l);
     // demodulation at the cold-cavity modes (detuning from the gain peak = carrier)
@@ -647,7 +662,9 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const iA = bank.invA,
       iB = bank.invB,
       sA = bank.satA,
-      sB = bank.satB;
+      sB = bank.satB,
+      wA = bank.weightA,
+      wB = bank.weightB;
     const inv = this.inv;
     const hc = this.halfChi0;
     const eh = this.expHalfChi0;
@@ -665,7 +682,55 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const nI = this.nInv;
     const invSat = this.invSat;
     const satScale = this.satScale;
-    const tmp = this.tmp;
+    const gw = this.gw;
+    const gap = this.gap;
+    const gre = gap === null ? NO_LINE : gap.re;
+    const gim = gap === null ? NO_LINE : gap.im;
+    const gcap = gap === null ? 0 : gap.cap;
+    const gmask = gap === null ? 0 : gap.mask;
+    // the engine's arrays as locals: the loops below then load no field of `this`
+    const offset = this.offset;
+    const ahead = this.ahead;
+    const firR = this.firR;
+    const firI = this.firI;
+    const m2Closure = this.m2Closure;
+    const gx = this.gx;
+    const gio = this.gio;
+    const pk = this.pk;
+    const last = this.last;
+    const eRe = this.eRe;
+    const eIm = this.eIm;
+    const aRe = this.aRe;
+    const aIm = this.aIm;
+    const pE = this.pE;
+    const pA = this.pA;
+    const pB = this.pB;
+    const sumE = this.sumE;
+    const sumA = this.sumA;
+    const sumB = this.sumB;
+    const sumV = this.sumV;
+    const phr = this.phr;
+    const phi = this.phi;
+    const oldR = this.oldR;
+    const oldI = this.oldI;
+    const rotR = this.rotR;
+    const rotI = this.rotI;
+    const Er = this.Er;
+    const Ei = this.Ei;
+    const ar = this.ar;
+    const ai = this.ai;
+    const br = this.br;
+    const bi = this.bi;
+    const N = this.N;
+    const nbar = this.nbar;
+    const acc = this.acc;
+    const xpr = this.xpr;
+    const xpi = this.xpi;
+    const modeInv = this.modeInv;
+    const lre = this.laser.re;
+    const lim = this.laser.im;
+    const lcap = this.laser.cap;
+    const lmask = this.laser.mask;
     // inversion cadence
     const updateInv = ++this.invCount >= this.invEvery;
     const invSteps = this.invCount;
@@ -679,6 +744,8 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     // advance the rings (shared heads) and the window slot
     this.laser.advance();
     if (this.gap) this.gap.advance();
+    const lhead = this.laser.head;
+    const ghead = gap === null ? 0 : gap.head;
     const slot = (this.slot + 1) % NL;
     this.slot = slot;
     const aMask = this.aheadMask;
@@ -686,9 +753,9 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const aPos = this.stepCount & aMask;
     // rotate the demodulation phasors to t1
     for (let m = 0; m < M; m++) {
-      const r = this.phr[m] * this.rotR[m] - this.phi[m] * this.rotI[m];
-      this.phi[m] = this.phr[m] * this.rotI[m] + this.phi[m] * this.rotR[m];
-      this.phr[m] = r;
+      const r = phr[m] * rotR[m] - phi[m] * rotI[m];
+      phi[m] = phr[m] * rotI[m] + phi[m] * rotR[m];
+      phr[m] = r;
     }
     this.stepCount++;
     if ((this.stepCount & 1023) === 0) this.resyncPhasors(t1);
@@ -696,25 +763,34 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     // ---- per lane: the returned field, M2, the bookkeeping that does not need the medium's output
     for (let l = 0; l < L; l++) {
       const ea = l * ACC;
-      const acc = this.acc;
       // ---- returned field b(t1) from the gap's history
       let bR = 0;
       let bI = 0;
       let aDel2 = 0;
       if (ext) {
-        const gap = this.gap as ComplexDelayLines;
-        const disp = this.offset[l] + x;
+        const disp = offset[l] + x;
         const D = this.delayPerMetre * (p.externalLength_m + disp);
         // the head has moved to t1 (not yet written): a(t1 - tau) is D samples back from it,
-        // and the centred stencil's newest node (D - 1 back at the least) is already written
-        gap.read(l, D, tmp, 0);
-        aDel2 = tmp[0] * tmp[0] + tmp[1] * tmp[1];
+        // and the centred stencil's newest node (D - 1 back at the least) is already written;
+        // the read of ComplexDelayLines.read written out: node i sits at head - k + n/2 - 1 - i
+        const k = Math.floor(D);
+        lagrangeCentredN(D - k, READ_POINTS, gw);
+        const top = ghead - k + READ_POINTS / 2 - 1;
+        const gb = l * gcap;
+        let adR = 0;
+        let adI = 0;
+        for (let i = 0; i < READ_POINTS; i++) {
+          const idx = gb + ((top - i) & gmask);
+          adR += gw[i] * gre[idx];
+          adI += gw[i] * gim[idx];
+        }
+        aDel2 = adR * adR + adI * adI;
         const ph = 2 * Math.PI * frac(this.gapPhase0 + this.gapPhasePerMetre * disp);
         const c = Math.cos(ph);
         const s = Math.sin(ph);
         // b = r3' a_del exp(-i ph)
-        bR = r3 * (tmp[0] * c + tmp[1] * s);
-        bI = r3 * (tmp[1] * c - tmp[0] * s);
+        bR = r3 * (adR * c + adI * s);
+        bI = r3 * (adI * c - adR * s);
       }
       if (this.probeAmp !== 0) {
         const th = 2 * Math.PI * frac(this.probeDet * t1);
@@ -722,9 +798,9 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         bI += this.probeAmp * Math.sin(th);
       }
       // ---- field arriving at M2 from M1: e = rho1 Pc v(t1 - tau_L) + w
-      const iv = this.laser.index(l, NL);
-      const vr = this.laser.re[iv];
-      const vi = this.laser.im[iv];
+      const iv = l * lcap + ((lhead - NL) & lmask);
+      const vr = lre[iv];
+      const vi = lim[iv];
       const vOld2 = vr * vr + vi * vi;
       let eR = rho1 * (vr * pcR - vi * pcI);
       let eI = rho1 * (vr * pcI + vi * pcR);
@@ -736,17 +812,17 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         const taps = this.firR.length;
         for (let k = 0; k < taps; k++) {
           const q = aheadBase + 2 * ((aPos + k) & aMask);
-          this.ahead[q] += this.firR[k] * zr - this.firI[k] * zi;
-          this.ahead[q + 1] += this.firR[k] * zi + this.firI[k] * zr;
+          ahead[q] += firR[k] * zr - firI[k] * zi;
+          ahead[q + 1] += firR[k] * zi + firI[k] * zr;
         }
       }
       {
         const q = aheadBase + 2 * aPos;
         const before = eR * eR + eI * eI;
-        eR += this.ahead[q];
-        eI += this.ahead[q + 1];
-        this.ahead[q] = 0;
-        this.ahead[q + 1] = 0;
+        eR += ahead[q];
+        eI += ahead[q + 1];
+        ahead[q] = 0;
+        ahead[q + 1] = 0;
         if (eR * eR + eI * eI < FIELD_FLUSH) {
           eR = 0;
           eI = 0;
@@ -755,7 +831,7 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
       }
       const e2 = eR * eR + eI * eI;
       // ---- M2, the exact lossy beam splitter (the coupling follows an actuator's tilt, §2.5)
-      const fc = law === null ? 1 : law(this.offset[l] + x);
+      const fc = law === null ? 1 : law(offset[l] + x);
       const cpl = cpl0 * fc;
       let uR = r2 * eR;
       let uI = r2 * eI;
@@ -777,12 +853,15 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         const lhs = u2 + a2;
         const rhs = Rsum * (e2 + b2);
         const errM2 = rhs > 0 ? Math.abs(lhs - rhs) / rhs : 0;
-        if (errM2 > this.m2Closure[l]) this.m2Closure[l] = errM2;
+        if (errM2 > m2Closure[l]) m2Closure[l] = errM2;
       }
       // the medium's input, stepped for all lanes at once below
-      this.gx[2 * l] = uR;
-      this.gx[2 * l + 1] = uI;
-      if (this.gap) this.gap.set(l, aR, aI);
+      gx[2 * l] = uR;
+      gx[2 * l + 1] = uI;
+      if (ext) {
+        gre[l * gcap + ghead] = aR;
+        gim[l * gcap + ghead] = aI;
+      }
       // ---- bookkeeping (docs/model.md §3.5): telescopes exactly to round-off
       acc[ea + ACC_COLD] += ((1 - rho1 * rho1) * vOld2 + (1 - p.R2) * e2) * dt;
       acc[ea + ACC_INJ] += (u2 - p.R2 * e2) * dt;
@@ -792,60 +871,57 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         acc[ea + ACC_EXT_SCALE] += a2 * dt;
       }
       const lb = 8 * l;
-      this.last[lb] = e2;
-      this.last[lb + 1] = u2;
-      this.last[lb + 3] = vOld2;
-      this.last[lb + 4] = a2;
-      this.last[lb + 5] = b2;
-      this.last[lb + 6] = aDel2;
-      this.last[lb + 7] = fc;
+      last[lb] = e2;
+      last[lb + 1] = u2;
+      last[lb + 3] = vOld2;
+      last[lb + 4] = a2;
+      last[lb + 5] = b2;
+      last[lb + 6] = aDel2;
+      last[lb + 7] = fc;
       // ---- windows over the last round trip
       const j = l * NL + slot;
-      const eOldR = this.eRe[j];
-      const eOldI = this.eIm[j];
-      const aOldR = this.aRe[j];
-      const aOldI = this.aIm[j];
-      this.sumE[l] += e2 - this.pE[j];
-      this.sumA[l] += a2 - this.pA[j];
-      this.sumB[l] += b2 - this.pB[j];
-      this.pE[j] = e2;
-      this.pA[j] = a2;
-      this.pB[j] = b2;
-      this.eRe[j] = eR;
-      this.eIm[j] = eI;
-      this.aRe[j] = aR;
-      this.aIm[j] = aI;
+      const eOldR = eRe[j];
+      const eOldI = eIm[j];
+      const aOldR = aRe[j];
+      const aOldI = aIm[j];
+      sumE[l] += e2 - pE[j];
+      sumA[l] += a2 - pA[j];
+      sumB[l] += b2 - pB[j];
+      pE[j] = e2;
+      pA[j] = a2;
+      pB[j] = b2;
+      eRe[j] = eR;
+      eIm[j] = eI;
+      aRe[j] = aR;
+      aIm[j] = aI;
       const inv1 = 1 / NL;
       const mb = l * M;
       for (let m = 0; m < M; m++) {
-        const cr = this.phr[m];
-        const ci = this.phi[m];
+        const cr = phr[m];
+        const ci = phi[m];
         // the leaving sample's phasor phi(t1 - tau_L) = phi(t1) * old
-        const or = cr * this.oldR[m] - ci * this.oldI[m];
-        const oi = cr * this.oldI[m] + ci * this.oldR[m];
+        const or = cr * oldR[m] - ci * oldI[m];
+        const oi = cr * oldI[m] + ci * oldR[m];
         const k = mb + m;
-        this.Er[k] += inv1 * (eR * cr - eI * ci - (eOldR * or - eOldI * oi));
-        this.Ei[k] += inv1 * (eR * ci + eI * cr - (eOldR * oi + eOldI * or));
-        this.ar[k] += inv1 * (aR * cr - aI * ci - (aOldR * or - aOldI * oi));
-        this.ai[k] += inv1 * (aR * ci + aI * cr - (aOldR * oi + aOldI * or));
-        this.br[k] = bR * cr - bI * ci;
-        this.bi[k] = bR * ci + bI * cr;
+        Er[k] += inv1 * (eR * cr - eI * ci - (eOldR * or - eOldI * oi));
+        Ei[k] += inv1 * (eR * ci + eI * cr - (eOldR * oi + eOldI * or));
+        ar[k] += inv1 * (aR * cr - aI * ci - (aOldR * or - aOldI * oi));
+        ai[k] += inv1 * (aR * ci + aI * cr - (aOldR * oi + aOldI * or));
+        br[k] = bR * cr - bI * ci;
+        bi[k] = bR * ci + bI * cr;
       }
     }
     // ---- the gain medium: K sheets of (1 + D / K), D = G0 - chi0 / 2; the packet filters
     // of up to four lanes step together (they share the coefficient loads)
-    const gx = this.gx;
-    const gio = this.gio;
-    const pk = this.pk;
     for (let s = 0; s < K; s++) {
       for (let l = 0; l < L; l++) {
         const xs = s * L + l;
         const xr = gx[2 * l];
         const xi = gx[2 * l + 1];
-        gio[4 * l] = xr + this.xpr[xs];
-        gio[4 * l + 1] = xi + this.xpi[xs];
-        this.xpr[xs] = xr;
-        this.xpi[xs] = xi;
+        gio[4 * l] = xr + xpr[xs];
+        gio[4 * l + 1] = xi + xpi[xs];
+        xpr[xs] = xr;
+        xpi[xs] = xi;
       }
       // the first sheet also accumulates each filter's power for the inversions
       for (let l = 0; l < L; l += 4) {
@@ -868,7 +944,7 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
       let vR = eh * gx[2 * l];
       let vI = eh * gx[2 * l + 1];
       if (p.alpha !== 0) {
-        const ph = alphaHalfChi * (this.nbar[l] - 1);
+        const ph = alphaHalfChi * (nbar[l] - 1);
         const c = Math.cos(ph);
         const s = Math.sin(ph);
         const r = vR * c - vI * s;
@@ -879,7 +955,35 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
       // towards p / (1 + S / P_sat), S their mean saturating power (the relaxation factor
       // e^{-x}, x = (1 + S) h / tau_N, to third order where x is small: the steady state is
       // the target exactly either way)
-      if (updateInv) {
+      if (updateInv && this.mirrored) {
+        // a Doppler bank: filter j serves class j forwards and class F - 1 - j backwards, so
+        // S_i = sA_i |y_i|^2 + sB_(F-1-i) |y_(F-1-i)|^2 and w_j = wA_j n_j + wB_j n_(F-1-j),
+        // the general path below with its gathers written out (the same arithmetic)
+        const x0 = invTauN * dt * invSteps;
+        const norm = satScale / invSteps;
+        const yb = fl * PACKET_SLOTS;
+        let sum = 0;
+        for (let i = 0; i < nI; i++) {
+          const S =
+            (sA[i] * pk[yb + i * PACKET_SLOTS + SLOT_YSQ] +
+              sB[F - 1 - i] * pk[yb + (F - 1 - i) * PACKET_SLOTS + SLOT_YSQ]) *
+            norm;
+          const target = pump / (1 + S);
+          const xr = (1 + S) * x0;
+          const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
+          const k = invBase + i;
+          inv[k] = target + (inv[k] - target) * decay;
+          sum += inv[k];
+        }
+        nbar[l] = sum / nI;
+        const sheetStride = L * F * PACKET_SLOTS;
+        for (let j = 0, q = yb; j < F; j++, q += PACKET_SLOTS) {
+          pk[q + SLOT_YSQ] = 0;
+          const w = wA[j] * inv[invBase + j] + wB[j] * inv[invBase + F - 1 - j];
+          pk[q + SLOT_W] = w;
+          for (let s = 1; s < K; s++) pk[q + SLOT_W + s * sheetStride] = w;
+        }
+      } else if (updateInv) {
         invSat.fill(0);
         for (let j = 0; j < F; j++) {
           const q = (fl + j) * PACKET_SLOTS + SLOT_YSQ;
@@ -906,11 +1010,12 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
         this.failMessage = `non-finite laser field in lane ${l} at t = ${t1.toExponential(3)} s (round-trip engine)`;
         return;
       }
-      this.laser.set(l, vR, vI);
-      this.acc[l * ACC + ACC_GAIN] += (v2 - this.last[8 * l + 1]) * dt;
-      this.sumV[l] += v2 - this.last[8 * l + 3];
-      this.last[8 * l + 2] = v2;
-      for (let m = 0; m < M; m++) this.N[l * M + m] = inv[invBase + this.modeInv[m]];
+      lre[l * lcap + lhead] = vR;
+      lim[l * lcap + lhead] = vI;
+      acc[l * ACC + ACC_GAIN] += (v2 - last[8 * l + 1]) * dt;
+      sumV[l] += v2 - last[8 * l + 3];
+      last[8 * l + 2] = v2;
+      for (let m = 0; m < M; m++) N[l * M + m] = inv[invBase + modeInv[m]];
     }
     this.t = t1;
   }
