@@ -588,3 +588,79 @@ describe('round-trip engine: time-step convergence', () => {
     expect(d1 / means[1]).toBeLessThan(0.01);
   });
 });
+
+describe('round-trip engine: lanes are independent', () => {
+  it('an engine of seven lanes equals seven engines of one lane on the same noise streams, to the last bit', () => {
+    // a claim about the engine's structure (docs/model.md §3.5, order of work): the packet
+    // filters of up to four lanes step together, so an engine of seven lanes steps them as
+    // 4 + 2 + 1 where a one-lane engine steps each alone; a lane's arithmetic must not
+    // depend on its neighbours. The cases: a Doppler bank (the inversion update's two
+    // classes per filter), a homogeneous Gaussian bank (one inversion, the general update)
+    // and a 0.3 / 0.3 chip (12 or more gain sheets).
+    const motion = {
+      position: (t: number) => 200e-9 * Math.sin(2 * Math.PI * 3e6 * t),
+      velocity: (t: number) => 200e-9 * 2 * Math.PI * 3e6 * Math.cos(2 * Math.PI * 3e6 * t),
+    };
+    const cases = [
+      onMode(
+        '10 cm',
+        dopplerGain({ spontaneous_power: 1e-9 }),
+        0.95,
+        flatGap(0.99, { feedback_efficiency: 0.9 }),
+      ),
+      paramsOf(
+        scenario({
+          laser: laserInput({
+            cavity_length: '10 cm',
+            R2: 0.95,
+            gain: { spontaneous_power: 1e-9, max_modes: 3 },
+          }),
+          ...flatGap(0.99),
+        }),
+      ),
+      paramsOf(
+        scenario({
+          laser: laserInput({
+            ...CHIP,
+            gain: { shape: 'lorentzian', linewidth: '1 THz', pump_ratio: 1.5, spontaneous_power: 1e-9 },
+          }),
+          ...flatGap(0.5, { length: '1 cm' }),
+        }),
+      ),
+    ];
+    expect(new RoundTripEngine(cases[0], 1, STILL, createRng(1), 0).bank.inversions).toBeGreaterThan(1);
+    expect(new RoundTripEngine(cases[2], 1, STILL, createRng(1), 0).sheets).toBeGreaterThanOrEqual(12);
+    for (const p of cases) {
+      const lanes = 7;
+      const streams = (l: number) => createRng(3).fork(l);
+      const big = new RoundTripEngine(p, lanes, motion, createRng(1), 1e-6);
+      big.setLaneNoise(Array.from({ length: lanes }, (_, l) => streams(l)));
+      const start = { Er: new Array(p.M).fill(1e-3), Ei: new Array(p.M).fill(0), N: new Array(p.M).fill(1) };
+      big.setLaserState(start.Er, start.Ei, start.N);
+      const alone = Array.from({ length: lanes }, (_, l) => {
+        const e = new RoundTripEngine(p, 1, motion, createRng(1), 1e-6);
+        e.setLaneNoise([streams(l)]);
+        e.setLaserState(start.Er, start.Ei, start.N);
+        e.offset[0] = (l * 633e-9) / 2 / lanes;
+        return e;
+      });
+      for (let l = 0; l < lanes; l++) big.offset[l] = alone[l].offset[0];
+      const steps = 3000;
+      expect(big.advance(steps)).toBe(true);
+      for (const e of alone) expect(e.advance(steps)).toBe(true);
+      for (let l = 0; l < lanes; l++) {
+        const one = alone[l];
+        expect(big.externalPower(l)).toBe(one.externalPower(0));
+        expect(big.intracavityPower(l)).toBe(one.intracavityPower(0));
+        expect(big.inversions(l)).toEqual(one.inversions(0));
+        expect(big.laneEnergy(l)).toEqual(one.laneEnergy(0));
+        for (let m = 0; m < p.M; m++) {
+          expect(big.Er[l * p.M + m]).toBe(one.Er[m]);
+          expect(big.Ei[l * p.M + m]).toBe(one.Ei[m]);
+        }
+      }
+      // the lanes differ (else the check above would hold for any grouping bug that copies a lane)
+      expect(big.externalPower(1)).not.toBe(big.externalPower(2));
+    }
+  });
+});

@@ -39,6 +39,9 @@ function lagrangeDenominators(n: number): Float64Array {
   return d;
 }
 
+/** The denominators of the round-trip engine's read, looked up once. */
+const READ_DENOMINATORS = lagrangeDenominators(READ_POINTS);
+
 /** Scratch of lagrangeCentredN: prod_{j < i} (u - x_j). */
 let lagrangePrefix = new Float64Array(READ_POINTS + 1);
 
@@ -46,11 +49,11 @@ let lagrangePrefix = new Float64Array(READ_POINTS + 1);
  * Weights of the centred n-point Lagrange read (n even) at fraction u in [0, 1) between
  * nodes 0 and 1 of the stencil -(n/2 - 1) .. n/2, into w[0..n-1]:
  * w_i = prod_{j != i} (u - x_j) / prod_{j != i} (x_i - x_j), the numerator as a prefix
- * product times a suffix product (3n multiplications, no division per read).
+ * product times a suffix product (about 4n multiplications, no division per read).
  */
 export function lagrangeCentredN(u: number, n: number, w: Float64Array): void {
   const lo = -(n / 2 - 1);
-  const den = lagrangeDenominators(n);
+  const den = n === READ_POINTS ? READ_DENOMINATORS : lagrangeDenominators(n);
   if (lagrangePrefix.length < n + 1) lagrangePrefix = new Float64Array(n + 1);
   const pre = lagrangePrefix;
   pre[0] = 1;

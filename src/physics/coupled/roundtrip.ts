@@ -144,7 +144,10 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
   private readonly invSat: Float64Array;
   /** per lane: the peak-normalised mean inversion (for alpha) */
   private readonly nbar: Float64Array;
-  /** the bank is a Doppler bank whose filter j serves inversions j and F - 1 - j (the inversion update's fast path) */
+  /**
+   * filter j serves inversions j and F - 1 - j (a Doppler bank; also the one-packet
+   * Lorentzian bank, F = 1): the inversion update's fast path
+   */
   private readonly mirrored: boolean;
   /** inversions are advanced every invEvery steps with the mean saturating power of those steps */
   readonly invEvery: number;
@@ -429,7 +432,12 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
   }
 
   copyLane(src: LaneEngine, from: number, to: number): void {
-    if (!(src instanceof RoundTripEngine) || src.NL !== this.NL || src.bank.filters !== this.bank.filters) {
+    if (
+      !(src instanceof RoundTripEngine) ||
+      src.NL !== this.NL ||
+      src.bank.filters !== this.bank.filters ||
+      src.sheets !== this.sheets
+    ) {
       const M = this.M;
       const er: number[] = [];
       const ei: number[] = [];
@@ -1006,6 +1014,8 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
       }
       const v2 = vR * vR + vI * vI;
       if (!(v2 < 1e30)) {
+        // the engine is dead: callers discard it (the passes above have already moved the
+        // other lanes' rings and sums on, which the old one-pass loop stopped short of)
         this.failed = true;
         this.failMessage = `non-finite laser field in lane ${l} at t = ${t1.toExponential(3)} s (round-trip engine)`;
         return;

@@ -251,6 +251,11 @@ export function packetCoefficients(bank: PacketBank): Float64Array {
  * twice as fast as one lane at a time); every lane's arithmetic, in order, is the same
  * whatever n is, so results do not depend on how lanes are grouped.
  */
+// the kernels below index the state with the literal stride 4 and offsets 2 (weight) and 3
+// (sum of |y|^2): keep them in step with the slots above
+if (PACKET_SLOTS !== 4 || SLOT_W !== 2 || SLOT_YSQ !== 3)
+  throw new Error('packet slots out of step with the kernels');
+
 export function stepPacketLanes(
   state: Float64Array,
   coef: Float64Array,
