@@ -27,14 +27,17 @@ import { dopplerGain, flatGap, onMode, probeReflection, settleMean } from './fix
 
 const C = 299792458;
 
+/** A 1.5 GHz Doppler line with 100 MHz holes in SI units, as buildPacketBank takes it. */
+const DOPPLER_SI = {
+  broadening: 'inhomogeneous',
+  shape: 'gaussian',
+  linewidth: 1.5e9,
+  homogeneous_width: 100e6,
+} as never;
+
 describe('gain packets', () => {
   it('the bank of Doppler classes reproduces the Voigt profile (Gaussian x Lorentzian hole) and leaves no floor', () => {
-    const gain = {
-      broadening: 'inhomogeneous',
-      shape: 'gaussian',
-      linewidth: 1.5e9,
-      homogeneous_width: 100e6,
-    } as never;
+    const gain = DOPPLER_SI;
     const dt = 1e-10;
     const bank = buildPacketBank(gain, dt);
     // Voigt profile by direct quadrature: sum over Doppler velocity classes of the Gaussian
@@ -62,12 +65,7 @@ describe('gain packets', () => {
   });
 
   it('lanes stepped together follow the bilinear recursion of every filter and gain sum exactly as one lane alone', () => {
-    const gain = {
-      broadening: 'inhomogeneous',
-      shape: 'gaussian',
-      linewidth: 1.5e9,
-      homogeneous_width: 100e6,
-    } as never;
+    const gain = DOPPLER_SI;
     const bank = buildPacketBank(gain, 1.2e-10);
     const F = bank.filters;
     const coef = packetCoefficients(bank);

@@ -670,9 +670,7 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const iA = bank.invA,
       iB = bank.invB,
       sA = bank.satA,
-      sB = bank.satB,
-      wA = bank.weightA,
-      wB = bank.weightB;
+      sB = bank.satB;
     const inv = this.inv;
     const hc = this.halfChi0;
     const eh = this.expHalfChi0;
@@ -963,43 +961,24 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
       // towards p / (1 + S / P_sat), S their mean saturating power (the relaxation factor
       // e^{-x}, x = (1 + S) h / tau_N, to third order where x is small: the steady state is
       // the target exactly either way)
-      if (updateInv && this.mirrored) {
-        // a Doppler bank: filter j serves class j forwards and class F - 1 - j backwards, so
-        // S_i = sA_i |y_i|^2 + sB_(F-1-i) |y_(F-1-i)|^2 and w_j = wA_j n_j + wB_j n_(F-1-j),
-        // the general path below with its gathers written out (the same arithmetic)
-        const x0 = invTauN * dt * invSteps;
-        const norm = satScale / invSteps;
+      if (updateInv) {
         const yb = fl * PACKET_SLOTS;
-        let sum = 0;
-        for (let i = 0; i < nI; i++) {
-          const S =
-            (sA[i] * pk[yb + i * PACKET_SLOTS + SLOT_YSQ] +
-              sB[F - 1 - i] * pk[yb + (F - 1 - i) * PACKET_SLOTS + SLOT_YSQ]) *
-            norm;
-          const target = pump / (1 + S);
-          const xr = (1 + S) * x0;
-          const decay = xr < 0.05 ? 1 - xr * (1 - xr * (0.5 - xr / 6)) : Math.exp(-xr);
-          const k = invBase + i;
-          inv[k] = target + (inv[k] - target) * decay;
-          sum += inv[k];
+        if (this.mirrored) {
+          // a Doppler bank: filter j serves class j forwards and class F - 1 - j backwards,
+          // so S_i = sA_i |y_i|^2 + sB_(F-1-i) |y_(F-1-i)|^2, read without the scatter below
+          for (let i = 0; i < nI; i++)
+            invSat[i] =
+              sA[i] * pk[yb + i * PACKET_SLOTS + SLOT_YSQ] +
+              sB[F - 1 - i] * pk[yb + (F - 1 - i) * PACKET_SLOTS + SLOT_YSQ];
+        } else {
+          invSat.fill(0);
+          for (let j = 0; j < F; j++) {
+            const y2 = pk[yb + j * PACKET_SLOTS + SLOT_YSQ];
+            invSat[iA[j]] += sA[j] * y2;
+            invSat[iB[j]] += sB[j] * y2;
+          }
         }
-        nbar[l] = sum / nI;
-        const sheetStride = L * F * PACKET_SLOTS;
-        for (let j = 0, q = yb; j < F; j++, q += PACKET_SLOTS) {
-          pk[q + SLOT_YSQ] = 0;
-          const w = wA[j] * inv[invBase + j] + wB[j] * inv[invBase + F - 1 - j];
-          pk[q + SLOT_W] = w;
-          for (let s = 1; s < K; s++) pk[q + SLOT_W + s * sheetStride] = w;
-        }
-      } else if (updateInv) {
-        invSat.fill(0);
-        for (let j = 0; j < F; j++) {
-          const q = (fl + j) * PACKET_SLOTS + SLOT_YSQ;
-          const y2 = pk[q];
-          invSat[iA[j]] += sA[j] * y2;
-          invSat[iB[j]] += sB[j] * y2;
-          pk[q] = 0;
-        }
+        for (let j = 0; j < F; j++) pk[yb + j * PACKET_SLOTS + SLOT_YSQ] = 0;
         const x0 = invTauN * dt * invSteps;
         const norm = satScale / invSteps;
         for (let i = 0; i < nI; i++) {
@@ -1044,8 +1023,12 @@ export class RoundTripEngine extends LaneStore implements LaneEngine {
     const pk = this.pk;
     const K = this.sheets;
     const sheetStride = this.L * F * PACKET_SLOTS;
+    // a mirrored bank's gathers are j and F - 1 - j: read directly
+    const direct = this.mirrored;
     for (let j = 0, q = l * F * PACKET_SLOTS + SLOT_W; j < F; j++, q += PACKET_SLOTS) {
-      const w = wA[j] * inv[base + iA[j]] + wB[j] * inv[base + iB[j]];
+      const w = direct
+        ? wA[j] * inv[base + j] + wB[j] * inv[base + F - 1 - j]
+        : wA[j] * inv[base + iA[j]] + wB[j] * inv[base + iB[j]];
       pk[q] = w;
       for (let s = 1; s < K; s++) pk[q + s * sheetStride] = w;
     }
