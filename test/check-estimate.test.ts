@@ -10,6 +10,13 @@ import { describe, expect, it } from 'vitest';
 import { loadScenarioFile } from '../src/scenario/load';
 import { runScenario } from '../src/simulate/run';
 import { drivenStepPlan, estimateDrivenTime } from '../src/simulate/estimate';
+import type { SpeedCurve } from '../src/results/speed-curve';
+import { slowDriveScenario } from './fixtures/engine/build';
+
+/** The lattice indices of a curve's points (10^(k / 8) m/s, docs/model.md §3.6). */
+function speedBaseLatticeOf(c: SpeedCurve): number[] {
+  return [...c.forward, ...c.backward].map((q) => Math.round(8 * Math.log10(q.speed_m_s)));
+}
 
 const ROOT = resolve(__dirname, '..');
 
@@ -21,6 +28,28 @@ describe('run-time estimate', () => {
     expect(plan.engine).toBe(a.summary.engine);
     // summary.timing.steps counts the time steps of the driven run, every lane stepping together
     expect(plan.lane_steps).toBe(a.summary.timing.steps * s.simulation.drive_offsets);
+  });
+
+  it('plans the slow path by its windows and speed curve, the lane-steps the run then takes', () => {
+    // the slow-drive test system at 4 kHz (docs/model.md §3.6), one batch of 4 offsets
+    const base = slowDriveScenario('4 kHz', 'speedcurve');
+    const s = { ...base, analysis: { ...base.analysis, target_error: 1 } };
+    const plan = drivenStepPlan(s);
+    expect(plan.engine).toBe('speedcurve');
+    const a = runScenario(s);
+    expect(a.summary.engine).toBe('speedcurve');
+    const curve = a.speed_curve!;
+    // the windows: summary.timing.steps counts their time steps, every lane stepping together
+    // (the plan rounds the sum of the windows' lengths once, the run each window: a step each)
+    expect(
+      Math.abs(plan.slow!.windows_lane_steps - a.summary.timing.steps * s.simulation.drive_offsets),
+    ).toBeLessThanOrEqual(8 * s.simulation.drive_offsets);
+    // the curve's base points: the run steps them and maybe a refinement on top
+    const basePoints = new Set(speedBaseLatticeOf(curve)).size;
+    expect(plan.slow!.curve_base_lane_steps).toBeLessThanOrEqual(Math.ceil(curve.lane_steps));
+    if (curve.forward.length + curve.backward.length === 2 * basePoints)
+      expect(plan.slow!.curve_base_lane_steps).toBeCloseTo(curve.lane_steps, -1);
+    expect(plan.lane_steps).toBe(plan.slow!.windows_lane_steps + plan.slow!.curve_base_lane_steps);
   });
 
   it('an estimate is positive and the rate is measured, for a moving drive', () => {

@@ -710,7 +710,7 @@ export interface SlowDriveRunInput extends SpeedCurveContext {
 }
 
 /** The speeds the drive's curve must cover: from the window edge of its turning points to its peak speed. */
-export function slowSpeedRange(i: Pick<SlowDriveRunInput, 's' | 'p' | 'free'>): {
+export function slowSpeedRange(i: Pick<SlowDriveRunInput, 's' | 'p'> & { free: { intracavity_W: number } }): {
   vLo: number;
   vHi: number;
   memory_s: number;

@@ -339,18 +339,24 @@ export function startSpeedCurve(
           lane_steps: 0,
           wall_s: 0,
         };
-  let kLo = Math.floor(SPEED_LATTICE_PER_DECADE * Math.log10(vLo));
-  let kHi = Math.ceil(SPEED_LATTICE_PER_DECADE * Math.log10(Math.max(vHi, vLo)));
-  if (kLo % 2 !== 0) kLo--;
-  if (kHi % 2 !== 0) kHi++;
-  const base: number[] = [];
-  for (let k = kLo; k <= kHi; k += 2) base.push(k);
+  const base = speedBaseLattice(vLo, vHi);
   const todo: SpeedTodo[] = [];
   for (const k of base) {
     if (!hasSpeed(curve.forward, k)) todo.push([k, 1]);
     if (!hasSpeed(curve.backward, k)) todo.push([k, -1]);
   }
   return { work: { curve, memory_s, base, started: Date.now() }, todo: longestFirst(todo) };
+}
+
+/** The base grid of a curve over [vLo, vHi]: every second lattice index, both ends covered. */
+export function speedBaseLattice(vLo: number, vHi: number): number[] {
+  let kLo = Math.floor(SPEED_LATTICE_PER_DECADE * Math.log10(vLo));
+  let kHi = Math.ceil(SPEED_LATTICE_PER_DECADE * Math.log10(Math.max(vHi, vLo)));
+  if (kLo % 2 !== 0) kLo--;
+  if (kHi % 2 !== 0) kHi++;
+  const base: number[] = [];
+  for (let k = kLo; k <= kHi; k += 2) base.push(k);
+  return base;
 }
 
 function hasSpeed(list: SpeedPoint[], k: number): boolean {

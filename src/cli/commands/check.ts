@@ -73,8 +73,12 @@ function formatSweepPlan(info: SweepPlanInfo): string[] {
     );
   }
   lines.push(
-    `  how                    step plan of ${info.sampled === info.points ? 'every point' : `${info.sampled} evenly spread points, scaled to the grid`}; engine speed from a ${formatDuration(info.estimate.calibration_s)} calibration run on this machine (CPU time, so it assumes a free core per worker; other load makes the sweep slower)`,
+    `  how                    step plan of ${info.sampled === info.points ? 'every point' : `${info.sampled} evenly spread points, scaled to the grid`} (the first batch of rest offsets: batches added to meet analysis.target_error come on top); engine speed from a ${formatDuration(info.estimate.calibration_s)} calibration run on this machine (CPU time, so it assumes a free core per worker; other load makes the sweep slower)`,
   );
+  if (info.estimate.engines.some((e) => e.engine === 'speedcurve'))
+    lines.push(
+      `  slow path              speedcurve runs count their turning-point windows and the speed curve's base points (docs/model.md §3.6); the curve's refinement comes on top`,
+    );
   return lines;
 }
 
