@@ -203,6 +203,32 @@ describe('refinement planning', () => {
     );
   });
 
+  it('a ripple or hop count apart by less than 2 sqrt 2 of its own stated errors does not split a cell', () => {
+    // the rule for a difference of two independent estimates: 2 standard errors of the
+    // difference, sqrt 2 x the larger error (common practice, no source)
+    const s = defaultRefineSettings({ ripple_limit: 0.1, max_hops_per_period: 0 }, 0.1);
+    const p = (ripple: number, hops: number, se: { ripple: number | null; hops: number | null } | null) => ({
+      class: 'hopping',
+      metrics: { gain_over_static: 3, ripple_rel: ripple, hops_per_period: hops },
+      rel_stderr: 0.01,
+      ...(se ? { stderr: { ripple_rel: se.ripple, hops_per_period: se.hops } } : {}),
+    });
+    // ripple 2.0 against 2.5: 20 % apart, above the 10 % margin
+    expect(cornersAgree([p(2.0, 10, null), p(2.5, 10, null)], s)).toBe(false);
+    // each stated to 0.2: 0.5 < 2 sqrt 2 x 0.2 = 0.57, within the noise
+    const e = { ripple: 0.2, hops: null };
+    expect(cornersAgree([p(2.0, 10, e), p(2.5, 10, e)], s)).toBe(true);
+    // stated to 0.15: 0.5 > 0.42, apart
+    const f = { ripple: 0.15, hops: null };
+    expect(cornersAgree([p(2.0, 10, f), p(2.5, 10, f)], s)).toBe(false);
+    // one corner without a stated error: the margin alone decides
+    expect(cornersAgree([p(2.0, 10, e), p(2.5, 10, null)], s)).toBe(false);
+    // hops per period 10 against 14 (29 % apart), each to 1.5: 4 < 4.24, within the noise
+    const h = { ripple: null, hops: 1.5 };
+    expect(cornersAgree([p(2.0, 10, h), p(2.0, 14, h)], s)).toBe(true);
+    expect(cornersAgree([p(2.0, 10, h), p(2.0, 15, h)], s)).toBe(false);
+  });
+
   it('progress of a growing plan: planned so far, the most it can grow to, and the ETA as a range', () => {
     // 28 points left at 2 points/s is 14 s; 298 left at most is 149 s = 2m29s
     expect(formatProgressLine('sweep m', 12, 40, 2, 'points', 310)).toBe(

@@ -30,7 +30,7 @@ import {
 } from './references';
 import { combineBudgets, peakIntensityOf } from './budget';
 import type { SpeedCurve } from '../results/speed-curve';
-import { memoryTime } from './speed-curve';
+import { FREE_START_MEMORY_TIMES, memoryTime } from './speed-curve';
 import { slowDriveRun } from './slow-drive';
 import type { SlowDriveRunInput } from './slow-drive';
 import { drivenRun, DrivenResult } from './driven';
@@ -224,13 +224,14 @@ export function planRun(
   const requested = opts.engine ?? s.simulation.engine;
   const { stat } = refs.data;
   const tContStatic = staticSettleTime(params);
+  const memory_s = memoryTime(params, refs.data.free);
   const engines: EnginePlan = planEngines(
     s,
     params,
     derived.finesse_external,
     tContStatic,
     requested,
-    memoryTime(params, refs.data.free),
+    memory_s,
   );
   const engine = engines.driven.kind;
   const warnings: Warning[] = [];
@@ -271,10 +272,11 @@ export function planRun(
       ((engine === 'speedcurve' || engine === 'adiabatic') && refs.data.staticEngine === 'roundtrip'),
   };
   if (plan.failure !== null || !params.hasExternal || !Number.isFinite(params.gammaC)) return plan;
-  // the lanes start from settled static states (modal engines) or from the free-running
-  // state (round-trip engine, LANE_SETTLE_FROM_FREE_s more): one drive period (both turning
-  // points) and a few response times bring them to the periodic regime
-  const w = drivenWindows(s, engine, tContStatic);
+  // the lanes start from settled static states (modal engines: one drive period, both
+  // turning points, and a few response times bring them to the periodic regime) or from the
+  // free-running state (round-trip engine: at least LANE_SETTLE_FROM_FREE_s, and the drive
+  // period only up to four memory times, docs/model.md §4.2)
+  const w = drivenWindows(s, engine, tContStatic, memory_s);
   plan.settle_s = w.settle_s;
   plan.analysed_s = w.analysed_s;
   plan.periods = w.periods;
@@ -293,8 +295,10 @@ export function planRun(
 
 /**
  * The settle and analysed windows of a driven run, s, and its analysed periods (null for a
- * still mirror): the settle one drive period and a few static response times (lanes that
- * start from the free-running state also LANE_SETTLE_FROM_FREE_s, docs/model.md §4.2);
+ * still mirror): the settle one drive period and a few static response times; lanes that
+ * start from the free-running state (lanesIndependent) settle at least
+ * LANE_SETTLE_FROM_FREE_s, and of a drive period longer than FREE_START_MEMORY_TIMES memory
+ * times (memory_s, when given) only those (docs/model.md §4.2);
  * the analysed window whole drive periods holding MIN_DETECTION_WINDOWS detection windows
  * (the first fills, then the rest count), at least simulation.periods.
  */
@@ -302,11 +306,21 @@ export function drivenWindows(
   s: Scenario,
   engine: DrivenEngine,
   tContStatic: number,
+  memory_s: number | null = null,
 ): { settle_s: number; analysed_s: number; periods: number | null } {
   const f = driveMoves(s.drive) ? s.drive.frequency : null;
+  const independent = lanesIndependent(engine);
+  // a lane started from the free-running state forgets its start within a few memory times
+  // (docs/model.md §4.2): a drive period longer than that need not be stepped to settle
+  const driveSettle =
+    f === null
+      ? 0
+      : independent && memory_s !== null
+        ? Math.min(1 / f, FREE_START_MEMORY_TIMES * memory_s)
+        : 1 / f;
   const settle_s =
     s.simulation.settle === 'auto'
-      ? Math.max(3 * tContStatic, f ? 1 / f : 0, lanesIndependent(engine) ? LANE_SETTLE_FROM_FREE_s : 0)
+      ? Math.max(3 * tContStatic, driveSettle, independent ? LANE_SETTLE_FROM_FREE_s : 0)
       : s.simulation.settle;
   const minWindow = MIN_DETECTION_WINDOWS / s.analysis.detection_bandwidth;
   if (f) {

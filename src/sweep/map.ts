@@ -87,6 +87,10 @@ export function refinePointOf(r: PointRecord): RefinePoint {
     class: r.summary.class,
     metrics,
     rel_stderr: se !== null && mean !== null && mean > 0 ? se.stderr_W / mean : null,
+    stderr: {
+      ripple_rel: finite(r.summary.driven?.ripple_rel_stderr),
+      hops_per_period: finite(r.summary.driven?.hops_per_period_stderr),
+    },
   };
 }
 

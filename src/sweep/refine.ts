@@ -31,6 +31,11 @@ export interface RefinePoint {
    * states one; differences within the combined noise of two points do not split a cell
    */
   rel_stderr: number | null;
+  /**
+   * the standard errors the run states for the compared metrics that are not power-like
+   * (ripple, hops), by metric name; absent or null where it states none
+   */
+  stderr?: Record<string, number | null>;
 }
 
 export type { RefineMetric, RefineSettings } from '../results/sweep-header';
@@ -139,7 +144,8 @@ function cornerIndices(lo: readonly number[], hi: readonly number[], st: readonl
 /**
  * True when the corner points of a cell agree: one class (not 'numerical-failure'), and for each compared metric
  * either all null or all finite with max - min at most margin x max(floor, max |v|) or
- * within noise_factor standard errors (for power-like metrics with a stated error).
+ * within noise_factor standard errors, where every corner states one (power-like metrics:
+ * rel_stderr x value; the others: their own stated error, RefinePoint.stderr).
  */
 export function cornersAgree(points: readonly RefinePoint[], settings: RefineSettings): boolean {
   if (points.length <= 1) return true;
@@ -164,6 +170,11 @@ export function cornersAgree(points: readonly RefinePoint[], settings: RefineSet
         else noise = Math.max(noise, p.rel_stderr * Math.abs(vals[i] as number));
       });
       if (stated) allowed = Math.max(allowed, settings.noise_factor * noise);
+    } else {
+      // a ripple or hop count with its own stated error: the same rule on that error
+      const errs = points.map((p) => p.stderr?.[m.name] ?? null);
+      if (errs.every((e) => e !== null && Number.isFinite(e)))
+        allowed = Math.max(allowed, settings.noise_factor * Math.max(...(errs as number[])));
     }
     if (hi - lo > allowed) return false;
   }
