@@ -23,7 +23,13 @@ import type { PointRecord, PointSummary } from '../src/sweep/persist';
 import { runSweep } from '../src/sweep/run-sweep';
 import { mergeShards } from '../src/sweep/merge';
 import { computedOnly } from '../src/sweep/map';
-import { coarseIndices, cornersAgree, defaultRefineSettings, planRefinement } from '../src/sweep/refine';
+import {
+  coarseIndices,
+  cornersAgree,
+  defaultRefineSettings,
+  interpolateMetric,
+  planRefinement,
+} from '../src/sweep/refine';
 import type { RefinePoint } from '../src/sweep/refine';
 import { axisIndices as gridIndices } from '../src/results/grid-index';
 import type { SweepMap } from '../src/results/map';
@@ -229,6 +235,60 @@ describe('refinement planning', () => {
     expect(cornersAgree([p(2.0, 10, h), p(2.0, 15, h)], s)).toBe(false);
   });
 
+  it('probes the centre of a cell before splitting it: a power law is inferred exactly, a bump is split', () => {
+    // Multilinear interpolation of the logs in index space on log axes is exact for a power
+    // law (log g linear in log A and log f), so a cell whose corners differ by far more than
+    // the margin still agrees with them at its centre; a Gaussian bump in log space does not.
+    const n = 17;
+    const axes = [
+      { values: Array.from({ length: n }, (_, i) => 1e-8 * 10 ** (i / 8)) },
+      { values: Array.from({ length: n }, (_, i) => 1e3 * 10 ** (i / 8)) },
+    ];
+    const settings = defaultRefineSettings({ ripple_limit: 0.1, max_hops_per_period: 0 }, 0.1);
+    const runPlan = (gain: (i: number, j: number) => number) => {
+      const known = new Map<number, RefinePoint>();
+      for (let round = 0; round < 50; round++) {
+        const plan = planRefinement(axes, known, settings);
+        if (plan.complete) return { known, plan };
+        for (const k of plan.need)
+          known.set(k, {
+            class: 'decoupled',
+            metrics: {
+              gain_over_static: gain(Math.floor(k / n), k % n),
+              ripple_rel: 0.01,
+              hops_per_period: 0,
+            },
+            rel_stderr: null,
+          });
+      }
+      throw new Error('the plan did not finish');
+    };
+    const power = (i: number, j: number) =>
+      2 * (axes[0].values[i] / 1e-8) ** 0.5 * (axes[1].values[j] / 1e3) ** 0.3;
+    const a = runPlan(power);
+    // coarse grid 5 x 5 (every 4th of 17) and one centre in each of its 16 cells
+    expect(a.known.size).toBe(25 + 16);
+    expect(a.plan.inferred.size).toBe(n * n - 41);
+    // the corners of a coarse cell differ by a factor 10^(0.5 / 2) x 10^(0.3 / 2), far beyond the margin
+    expect(power(4, 4) / power(0, 0)).toBeGreaterThan(2.5);
+    for (const [k, inf] of a.plan.inferred) {
+      const g = interpolateMetric(
+        inf.corners.map((c) => a.known.get(c)!.metrics.gain_over_static),
+        inf.weights,
+      )!;
+      expect(g / power(Math.floor(k / n), k % n) - 1).toBeLessThan(1e-9);
+    }
+    // a bump of 50 % over a flat 2, 1.5 grid steps wide, off the centre of a coarse cell (a
+    // bump whose corners all agree is the documented blind spot, docs/model.md §9)
+    const bump = (i: number, j: number) =>
+      2 * (1 + 0.5 * Math.exp(-((i - 5) ** 2 + (j - 6) ** 2) / (2 * 1.5 ** 2)));
+    const b = runPlan(bump);
+    // the probe at (6, 6) sees 2.8 where the corners say about 2.2: the cells around it split
+    expect(b.known.has(6 * n + 6)).toBe(true);
+    // split: the children's corners on the cell's edges are computed (here (4, 6) and (6, 4))
+    expect(b.known.has(4 * n + 6) && b.known.has(6 * n + 4)).toBe(true);
+  });
+
   it('progress of a growing plan: planned so far, the most it can grow to, and the ETA as a range', () => {
     // 28 points left at 2 points/s is 14 s; 298 left at most is 149 s = 2m29s
     expect(formatProgressLine('sweep m', 12, 40, 2, 'points', 310)).toBe(
@@ -416,7 +476,18 @@ describe('resume and shards with refinement', () => {
         shard: { index: k + 1, count: 3 },
       });
     const merged = mergeShards(dirs, { outDir: path.join(tmp, 'merged') });
-    expect(merged.map.point_source).toEqual(refined.point_source);
+    // every point the unsharded sweep computed, the shards computed; beyond those, a shard
+    // computes only the margin neighbours of the operating point its own cells recommend
+    // (it cannot see the others' points): at most 8 per shard, each inferred in the
+    // unsharded map, the class the same
+    const extra: number[] = [];
+    merged.map.point_source!.forEach((src, i) => {
+      if (refined.point_source![i] === 'computed') expect(src).toBe('computed');
+      else if (src === 'computed') extra.push(i);
+      else expect(src).toBe(refined.point_source![i]);
+    });
+    expect(extra.length).toBeLessThanOrEqual(8 * dirs.length);
+    for (const i of extra) expect(refined.point_source![i]).toBe('inferred');
     expect(merged.map.classes).toEqual(refined.classes);
     expect(merged.map.decoupling_boundary).toEqual(refined.decoupling_boundary);
     expect(merged.missing).toBe(0);

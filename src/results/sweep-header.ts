@@ -34,6 +34,12 @@ export interface RefineSettings {
    * (2 sqrt 2: two standard errors of the difference of two independent means)
    */
   noise_factor: number;
+  /**
+   * a cell whose corners share a class but differ in a metric is first probed at its
+   * centre: where the corners' interpolation holds there (the same margin and noise rule),
+   * the cell is inferred instead of split (absent in sweeps of 0.3.2 and before: no probe)
+   */
+  centre_probe?: boolean;
 }
 
 export interface SweepHeader {

@@ -14,7 +14,9 @@ import type { PointRecord } from '../results/points';
 import { reachableMask, recommendOperatingPoint } from '../analysis/operating-point';
 import { AMPLITUDE_KEY, FREQUENCY_KEY } from '../scenario/keypath';
 import type { RefinePoint, RefineSettings } from './refine';
-import { planRefinement } from './refine';
+import { interpolateMetric, planRefinement } from './refine';
+
+export { interpolateMetric };
 
 /** Metrics of map.json and where each comes from in a point's summary. */
 export const MAP_METRICS = {
@@ -111,29 +113,6 @@ export function drivenStderr(d: {
   const m = v.reduce((a, b) => a + b, 0) / v.length;
   const s2 = v.reduce((a, b) => a + (b - m) ** 2, 0) / (v.length - 1);
   return { stderr_W: Math.sqrt(s2 / v.length), from: 'offsets' };
-}
-
-/**
- * A metric at an inferred point: the weighted corners' values, interpolated in log (a
- * geometric mean, exact for power laws such as the peak speed 2 pi f A on log axes) when
- * all are positive, else linearly; null when a corner with weight has none.
- */
-export function interpolateMetric(
-  values: readonly (number | null)[],
-  weights: readonly number[],
-): number | null {
-  let lin = 0;
-  let lg = 0;
-  let positive = true;
-  for (let k = 0; k < values.length; k++) {
-    if (weights[k] === 0) continue;
-    const v = values[k];
-    if (v === null || !Number.isFinite(v)) return null;
-    lin += weights[k] * v;
-    if (v > 0) lg += weights[k] * Math.log(v);
-    else positive = false;
-  }
-  return positive ? Math.exp(lg) : lin;
 }
 
 /** Curves over amplitude and frequency, or nulls when the grid is not such a map. */

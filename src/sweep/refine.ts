@@ -5,7 +5,9 @@
  * own resolution. Grid points inside a cell whose corners all agree are not run: they are
  * inferred, their class the corners' class and their metrics interpolated multilinearly
  * over the corners (in index space, so in log space on a log axis), and marked as inferred
- * in map.json (`point_source`).
+ * in map.json (`point_source`). A cell whose corners share a class but differ in a metric
+ * is first probed at its centre (the point it would split at): where the corners'
+ * interpolation holds there within the same margin, it is inferred too (centreAgrees).
  *
  * The plan is a pure function of the axes, the settings and the points computed so far.
  * Every cell is decided from its own corners only, so:
@@ -14,7 +16,9 @@
  * - `--shard I/N` owns the coarse cells whose row-major ordinal is I - 1 modulo N and
  *   refines inside them alone; corner points shared with a neighbour cell of another shard
  *   are run in both (the results are identical, `merge` keeps one), and the merged map is
- *   the map an unsharded refined sweep gives;
+ *   the map an unsharded refined sweep gives, except that each shard also computes the
+ *   margin neighbours of the operating point its own cells recommend (it cannot see the
+ *   others' points; run-sweep.ts), which the unsharded map may infer;
  * - the map (which points are inferred, from which corners) is rebuilt from points.ndjson
  *   by the same function at any time, also for an interrupted sweep.
  */
@@ -65,6 +69,7 @@ export function defaultRefineSettings(
     coarse_step,
     margin,
     noise_factor: 2 * Math.SQRT2,
+    centre_probe: true,
     metrics: [
       { name: 'gain_over_static', floor: 0, powerLike: true },
       { name: 'ripple_rel', floor: thresholds.ripple_limit, powerLike: false },
@@ -149,10 +154,7 @@ function cornerIndices(lo: readonly number[], hi: readonly number[], st: readonl
  */
 export function cornersAgree(points: readonly RefinePoint[], settings: RefineSettings): boolean {
   if (points.length <= 1) return true;
-  const cls = points[0].class;
-  if (points.some((p) => p.class !== cls)) return false;
-  // a failed point says nothing of its neighbours: a cell with one is always split
-  if (cls === 'numerical-failure') return false;
+  if (!oneClass(points)) return false;
   for (const m of settings.metrics) {
     const vals = points.map((p) => p.metrics[m.name] ?? null);
     const finite = vals.filter((v): v is number => v !== null && Number.isFinite(v));
@@ -177,6 +179,52 @@ export function cornersAgree(points: readonly RefinePoint[], settings: RefineSet
         allowed = Math.max(allowed, settings.noise_factor * Math.max(...(errs as number[])));
     }
     if (hi - lo > allowed) return false;
+  }
+  return true;
+}
+
+/** True when the points share one class that is not 'numerical-failure' (a failure says nothing of its neighbours). */
+function oneClass(points: readonly RefinePoint[]): boolean {
+  const cls = points[0].class;
+  return cls !== 'numerical-failure' && points.every((p) => p.class === cls);
+}
+
+/**
+ * True when a cell's centre point agrees with its corners' interpolation there
+ * (interpolateMetric with the weights the inference uses): the corners' class, and each
+ * compared metric within margin x max(floor, |centre|, |interpolated|) of the interpolated
+ * value, or within noise_factor standard errors (the centre's and the corners' largest,
+ * by the rule of cornersAgree).
+ */
+export function centreAgrees(
+  corners: readonly RefinePoint[],
+  weights: readonly number[],
+  centre: RefinePoint,
+  settings: RefineSettings,
+): boolean {
+  if (!oneClass([...corners, centre])) return false;
+  for (const m of settings.metrics) {
+    const vals = corners.map((p) => p.metrics[m.name] ?? null);
+    const c = centre.metrics[m.name] ?? null;
+    const known = [...vals, c].filter((v): v is number => v !== null && Number.isFinite(v));
+    if (known.length === 0) continue;
+    if (known.length !== vals.length + 1) return false;
+    const guess = interpolateMetric(vals, weights);
+    if (guess === null) return false;
+    const v = c as number;
+    let allowed = settings.margin * Math.max(m.floor, Math.abs(v), Math.abs(guess));
+    const all = [...corners, centre];
+    const errs = all.map((p, i) => {
+      if (m.powerLike)
+        return p.rel_stderr === null || !Number.isFinite(p.rel_stderr)
+          ? null
+          : p.rel_stderr * Math.abs(i < vals.length ? (vals[i] as number) : v);
+      const e = p.stderr?.[m.name] ?? null;
+      return e !== null && Number.isFinite(e) ? e : null;
+    });
+    if (errs.every((e) => e !== null))
+      allowed = Math.max(allowed, settings.noise_factor * Math.max(...(errs as number[])));
+    if (Math.abs(v - guess) > allowed) return false;
   }
   return true;
 }
@@ -240,14 +288,34 @@ export function planRefinement(
       return;
     }
     const pts = corners.map((c) => known.get(c) as RefinePoint);
-    if (cornersAgree(pts, settings)) {
+    const inferCell = () => {
       for (const i of boxIndices(lo, hi, st)) {
         if (known.has(i) || inferred.has(i)) continue;
         inferred.set(i, { corners, weights: cornerWeights(lo, hi, unflatten(i, dims)) });
       }
+    };
+    if (cornersAgree(pts, settings)) {
+      inferCell();
       return;
     }
     if (lo.every((l, k) => hi[k] - l <= 1)) return;
+    // corners of one class that differ in a metric: probe the centre (the split point, so
+    // it is needed anyway if the cell splits); where the corners' interpolation holds
+    // there, the metric is smooth across the cell and the rest is inferred
+    if (settings.centre_probe && oneClass(pts)) {
+      const centre = lo.map((l, k) => Math.floor((l + hi[k]) / 2));
+      const ci = centre.reduce((a, x, k) => a + x * st[k], 0);
+      const cp = known.get(ci);
+      if (cp === undefined) {
+        need.add(ci);
+        for (const i of boxIndices(lo, hi, st)) open.add(i);
+        return;
+      }
+      if (centreAgrees(pts, cornerWeights(lo, hi, centre), cp, settings)) {
+        inferCell();
+        return;
+      }
+    }
     // split every axis longer than one step at its middle, visit the 2^d children
     const parts = lo.map((l, k) => {
       const h = hi[k];
@@ -336,4 +404,27 @@ export function ownedIndices(
   };
   rec(0, [], []);
   return [...out].sort((a, b) => a - b);
+}
+
+/**
+ * A metric at an inferred point: the weighted corners' values, interpolated in log (a
+ * geometric mean, exact for power laws such as the peak speed 2 pi f A on log axes) when
+ * all are positive, else linearly; null when a corner with weight has none.
+ */
+export function interpolateMetric(
+  values: readonly (number | null)[],
+  weights: readonly number[],
+): number | null {
+  let lin = 0;
+  let lg = 0;
+  let positive = true;
+  for (let k = 0; k < values.length; k++) {
+    if (weights[k] === 0) continue;
+    const v = values[k];
+    if (v === null || !Number.isFinite(v)) return null;
+    lin += weights[k] * v;
+    if (v > 0) lg += weights[k] * Math.log(v);
+    else positive = false;
+  }
+  return positive ? Math.exp(lg) : lin;
 }
