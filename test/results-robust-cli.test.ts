@@ -87,8 +87,9 @@ afterAll(() => {
 describe('one writer per output folder', () => {
   it('two sweeps started together on one folder: one runs, the other exits 2 naming it; then --resume works, every point once', async () => {
     const dir = join(tmp, 'twice');
-    const a = cliAsync(['sweep', TINY, '--out', dir, '--jobs', '1', '--quiet']);
-    const b = cliAsync(['sweep', TINY, '--out', dir, '--jobs', '1', '--quiet']);
+    // --full: every point of the grid, so "every point once" is the whole grid
+    const a = cliAsync(['sweep', TINY, '--out', dir, '--jobs', '1', '--full', '--quiet']);
+    const b = cliAsync(['sweep', TINY, '--out', dir, '--jobs', '1', '--full', '--quiet']);
     const [ra, rb] = await Promise.all([a.done, b.done]);
     const codes = [ra.code, rb.code].sort();
     expect(codes, `${ra.err}\n${rb.err}`).toEqual([0, 2]);
@@ -101,7 +102,7 @@ describe('one writer per output folder', () => {
     expect(loser.out).toBe(''); // refused before any work: no summary line
     expect(indicesOf(dir).sort((x, y) => x - y)).toEqual([...Array(TOTAL).keys()]);
     expect(existsSync(join(dir, 'dithercav.lock'))).toBe(false); // released at the end
-    const again = cliSync(['sweep', TINY, '--out', dir, '--jobs', '2', '--resume', '--quiet']);
+    const again = cliSync(['sweep', TINY, '--out', dir, '--jobs', '2', '--resume', '--full', '--quiet']);
     expect(again.code, again.err).toBe(0);
     expect(again.out).toMatch(new RegExp(`${TOTAL}/${TOTAL} points \\(${TOTAL} resumed\\)`));
     expect(indicesOf(dir).sort((x, y) => x - y)).toEqual([...Array(TOTAL).keys()]);
