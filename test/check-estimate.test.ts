@@ -14,7 +14,7 @@ import type { SpeedCurve } from '../src/results/speed-curve';
 import { slowDriveScenario } from './fixtures/engine/build';
 
 /** The lattice indices of a curve's points (10^(k / 8) m/s, docs/model.md §3.6). */
-function speedBaseLatticeOf(c: SpeedCurve): number[] {
+function latticeIndicesOf(c: SpeedCurve): number[] {
   return [...c.forward, ...c.backward].map((q) => Math.round(8 * Math.log10(q.speed_m_s)));
 }
 
@@ -45,7 +45,7 @@ describe('run-time estimate', () => {
       Math.abs(plan.slow!.windows_lane_steps - a.summary.timing.steps * s.simulation.drive_offsets),
     ).toBeLessThanOrEqual(8 * s.simulation.drive_offsets);
     // the curve's base points: the run steps them and maybe a refinement on top
-    const basePoints = new Set(speedBaseLatticeOf(curve)).size;
+    const basePoints = new Set(latticeIndicesOf(curve)).size;
     expect(plan.slow!.curve_base_lane_steps).toBeLessThanOrEqual(Math.ceil(curve.lane_steps));
     if (curve.forward.length + curve.backward.length === 2 * basePoints)
       expect(plan.slow!.curve_base_lane_steps).toBeCloseTo(curve.lane_steps, -1);

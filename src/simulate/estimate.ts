@@ -60,7 +60,7 @@ export function drivenStepPlan(s: Scenario): DrivenStepPlan {
   if (kind === 'adiabatic') return { engine: kind, dt_s: 0, lane_steps: 0, stepping: null, modes: params.M };
   const w = drivenWindows(s, kind, tStatic, memory_s);
   if (kind === 'speedcurve')
-    return { ...slowStepPlan(s, params, derived, memory_s, w.analysed_s), modes: params.M };
+    return { ...slowStepPlan(s, params, derived, free, memory_s, w.analysed_s), modes: params.M };
   const dt = plan.driven.dt;
   const laneSteps = (Math.ceil(w.settle_s / dt) + Math.ceil(w.analysed_s / dt)) * s.simulation.drive_offsets;
   return { engine: kind, dt_s: dt, lane_steps: laneSteps, stepping: kind, modes: params.M };
@@ -71,6 +71,7 @@ function slowStepPlan(
   s: Scenario,
   params: CoupledParams,
   derived: Derived,
+  free: { intracavity_W: number },
   memory_s: number,
   analysed_s: number,
 ): Omit<DrivenStepPlan, 'modes'> {
@@ -101,23 +102,20 @@ function slowStepPlan(
     stepping = span.eng.kind;
     dt = span.eng.dt;
   }
-  const { vLo, vHi } = slowSpeedRange({
-    s,
-    p: params,
-    free: { intracavity_W: derived.free_running_estimate_W },
-  });
+  const { vLo, vHi } = slowSpeedRange({ s, p: params, free });
   const ctx = { s, p: params, finesse: derived.finesse_external, regrowth_s, requested };
   let curve = 0;
   for (const k of speedBaseLattice(vLo, vHi)) curve += 2 * speedPointCost(ctx, k, memory_s);
+  const slowSteps = {
+    windows_lane_steps: Math.ceil(windows) * s.simulation.drive_offsets,
+    curve_base_lane_steps: Math.ceil(curve),
+  };
   return {
     engine: 'speedcurve',
     dt_s: dt,
-    lane_steps: Math.ceil(windows) * s.simulation.drive_offsets + Math.ceil(curve),
+    lane_steps: slowSteps.windows_lane_steps + slowSteps.curve_base_lane_steps,
     stepping,
-    slow: {
-      windows_lane_steps: Math.ceil(windows) * s.simulation.drive_offsets,
-      curve_base_lane_steps: Math.ceil(curve),
-    },
+    slow: slowSteps,
   };
 }
 

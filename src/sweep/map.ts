@@ -16,8 +16,6 @@ import { AMPLITUDE_KEY, FREQUENCY_KEY } from '../scenario/keypath';
 import type { RefinePoint, RefineSettings } from './refine';
 import { interpolateMetric, planRefinement } from './refine';
 
-export { interpolateMetric };
-
 /** Metrics of map.json and where each comes from in a point's summary. */
 export const MAP_METRICS = {
   enhancement: (r: PointRecord) => r.summary.driven?.enhancement,

@@ -43,7 +43,7 @@ export interface RefinePoint {
 }
 
 export type { RefineMetric, RefineSettings } from '../results/sweep-header';
-import type { RefineSettings } from '../results/sweep-header';
+import type { RefineMetric, RefineSettings } from '../results/sweep-header';
 
 /** Default coarse step: 4 grid steps (a 32-point axis starts from 9 points, a 16-point one from 5). */
 export const DEFAULT_COARSE_STEP = 4;
@@ -163,24 +163,35 @@ export function cornersAgree(points: readonly RefinePoint[], settings: RefineSet
     const lo = Math.min(...finite);
     const hi = Math.max(...finite);
     const scale = Math.max(m.floor, ...finite.map(Math.abs));
-    let allowed = settings.margin * scale;
-    if (m.powerLike) {
-      let noise = 0;
-      let stated = true;
-      points.forEach((p, i) => {
-        if (p.rel_stderr === null || !Number.isFinite(p.rel_stderr)) stated = false;
-        else noise = Math.max(noise, p.rel_stderr * Math.abs(vals[i] as number));
-      });
-      if (stated) allowed = Math.max(allowed, settings.noise_factor * noise);
-    } else {
-      // a ripple or hop count with its own stated error: the same rule on that error
-      const errs = points.map((p) => p.stderr?.[m.name] ?? null);
-      if (errs.every((e) => e !== null && Number.isFinite(e)))
-        allowed = Math.max(allowed, settings.noise_factor * Math.max(...(errs as number[])));
-    }
+    const noise = statedNoise(points, finite, m);
+    const allowed = Math.max(settings.margin * scale, noise === null ? 0 : settings.noise_factor * noise);
     if (hi - lo > allowed) return false;
   }
   return true;
+}
+
+/**
+ * The largest standard error the points state for metric `m` (their values `values`, in
+ * order), or null when one of them states none: for a power-like metric rel_stderr x
+ * |value|, for the others (ripple, hops) their own stated error, RefinePoint.stderr.
+ */
+function statedNoise(
+  points: readonly RefinePoint[],
+  values: readonly number[],
+  m: RefineMetric,
+): number | null {
+  let noise = 0;
+  for (let i = 0; i < points.length; i++) {
+    const p = points[i];
+    const e = m.powerLike
+      ? p.rel_stderr === null
+        ? null
+        : p.rel_stderr * Math.abs(values[i])
+      : (p.stderr?.[m.name] ?? null);
+    if (e === null || !Number.isFinite(e)) return null;
+    noise = Math.max(noise, e);
+  }
+  return noise;
 }
 
 /** True when the points share one class that is not 'numerical-failure' (a failure says nothing of its neighbours). */
@@ -212,18 +223,11 @@ export function centreAgrees(
     const guess = interpolateMetric(vals, weights);
     if (guess === null) return false;
     const v = c as number;
-    let allowed = settings.margin * Math.max(m.floor, Math.abs(v), Math.abs(guess));
-    const all = [...corners, centre];
-    const errs = all.map((p, i) => {
-      if (m.powerLike)
-        return p.rel_stderr === null || !Number.isFinite(p.rel_stderr)
-          ? null
-          : p.rel_stderr * Math.abs(i < vals.length ? (vals[i] as number) : v);
-      const e = p.stderr?.[m.name] ?? null;
-      return e !== null && Number.isFinite(e) ? e : null;
-    });
-    if (errs.every((e) => e !== null))
-      allowed = Math.max(allowed, settings.noise_factor * Math.max(...(errs as number[])));
+    const noise = statedNoise([...corners, centre], known, m);
+    const allowed = Math.max(
+      settings.margin * Math.max(m.floor, Math.abs(v), Math.abs(guess)),
+      noise === null ? 0 : settings.noise_factor * noise,
+    );
     if (Math.abs(v - guess) > allowed) return false;
   }
   return true;
